@@ -1,0 +1,410 @@
+"""The full analysis of a batch of readings: one reading or a million, same code.
+
+Input is a mapping of reading field name -> 1-D float array (NaN where the
+field was not entered), plus per-reading system codes and voltage-standard
+codes.  Output is an :class:`Analysis`: a mapping of result name -> array
+(NaN where the input cannot give the quantity) and the findings as masks.
+
+Which voltages feed which result (see :mod:`fieldpad.core` for conventions):
+
+* ``wye`` (3-phase 4-wire): sequence components of the line-to-neutral
+  phasors when the three angles are entered; otherwise from line-to-line
+  phasors or, failing that, line-to-line magnitudes (then V0 is unknown).
+* ``delta`` (3-phase 3-wire, measured line-to-line) and ``high-leg-delta``:
+  sequence components of the line-to-line set, reported as
+  line-to-neutral-equivalent (30-degree shift, V0 unknown).  For the high-leg
+  delta the line-to-neutral readings (to the centre tap) give the high leg,
+  the per-phase power and the neutral.
+* ``split-phase`` (120/240 V): legs A and B only; no sequence components or
+  rotation; leg unbalance, neutral and power.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import motor, nominal, rotation as rot
+from .neutral import neutral_estimate_3ph, neutral_estimate_split
+from .phasors import SQRT3, polar
+from .power import complex_power, power_factor, two_wattmeter_power
+from .sequence import ln_equivalent_from_ll, sequence_components_cols
+from .thresholds import Thresholds
+from .unbalance import max_deviation_pct_cols, sequence_magnitudes_from_ll, vuf_from_ll_magnitudes
+
+WYE, DELTA, HIGH_LEG, SPLIT = 0, 1, 2, 3
+CNAN = complex(np.nan, np.nan)
+SYSTEMS = {"wye": WYE, "delta": DELTA, "high-leg-delta": HIGH_LEG, "split-phase": SPLIT}
+SYSTEM_NAMES = {v: k for k, v in SYSTEMS.items()}
+STANDARDS = {nominal.ANSI: 0, nominal.IEC: 1}
+
+V_LN = ("va", "vb", "vc")
+V_LL = ("vab", "vbc", "vca")
+I_PH = ("ia", "ib", "ic")
+#: Every numeric reading field.
+NUMERIC_FIELDS = (
+    ("nominal_v",)
+    + V_LN + tuple(f + "_deg" for f in V_LN)
+    + V_LL + tuple(f + "_deg" for f in V_LL)
+    + I_PH + tuple(f + "_deg" for f in I_PH)
+    + ("i_n",)
+)
+
+#: Basis of the voltage sequence results.
+BASIS_NONE, BASIS_LN, BASIS_LL, BASIS_MAG = 0, 1, 2, 3
+BASIS_NAMES = {
+    BASIS_NONE: None,
+    BASIS_LN: "line-to-neutral phasors",
+    BASIS_LL: "line-to-line phasors (line-to-neutral equivalent)",
+    BASIS_MAG: "line-to-line magnitudes only (line-to-neutral equivalent)",
+}
+
+
+@dataclass
+class Analysis:
+    """Results of :func:`analyze`.
+
+    ``values`` maps result name -> array of length N.  ``findings`` is a list
+    of ``(code, severity, mask, value, threshold, unit, phase)`` where mask,
+    value and phase (index 0..2 or -1) are arrays of length N.
+    """
+
+    n: int
+    values: dict = field(default_factory=dict)
+    findings: list = field(default_factory=list)
+
+    def __getitem__(self, key):
+        return self.values[key]
+
+
+def _fin(*arrays):
+    out = np.isfinite(arrays[0])
+    for a in arrays[1:]:
+        out &= np.isfinite(a)
+    return out
+
+
+
+
+
+def _angle(z, mag, scale):
+    """Angle in degrees in (-180, 180] (np.angle's range), NaN where the phasor
+    is zero to within 1e-9 of ``scale``."""
+    a = np.angle(z)
+    np.multiply(a, 180.0 / np.pi, out=a)
+    a[~(mag > 1e-9 * scale)] = np.nan
+    return a
+
+
+def _max3(a, b, c):
+    return np.fmax(np.fmax(a, b), c)
+
+
+def _min3(a, b, c):
+    return np.fmin(np.fmin(a, b), c)
+
+
+def _pick(mask, a, b):
+    """np.where that skips the copy when the whole batch takes one side."""
+    if mask.all():
+        return a
+    if not mask.any():
+        return np.broadcast_to(b, np.shape(a)) if np.ndim(b) == 0 else b
+    return np.where(mask, a, b)
+
+
+#: Readings analysed per block: small enough that a block's arrays stay in the
+#: processor's cache, large enough that numpy's per-call overhead is amortised.
+BLOCK = 16_384
+
+
+def analyze(cols, system, standard=None, thresholds: Thresholds | None = None) -> Analysis:
+    """Analyse N readings (see :func:`analyze_block`), in cache-sized blocks."""
+    system = np.asarray(system, dtype=np.int8)
+    n = system.shape[0]
+    if n <= 2 * BLOCK:
+        return analyze_block(cols, system, standard, thresholds)
+    cols = {k: np.asarray(v, dtype=float) for k, v in cols.items()}
+    std = None if standard is None else np.asarray(standard, np.int8)
+    values: dict = {}
+    findings: list = []
+    for lo in range(0, n, BLOCK):
+        hi = min(n, lo + BLOCK)
+        part = analyze_block({k: v[lo:hi] for k, v in cols.items()}, system[lo:hi],
+                             None if std is None else std[lo:hi], thresholds)
+        if not values:
+            values = {k: np.empty(n, np.asarray(v).dtype) for k, v in part.values.items()}
+            findings = [(code, sev, np.empty(n, bool), np.empty(n), np.empty(n), unit, np.empty(n, np.int8))
+                        for code, sev, _m, _v, _t, unit, _p in part.findings]
+        for k, v in part.values.items():
+            values[k][lo:hi] = v
+        for dst, src in zip(findings, part.findings):
+            for k in (2, 3, 4, 6):
+                dst[k][lo:hi] = src[k]
+    return Analysis(n=n, values=values, findings=findings)
+
+
+def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = None) -> Analysis:
+    """Analyse N readings.
+
+    Parameters
+    ----------
+    cols : mapping of str -> array_like, each shape (N,)
+        Reading fields (see ``NUMERIC_FIELDS``): magnitudes in V or A,
+        angles in degrees; NaN where not entered.
+    system : array_like of int, shape (N,)
+        System code per reading (``SYSTEMS``).
+    standard : array_like of int, shape (N,), optional
+        0 = ANSI C84.1, 1 = IEC 60038 per reading (default ANSI).
+    thresholds : Thresholds, optional
+
+    Returns
+    -------
+    Analysis
+
+    Notes
+    -----
+    Each phase is kept as its own 1-D array (structure of arrays): numpy is
+    much faster on long 1-D arrays than on reductions over a short last axis.
+    """
+    th = thresholds or Thresholds()
+    system = np.asarray(system, dtype=np.int8)
+    n = system.shape[0]
+    nan = np.full(n, np.nan)
+    col = {k: np.asarray(cols[k], dtype=float) if k in cols else nan for k in NUMERIC_FIELDS}
+    standard = np.zeros(n, np.int8) if standard is None else np.asarray(standard, np.int8)
+    split = system == SPLIT
+    is3 = ~split
+    wye = system == WYE
+    delta = system == DELTA
+    four_wire = ~delta
+
+    ma, mb, mc = col["va"], col["vb"], col["vc"]
+    da, db, dc = col["va_deg"], col["vb_deg"], col["vc_deg"]
+    # A meter that shows angles relative to VA often shows no angle for VA itself.
+    ref_missing = np.isfinite(ma) & np.isnan(da) & np.isfinite(db)
+    if ref_missing.any():
+        da = np.where(ref_missing, 0.0, da)
+    # Split-phase uses legs A and B only: phase C is taken as absent.
+    if split.any():
+        mc = np.where(split, np.nan, mc)
+        dc = np.where(split, np.nan, dc)
+    n_ph = np.where(split, 2, 3)
+    has_ln = np.isfinite(ma) & np.isfinite(mb) & (np.isfinite(mc) | split)
+    has_ln_ang = has_ln & np.isfinite(da) & np.isfinite(db) & (np.isfinite(dc) | split)
+    Va, Vb, Vc = polar(ma, da), polar(mb, db), polar(mc, dc)
+
+    ia_m, ib_m, ic_m = col["ia"], col["ib"], col["ic"]
+    if split.any():
+        ic_m = np.where(split, np.nan, ic_m)
+    has_i = np.isfinite(ia_m) & np.isfinite(ib_m) & (np.isfinite(ic_m) | split)
+    has_i_ang = has_i & _fin(col["ia_deg"], col["ib_deg"]) & (np.isfinite(col["ic_deg"]) | split)
+    Ia, Ib = polar(ia_m, col["ia_deg"]), polar(ib_m, col["ib_deg"])
+    Ic = polar(ic_m, col["ic_deg"])
+
+    # Line-to-line phasors: measured (with angles) or derived from line-to-neutral phasors.
+    lab, lbc, lca = col["vab"], col["vbc"], col["vca"]
+    ll_given_ang = _fin(lab, lbc, lca, col["vab_deg"], col["vbc_deg"], col["vca_deg"]) & is3
+    ll_from_ln = has_ln_ang & is3 & ~ll_given_ang
+    Vab, Vbc, Vca = Va - Vb, Vb - Vc, Vc - Va
+    if ll_given_ang.any():
+        Vab = np.where(ll_given_ang, polar(lab, col["vab_deg"]), Vab)
+        Vbc = np.where(ll_given_ang, polar(lbc, col["vbc_deg"]), Vbc)
+        Vca = np.where(ll_given_ang, polar(lca, col["vca_deg"]), Vca)
+    has_ll_ph = ll_given_ang | ll_from_ln
+    # Line-to-line magnitudes: measured where entered, else from the phasors.
+    uab = np.where(np.isfinite(lab), lab, np.abs(Vab))
+    ubc = np.where(np.isfinite(lbc), lbc, np.abs(Vbc))
+    uca = np.where(np.isfinite(lca), lca, np.abs(Vca))
+    has_ll_mag = _fin(uab, ubc, uca) & is3
+
+    # ---- voltage sequence components -----------------------------------
+    use_ln = wye & has_ln_ang
+    use_ll = is3 & ~use_ln & has_ll_ph
+    use_mag = is3 & ~use_ln & ~use_ll & has_ll_mag
+    basis = np.select([use_ln, use_ll, use_mag], [BASIS_LN, BASIS_LL, BASIS_MAG], BASIS_NONE).astype(np.int8)
+
+    x0, x1, x2 = sequence_components_cols(Va, Vb, Vc)  # line-to-neutral set
+    if use_ll.any():
+        l0, l1, l2 = sequence_components_cols(Vab, Vbc, Vca)
+        e = ln_equivalent_from_ll(np.stack([l0, l1, l2], axis=-1)[use_ll])
+        x0 = np.where(use_ll, np.nan, x0)
+        x1 = x1.copy(); x1[use_ll] = e[:, 1]
+        x2 = x2.copy(); x2[use_ll] = e[:, 2]
+        r1 = np.where(use_ll, np.abs(l1), np.nan)  # the line-to-line set decides rotation
+        r2 = np.where(use_ll, np.abs(l2), np.nan)
+    else:
+        r1 = r2 = None
+    v_ok = use_ln | use_ll
+    x0 = _pick(v_ok, x0, CNAN)
+    x1 = _pick(v_ok, x1, CNAN)
+    x2 = _pick(v_ok, x2, CNAN)
+    v0a, v1a, v2a = np.abs(x0), np.abs(x1), np.abs(x2)
+    vscale = _max3(v0a, v1a, v2a)
+    vmax12 = np.fmax(v1a, v2a)
+    vuf_pct = _ratio(np.fmin(v1a, v2a), vmax12)
+    v0uf_pct = _ratio(v0a, vmax12)
+    v0_deg, v1_deg, v2_deg = _angle(x0, v0a, vscale), _angle(x1, v1a, vscale), _angle(x2, v2a, vscale)
+    if use_mag.any():
+        v1m, v2m = sequence_magnitudes_from_ll(uab, ubc, uca)
+        v1a = np.where(use_mag, v1m / SQRT3, v1a)
+        v2a = np.where(use_mag, v2m / SQRT3, v2a)
+        vuf_pct = np.where(use_mag, vuf_from_ll_magnitudes(uab, ubc, uca), vuf_pct)
+
+    # ---- lowest phase over highest: lost phase, and the rotation rule ------
+    lo_ln, hi_ln = _min3(ma, mb, np.where(split, np.nan, mc)), _max3(ma, mb, np.where(split, np.nan, mc))
+    lo_ll, hi_ll = _min3(uab, ubc, uca), _max3(uab, ubc, uca)
+    ln_based = (wye | split) & has_ln
+    lo = np.where(ln_based, lo_ln, lo_ll)
+    hi = np.where(ln_based, hi_ln, hi_ll)
+    low_rel = np.where(hi > 0, lo / np.where(hi > 0, hi, 1.0), np.nan)
+    lost = low_rel < th.collapse_ratio
+    low_ix = np.where(ma == lo_ln, 0, np.where(mb == lo_ln, 1, 2))
+    if not ln_based.all():
+        # Measured line-to-line: the lost phase is the one opposite the highest
+        # line-to-line voltage (C lost leaves Vab whole, Vbc and Vca low).
+        hi_ll_ix = np.where(uab == hi_ll, 0, np.where(ubc == hi_ll, 1, 2))
+        low_ix = np.where(ln_based, low_ix, (hi_ll_ix + 2) % 3)
+
+    # ---- rotation --------------------------------------------------------
+    rot_1 = v1a if r1 is None else np.where(use_ll, r1, v1a)
+    rot_2 = v2a if r2 is None else np.where(use_ll, r2, v2a)
+    rcode, rreason = rot.rotation_from(rot_1, rot_2, np.nan_to_num(low_rel, nan=0.0), v_ok,
+                                       th.collapse_ratio, th.dominance)
+    if split.any():
+        rreason = np.where(split, rot.REASON_NOT_3PH, rreason).astype(np.int8)
+        rcode = np.where(split, rot.UNKNOWN, rcode).astype(np.int8)
+
+    # ---- unbalance by each definition ----------------------------------
+    lvur = _pick(has_ll_mag, max_deviation_pct_cols(uab, ubc, uca), np.nan)
+    pvur = max_deviation_pct_cols(ma, mb, mc)
+    if split.any():
+        pvur = np.where(split, max_deviation_pct_cols(ma, mb), pvur)
+    pvur = _pick(has_ln & (wye | split), pvur, np.nan)
+
+    # ---- currents --------------------------------------------------------
+    i3a = has_i_ang & is3
+    y0, y1, y2 = sequence_components_cols(Ia, Ib, Ic)
+    y0, y1, y2 = _pick(i3a, y0, CNAN), _pick(i3a, y1, CNAN), _pick(i3a, y2, CNAN)
+    i0a, i1a, i2a = np.abs(y0), np.abs(y1), np.abs(y2)
+    iscale = _max3(i0a, i1a, i2a)
+    i0_deg, i1_deg, i2_deg = _angle(y0, i0a, iscale), _angle(y1, i1a, iscale), _angle(y2, i2a, iscale)
+    iuf_pct = _ratio(np.fmin(i1a, i2a), np.fmax(i1a, i2a))
+    iur = max_deviation_pct_cols(ia_m, ib_m, ic_m)
+    if split.any():
+        iur = np.where(split, max_deviation_pct_cols(ia_m, ib_m), iur)
+    iur = _pick(has_i, iur, np.nan)
+
+    i_sum = Ia + Ib + np.where(split, 0.0, Ic) if split.any() else Ia + Ib + Ic
+    i_sum = _pick(has_i_ang & four_wire, i_sum, CNAN)
+    i_n_calc = np.abs(i_sum)
+    i_max = _max3(ia_m, ib_m, ic_m)
+    i_n_calc_deg = _angle(i_sum, i_n_calc, i_max)
+    i_n_est = neutral_estimate_3ph(ia_m, ib_m, ic_m)
+    if split.any():
+        i_n_est = np.where(split, neutral_estimate_split(ia_m, ib_m), i_n_est)
+    i_n_est = _pick(has_i & four_wire, i_n_est, np.nan)
+    i_max = _pick(has_i, i_max, np.nan)
+    i_n_meas = col["i_n"]
+    i_n_best = np.where(np.isfinite(i_n_meas), i_n_meas, np.where(np.isfinite(i_n_calc), i_n_calc, i_n_est))
+    i_n_ratio = _ratio(i_n_best, i_max) / 100.0
+    i_n_diff = i_n_meas - i_n_calc
+
+    # ---- power -----------------------------------------------------------
+    per_phase = has_ln_ang & has_i_ang & four_wire
+    Sa, Sb, Sc = complex_power(Va, Ia), complex_power(Vb, Ib), complex_power(Vc, Ic)
+    Sa, Sb, Sc = _pick(per_phase, Sa, CNAN), _pick(per_phase, Sb, CNAN), _pick(per_phase & is3, Sc, CNAN)
+    s_tot = Sa + Sb + (np.where(split, 0.0, Sc) if split.any() else Sc)
+    delta_pw = delta & has_ll_ph & has_i_ang
+    if delta_pw.any():
+        s_tot = np.where(delta_pw, two_wattmeter_power(Vab, Vbc, Ia, Ic), s_tot)
+    p_w, q_var = s_tot.real, s_tot.imag
+    s_vector = np.abs(s_tot)
+    s_arith = ma * ia_m + mb * ib_m + (np.where(split, 0.0, mc * ic_m) if split.any() else mc * ic_m)
+    s_arith = _pick(has_ln & has_i & four_wire, s_arith, np.nan)
+    s_va = _pick(delta, s_vector, s_arith)
+    pf = power_factor(p_w, s_va)
+    pa, pb, pc = Sa.real, Sb.real, Sc.real
+    pf_a, pf_b, pf_c = power_factor(pa, np.abs(Sa)), power_factor(pb, np.abs(Sb)), power_factor(pc, np.abs(Sc))
+
+    # ---- motors, voltage against nominal, high leg --------------------
+    derate = _pick(is3, motor.derating_factor(lvur), np.nan)
+    temp_rise = _pick(is3, motor.temperature_rise_pct(lvur), np.nan)
+
+    # Compare line-to-neutral voltages for wye (nominal / √3) and split-phase
+    # (nominal / 2), line-to-line voltages for delta and high-leg delta.
+    v_nom = col["nominal_v"]
+    cmp_nom = np.where(ln_based, np.where(split, v_nom / 2.0, v_nom / SQRT3), v_nom)
+    c1, c2, c3 = (np.where(ln_based, x, y) for x, y in ((ma, uab), (mb, ubc), (mc, uca)))
+    d1, d2, d3 = (nominal.deviation_pct(c, cmp_nom) for c in (c1, c2, c3))
+    ad1, ad2, ad3 = (np.nan_to_num(np.abs(d), nan=-1.0) for d in (d1, d2, d3))
+    worst_ph = np.where((ad1 >= ad2) & (ad1 >= ad3), 0, np.where(ad2 >= ad3, 1, 2))
+    dev_worst = np.where(worst_ph == 0, d1, np.where(worst_ph == 1, d2, d3))
+    iec = standard == 1
+    vstat_worst = np.maximum(np.maximum(nominal.status(c1, cmp_nom, nominal.ANSI),
+                                        nominal.status(c2, cmp_nom, nominal.ANSI)),
+                             nominal.status(c3, cmp_nom, nominal.ANSI))
+    if iec.any():
+        st_iec = np.maximum(np.maximum(nominal.status(c1, cmp_nom, nominal.IEC),
+                                       nominal.status(c2, cmp_nom, nominal.IEC)),
+                            nominal.status(c3, cmp_nom, nominal.IEC))
+        vstat_worst = np.where(iec, st_iec, vstat_worst)
+
+    hl = (system == HIGH_LEG) & has_ln
+    high_leg_ix = np.where(hl, np.where((ma >= mb) & (ma >= mc), 0, np.where(mb >= mc, 1, 2)), -1)
+
+    # Current sequence against voltage sequence: a lead on the wrong phase.
+    i_rot = np.where(i1a >= th.dominance * i2a, rot.ABC, np.where(i2a >= th.dominance * i1a, rot.ACB, rot.UNKNOWN))
+    i_rot = np.where(i3a, i_rot, rot.UNKNOWN)
+
+    values = {
+        "v0": v0a, "v1": v1a, "v2": v2a, "v0_deg": v0_deg, "v1_deg": v1_deg, "v2_deg": v2_deg,
+        "vuf_pct": vuf_pct, "v0uf_pct": v0uf_pct, "lvur_pct": lvur, "pvur_pct": pvur,
+        "rotation": rcode, "rotation_reason": rreason, "basis": basis,
+        "i0": i0a, "i1": i1a, "i2": i2a, "i0_deg": i0_deg, "i1_deg": i1_deg, "i2_deg": i2_deg,
+        "iuf_pct": iuf_pct, "iur_pct": iur,
+        "i_n_calc": i_n_calc, "i_n_calc_deg": i_n_calc_deg, "i_n_est": i_n_est, "i_n_diff": i_n_diff,
+        "p_w": p_w, "q_var": q_var, "s_va": s_va, "s_vector_va": s_vector, "pf": pf,
+        "p_a_w": pa, "p_b_w": pb, "p_c_w": pc, "q_a_var": Sa.imag, "q_b_var": Sb.imag, "q_c_var": Sc.imag,
+        "pf_a": pf_a, "pf_b": pf_b, "pf_c": pf_c,
+        "derating": derate, "temp_rise_pct": temp_rise,
+        "v_dev_max_pct": dev_worst, "voltage_status": vstat_worst, "high_leg": high_leg_ix,
+        "vab": uab, "vbc": ubc, "vca": uca,
+    }
+
+    F = []  # (code, severity, mask, value, threshold, unit, phase)
+    ph_none = np.full(n, -1, np.int8)
+    F.append(("PHASE_LOST", "alarm", lost, 100.0 * low_rel, 100.0 * th.collapse_ratio, "% of highest", low_ix))
+    F.append(("ROTATION_REVERSED", "alarm", rcode == rot.ACB, nan, nan, "", ph_none))
+    F.append(("ROTATION_UNKNOWN", "info", is3 & (rcode == rot.UNKNOWN) & ~lost, nan, nan, "", ph_none))
+    F.append(("VOLTAGE_OUT_OF_RANGE", "alarm", vstat_worst == 2, dev_worst, nan, "% of nominal", worst_ph))
+    F.append(("VOLTAGE_RANGE_B", "warning", (vstat_worst == 1) & ~iec, dev_worst, nan, "% of nominal", worst_ph))
+    F.append(("VUF_HIGH", "warning", vuf_pct > th.vuf_pct, vuf_pct, th.vuf_pct, "%", ph_none))
+    F.append(("LVUR_EXCESSIVE", "alarm", lvur > th.lvur_max_pct, lvur, th.lvur_max_pct, "%", ph_none))
+    F.append(("LVUR_DERATE", "warning", (lvur > th.lvur_pct) & ~(lvur > th.lvur_max_pct), lvur,
+              th.lvur_pct, "%", ph_none))
+    F.append(("CURRENT_UNBALANCE", "warning", iur > th.iur_pct, iur, th.iur_pct, "%", ph_none))
+    F.append(("NEUTRAL_OVERLOAD", "alarm", i_n_ratio > th.neutral_overload_ratio, i_n_best,
+              th.neutral_overload_ratio * i_max, "A", ph_none))
+    F.append(("NEUTRAL_HIGH", "warning", (i_n_ratio > th.neutral_ratio) & ~(i_n_ratio > th.neutral_overload_ratio),
+              i_n_best, th.neutral_ratio * i_max, "A", ph_none))
+    big = np.fmax(i_n_meas, i_n_calc)
+    mismatch = np.abs(i_n_diff) > th.neutral_mismatch_ratio * np.where(big > 0, big, np.nan)
+    F.append(("NEUTRAL_MISMATCH", "info", mismatch & (np.abs(i_n_diff) >= 1.0), i_n_diff, nan, "A", ph_none))
+    # A CT or current lead reversed: one phase's real power negative while the others are positive.
+    n_neg = (pa < 0).astype(np.int8) + (pb < 0) + (pc < 0)
+    n_pos = (pa > 0).astype(np.int8) + (pb > 0) + (pc > 0)
+    one_rev = per_phase & (n_neg == 1) & (n_pos == n_ph - 1)
+    rev_ix = np.where(pa < 0, 0, np.where(pb < 0, 1, 2))
+    rev_pf = np.where(rev_ix == 0, pf_a, np.where(rev_ix == 1, pf_b, pf_c))
+    F.append(("CT_REVERSED", "alarm", one_rev, rev_pf, nan, "PF", rev_ix))
+    wrong_i_seq = (rcode != rot.UNKNOWN) & (i_rot != rot.UNKNOWN) & (i_rot != rcode)
+    F.append(("CURRENT_SEQUENCE", "warning", wrong_i_seq & ~one_rev, iuf_pct, nan, "%", ph_none))
+    F.append(("HIGH_LEG_POSITION", "warning", (high_leg_ix >= 0) & (high_leg_ix != 1), nan, nan, "", high_leg_ix))
+    F.append(("MAGNITUDE_ONLY", "info", use_mag, nan, nan, "", ph_none))
+    return Analysis(n=n, values=values, findings=F)
+
+
+def _ratio(num, den):
+    """100·num/den; NaN where den is not positive (no warning)."""
+    return np.where(den > 0, 100.0 * num / np.where(den > 0, den, 1.0), np.nan)

@@ -1,0 +1,77 @@
+"""Result records: the analysis of each reading as a plain dict, in the order
+``fieldpad compute`` writes them (public contract for the first fields).
+
+Values are rounded to 4 decimals; a quantity the input cannot give is None.
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from .analysis import BASIS_NAMES, Analysis
+from .findings import findings_lists
+from .rotation import REASON_TEXT, ROTATION_NAMES
+
+#: Output fields in order.  The first block is the public contract of
+#: ``fieldpad compute``; the rest are additions.
+RESULT_FIELDS = (
+    "v0", "v1", "v2", "v0_deg", "v1_deg", "v2_deg",
+    "vuf_pct", "v0uf_pct", "lvur_pct", "pvur_pct", "rotation",
+    "i0", "i1", "i2", "i0_deg", "i1_deg", "i2_deg", "iuf_pct",
+    "i_n_calc", "i_n_calc_deg", "i_n_est",
+    "p_w", "q_var", "s_va", "pf", "derating",
+    # additions
+    "iur_pct", "i_n_diff", "s_vector_va",
+    "p_a_w", "p_b_w", "p_c_w", "q_a_var", "q_b_var", "q_c_var", "pf_a", "pf_b", "pf_c",
+    "temp_rise_pct", "v_dev_max_pct", "high_leg", "rotation_note", "basis",
+    "findings",
+)
+_FLOAT_FIELDS = tuple(f for f in RESULT_FIELDS if f not in
+                      ("rotation", "high_leg", "rotation_note", "basis", "findings"))
+VOLTAGE_STATUS = {-1: None, 0: "within", 1: "range B", 2: "out of range"}
+
+
+def _clean(x: float):
+    return None if math.isnan(x) or math.isinf(x) else round(x, 4)
+
+
+def to_records(result: Analysis, labels=("A", "B", "C"), standards=None) -> list[dict]:
+    """One dict per reading, fields in :data:`RESULT_FIELDS` order."""
+    v = result.values
+    cols = {f: np.asarray(v[f], dtype=float).tolist() for f in _FLOAT_FIELDS}
+    rot = v["rotation"].tolist()
+    reason = v["rotation_reason"].tolist()
+    basis = v["basis"].tolist()
+    high = v["high_leg"].tolist()
+    found = findings_lists(result, labels, standards)
+    three_phase = np.asarray(v["rotation_reason"]) != 4  # REASON_NOT_3PH
+    out = []
+    for i in range(result.n):
+        rec = {}
+        for f in RESULT_FIELDS:
+            if f == "rotation":
+                rec[f] = ROTATION_NAMES[rot[i]] if three_phase[i] else None
+            elif f == "rotation_note":
+                rec[f] = REASON_TEXT[reason[i]] or None
+            elif f == "basis":
+                rec[f] = BASIS_NAMES[basis[i]]
+            elif f == "high_leg":
+                rec[f] = labels[high[i]] if high[i] >= 0 else None
+            elif f == "findings":
+                rec[f] = found[i]
+            else:
+                rec[f] = _clean(cols[f][i])
+        out.append(rec)
+    return out
+
+
+def analyze_records(clean_records: list[dict], thresholds=None, labels=("A", "B", "C")) -> list[dict]:
+    """Validated records (see :func:`fieldpad.core.readings.validate_record`) -> result dicts."""
+    from .analysis import analyze
+    from .readings import records_to_columns
+
+    if not clean_records:
+        return []
+    cols, system, standard = records_to_columns(clean_records)
+    return to_records(analyze(cols, system, standard, thresholds), labels, standard)

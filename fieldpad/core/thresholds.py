@@ -1,0 +1,61 @@
+"""Default thresholds for findings, each with the source it comes from.
+
+A site can override any of them (the database stores the overrides); the
+defaults below are what fieldpad uses when nothing is set.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, fields, replace
+
+
+@dataclass(frozen=True)
+class Thresholds:
+    """Finding thresholds.  Percentages are percent; ratios are plain numbers."""
+
+    #: Negative-sequence unbalance above which a warning is raised (%).
+    vuf_pct: float = 2.0
+    #: NEMA line-voltage unbalance above which motors need derating (%).
+    lvur_pct: float = 1.0
+    #: NEMA line-voltage unbalance above which motor operation is not recommended (%).
+    lvur_max_pct: float = 5.0
+    #: Current unbalance (max deviation from average) that calls for a look (%).
+    iur_pct: float = 10.0
+    #: Neutral current over the highest phase current that calls for a look.
+    neutral_ratio: float = 0.8
+    #: Neutral current over the highest phase current that suggests overload.
+    neutral_overload_ratio: float = 1.0
+    #: Relative difference between measured and computed neutral worth a note.
+    neutral_mismatch_ratio: float = 0.2
+    #: A phase below this fraction of the largest one is taken as lost.
+    collapse_ratio: float = 0.5
+    #: One sequence must be this many times the other to call the rotation.
+    dominance: float = 2.0
+
+    def with_overrides(self, overrides: dict | None) -> "Thresholds":
+        """A copy with the given fields replaced; unknown names raise ``KeyError``."""
+        if not overrides:
+            return self
+        known = {f.name for f in fields(self)}
+        unknown = set(overrides) - known
+        if unknown:
+            raise KeyError(f"unknown threshold(s): {', '.join(sorted(unknown))}")
+        return replace(self, **{k: float(v) for k, v in overrides.items()})
+
+
+#: Where each default comes from (shown beside every finding).
+SOURCES = {
+    "vuf_pct": "EN 50160:2010 clause 4.2.5 (LV supply: 10-min negative-sequence unbalance within 0-2 %)",
+    "lvur_pct": "NEMA MG 1 Part 14.36 (motor derating above 1 % line-voltage unbalance)",
+    "lvur_max_pct": "NEMA MG 1 Part 14.36 (operation above 5 % unbalance not recommended)",
+    "iur_pct": "common practice (current unbalance is typically 6-10 times the voltage unbalance)",
+    "neutral_ratio": "common practice",
+    "neutral_overload_ratio": "common practice (a neutral sized like the phases carries no more than the highest phase)",
+    "neutral_mismatch_ratio": "common practice",
+    "collapse_ratio": "common practice",
+    "dominance": "common practice",
+    "voltage_ansi": "ANSI C84.1-2020 Table 1 (Range A 95-105 %, Range B 91.7-105.8 % of nominal, service voltage)",
+    "voltage_iec": "IEC 60038:2009 clause 4 (nominal ±10 %)",
+    "rotation": "common practice (ABC = B lags A by 120°)",
+    "high_leg": "NFPA 70 (NEC) 110.15 and 408.3(E): high leg marked orange and on phase B (from memory; local code governs)",
+    "ct_reversed": "common practice",
+}
