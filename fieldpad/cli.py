@@ -54,28 +54,197 @@ def cmd_compute(args) -> int:
     return 0
 
 
+def _open(args):
+    from .storage.db import open_db
+
+    return open_db(args.db)
+
+
+def cmd_import(args) -> int:
+    from .records_io import InputError
+    from .storage.importer import import_bytes
+
+    try:
+        data = _read_input(args.file)
+    except OSError as e:
+        return _report_problems([f"{args.file}: {e.strerror}"])
+    db = _open(args)
+    progress = None
+    bar = None
+    if sys.stderr.isatty() and len(data) > 1_000_000:
+        from rich.progress import Progress
+
+        bar = Progress(transient=True)
+        bar.start()
+        task = bar.add_task("importing", total=None)
+
+        def progress(done, total):
+            bar.update(task, completed=done, total=total)
+    try:
+        report = import_bytes(db, data, progress)
+    except InputError as e:
+        return _report_problems([f"{args.file}: {e}"])
+    finally:
+        if bar:
+            bar.stop()
+    if report.problems:
+        _report_problems(report.problems)
+        print("nothing was imported", file=sys.stderr)
+        return 2
+    for name in report.sites_created:
+        print(f"created site: {name}")
+    for name in report.boards_created:
+        print(f"created board: {name}")
+    print(f"imported {report.readings} reading(s)")
+    return 0
+
+
+def cmd_export(args) -> int:
+    from .report.export import export_records, to_csv, to_json
+    from .report.files import atomic_write_text
+
+    if args.day:
+        import datetime as _dt
+
+        try:
+            _dt.date.fromisoformat(args.day)
+        except ValueError:
+            return _report_problems([f"--day: {args.day!r} is not a date (YYYY-MM-DD)"])
+    db = _open(args)
+    records = export_records(db, day=args.day, site=args.site)
+    if args.format == "csv":
+        text = to_csv(records)
+    elif args.format == "json":
+        text = to_json(records, day=args.day, site=args.site)
+    else:
+        from .report.html import to_html
+
+        text = to_html(db, records, day=args.day, site=args.site)
+    if args.output and args.output != "-":
+        atomic_write_text(args.output, text)
+        print(f"wrote {len(records)} reading(s) to {args.output}", file=sys.stderr)
+    else:
+        sys.stdout.write(text)
+    return 0
+
+
+def cmd_merge(args) -> int:
+    from .storage.merge import merge_file
+
+    db = _open(args)
+    for other in args.others:
+        rep = merge_file(db, other)
+        added = ", ".join(f"{n} {t}(s)" for t, n in rep.added.items())
+        print(f"{other}: added {added}")
+        for t, n in rep.updated.items():
+            if n:
+                print(f"{other}: updated {n} {t}(s) to the later edit")
+        for b in rep.same_name_boards:
+            print(f"warning: board {b} exists under different ids (two laptops created it); "
+                  "both are kept, check which is which", file=sys.stderr)
+        for s_ in rep.same_name_sites:
+            print(f"warning: site {s_} exists under different ids; both are kept", file=sys.stderr)
+    return 0
+
+
+def cmd_db(args) -> int:
+    from .storage import repo
+    from .storage.db import backup, resolve_path
+
+    if args.action == "check":
+        from .storage.db import check
+
+        db = _open(args)
+        problems = check(db)
+        if problems:
+            for p in problems:
+                print(f"problem: {p}")
+            return 1
+        print(f"{resolve_path(args.db)}: ok")
+        return 0
+    db = _open(args)
+    if args.action == "backup":
+        if not args.dest:
+            return _report_problems(["db backup: DEST is required"])
+        print(f"backup written to {backup(db, args.dest)}")
+        return 0
+    from .storage.db import schema_version_names
+
+    applied = [r["name"] for r in db.query("SELECT name FROM _sqlite_migrations ORDER BY rowid")]
+    print(f"database: {resolve_path(args.db)}")
+    print(f"schema: {applied[-1] if applied else 'none'} (this fieldpad knows up to {schema_version_names()[-1]})")
+    for k, v in repo.counts(db).items():
+        print(f"{k}: {v}")
+    return 0
+
+
+def cmd_app(args) -> int:
+    from .ui.app import run_app
+
+    return run_app(args.db, demo=False)
+
+
+def cmd_demo(args) -> int:
+    from .ui.app import run_app
+
+    return run_app(args.db, demo=True)
+
+
 def build_parser() -> argparse.ArgumentParser:
-    p = argparse.ArgumentParser(prog="fieldpad", description="Switchboard readings: entry, checks and records.")
+    p = argparse.ArgumentParser(prog="fieldpad", description="Switchboard readings: entry, checks and records. "
+                                "Run without a command to open the entry app.")
+    p.add_argument("--db", metavar="PATH", help="database file (default: $FIELDPAD_DB or the user data folder)")
+    p.set_defaults(func=cmd_app)
     sub = p.add_subparsers(dest="command")
+    db_opt = argparse.ArgumentParser(add_help=False)
+    db_opt.add_argument("--db", metavar="PATH", default=argparse.SUPPRESS,
+                        help="database file (default: $FIELDPAD_DB or the user data folder)")
+
     c = sub.add_parser("compute", help="analyse readings from a file or stdin; stores nothing")
     c.add_argument("file", nargs="?", default="-", metavar="FILE|-")
     c.add_argument("--format", choices=("json", "csv"), default="json")
     c.set_defaults(func=cmd_compute)
+
+    i = sub.add_parser("import", parents=[db_opt], help="import readings from CSV or JSON (all or nothing)")
+    i.add_argument("file", metavar="FILE")
+    i.set_defaults(func=cmd_import)
+
+    e = sub.add_parser("export", parents=[db_opt], help="current readings with results and findings")
+    e.add_argument("--day", metavar="YYYY-MM-DD", help="readings taken on this local day")
+    e.add_argument("--site", metavar="NAME")
+    e.add_argument("--format", choices=("csv", "json", "html"), required=True)
+    e.add_argument("-o", "--output", metavar="FILE", help="write to FILE (default: standard output)")
+    e.set_defaults(func=cmd_export)
+
+    m = sub.add_parser("merge", parents=[db_opt], help="bring in the records of other fieldpad databases")
+    m.add_argument("others", nargs="+", metavar="OTHER.db")
+    m.set_defaults(func=cmd_merge)
+
+    d = sub.add_parser("db", parents=[db_opt], help="database check, backup and info")
+    d.add_argument("action", choices=("check", "backup", "info"))
+    d.add_argument("dest", nargs="?", metavar="DEST")
+    d.set_defaults(func=cmd_db)
+
+    a = sub.add_parser("app", parents=[db_opt], help="open the entry app (the default)")
+    a.set_defaults(func=cmd_app)
+    dm = sub.add_parser("demo", parents=[db_opt],
+                        help="open the app on a fresh copy of the invented demo site (own file)")
+    dm.set_defaults(func=cmd_demo)
     return p
 
 
-class _Parser(argparse.ArgumentParser):
-    pass
-
-
 def main(argv=None) -> int:
+    from .storage.db import StorageError
+
     parser = build_parser()
     args = parser.parse_args(argv)
-    if args.command is None:
-        print("fieldpad: the entry app is not built yet; try 'fieldpad compute --help'", file=sys.stderr)
-        return 1
+    if not hasattr(args, "db"):
+        args.db = None
     try:
         return args.func(args)
+    except StorageError as e:
+        print(f"fieldpad: {e}", file=sys.stderr)
+        return 1
     except KeyboardInterrupt:
         return 130
     except BrokenPipeError:

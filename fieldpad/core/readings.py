@@ -176,7 +176,7 @@ def validate_record(record: dict, extra_fields=()) -> tuple[dict, list[tuple[str
             clean[name] = None
     for name in extra:
         v = record.get(name)
-        clean[name] = None if v is None else str(v).strip()
+        clean[name] = None if v is None or str(v).strip() == "" else str(v).strip()
 
     for f in V_LN + V_LL + I_PH:
         if clean[f + "_deg"] is not None and _empty(record.get(f)):
