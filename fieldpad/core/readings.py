@@ -50,6 +50,7 @@ READING_FIELDS = ("system",) + NUMERIC_FIELDS + ("standard",)
 #: Nominal voltages that are IEC-world values; any other nominal defaults to ANSI.
 IEC_NOMINALS = {220.0, 230.0, 380.0, 400.0, 415.0, 660.0, 690.0, 1000.0}
 
+_PLAIN = re.compile(r"\s*[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?\s*")
 _NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
 _SUFFIX = {
     VOLTS: {"": 1.0, "v": 1.0, "kv": 1000.0},
@@ -93,6 +94,8 @@ def parse_value(value, kind: str):
         raise ReadingError(f"{str(value).lower()} is not a number")
     if isinstance(value, (int, float)):
         x = float(value)
+    elif isinstance(value, str) and _PLAIN.fullmatch(value):
+        x = float(value)  # the common case: a plain decimal number
     elif isinstance(value, str):
         text = value.strip()
         if not text:
