@@ -384,17 +384,21 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     F.append(("LVUR_DERATE", "warning", (lvur > th.lvur_pct) & ~(lvur > th.lvur_max_pct), lvur,
               th.lvur_pct, "%", ph_none))
     F.append(("CURRENT_UNBALANCE", "warning", iur > th.iur_pct, iur, th.iur_pct, "%", ph_none))
+    # A CT or current lead reversed: one phase's real power negative while the others are positive.
+    n_neg = (pa < 0).astype(np.int8) + (pb < 0) + (pc < 0)
+    n_pos = (pa > 0).astype(np.int8) + (pb > 0) + (pc > 0)
+    one_rev = per_phase & (n_neg == 1) & (n_pos == n_ph - 1)
+    # With a reversed CT the phasor sum of the currents is wrong: judge the neutral only
+    # on a measured value then.
+    i_n_ratio = np.where(one_rev & ~np.isfinite(i_n_meas), np.nan, i_n_ratio)
     F.append(("NEUTRAL_OVERLOAD", "alarm", i_n_ratio > th.neutral_overload_ratio, i_n_best,
               th.neutral_overload_ratio * i_max, "A", ph_none))
     F.append(("NEUTRAL_HIGH", "warning", (i_n_ratio > th.neutral_ratio) & ~(i_n_ratio > th.neutral_overload_ratio),
               i_n_best, th.neutral_ratio * i_max, "A", ph_none))
     big = np.fmax(i_n_meas, i_n_calc)
     mismatch = np.abs(i_n_diff) > th.neutral_mismatch_ratio * np.where(big > 0, big, np.nan)
-    F.append(("NEUTRAL_MISMATCH", "info", mismatch & (np.abs(i_n_diff) >= 1.0), i_n_diff, nan, "A", ph_none))
-    # A CT or current lead reversed: one phase's real power negative while the others are positive.
-    n_neg = (pa < 0).astype(np.int8) + (pb < 0) + (pc < 0)
-    n_pos = (pa > 0).astype(np.int8) + (pb > 0) + (pc > 0)
-    one_rev = per_phase & (n_neg == 1) & (n_pos == n_ph - 1)
+    F.append(("NEUTRAL_MISMATCH", "info", mismatch & (np.abs(i_n_diff) >= 1.0) & ~one_rev, i_n_diff, nan, "A",
+              ph_none))
     rev_ix = np.where(pa < 0, 0, np.where(pb < 0, 1, 2))
     rev_pf = np.where(rev_ix == 0, pf_a, np.where(rev_ix == 1, pf_b, pf_c))
     F.append(("CT_REVERSED", "alarm", one_rev, rev_pf, nan, "PF", rev_ix))

@@ -228,7 +228,8 @@ class SavedReading:
 
 def _reading_row(inputs: dict, board: dict) -> tuple[dict, list]:
     """Validate typed inputs for a board; the row's value columns and problems."""
-    record = {k: v for k, v in inputs.items() if v is not None and str(v).strip() != ""}
+    typed = {k: v for k, v in inputs.items() if v is not None and str(v).strip() != ""}
+    record = dict(typed)
     record.setdefault("system", board["system"])
     if board.get("nominal_v") is not None:
         record.setdefault("nominal_v", board["nominal_v"])
@@ -237,7 +238,7 @@ def _reading_row(inputs: dict, board: dict) -> tuple[dict, list]:
     row = {k: clean[k] for k in NUMERIC_FIELDS}
     row["system"] = clean["system"]
     row["standard"] = clean["standard"]
-    row["inputs_json"] = json.dumps(record, ensure_ascii=False, sort_keys=True)
+    row["inputs_json"] = json.dumps(typed, ensure_ascii=False, sort_keys=True)
     return row, problems
 
 

@@ -1,0 +1,258 @@
+"""The board list (home screen), and the site and board forms."""
+from __future__ import annotations
+
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical, VerticalScroll
+from textual.screen import ModalScreen, Screen
+from textual.widgets import DataTable, Footer, Input, Label, Select, Static
+
+from ..storage import repo
+from ..storage.ids import local_text
+from .safe import markup_safe, printable
+
+SYSTEMS = [("3-phase 4-wire wye", "wye"), ("3-phase 3-wire delta (line-to-line only)", "delta"),
+           ("4-wire high-leg delta", "high-leg-delta"), ("120/240 V split-phase", "split-phase")]
+
+
+class BoardForm(ModalScreen[str | None]):
+    """Create or edit a board, with its arc-flash label data."""
+
+    BINDINGS = [Binding("f2", "save", "Save", priority=True), Binding("ctrl+s", "save", "Save", show=False,
+                                                                      priority=True),
+                Binding("escape", "cancel", "Cancel")]
+
+    FIELDS = [("name", "Name / tag *"), ("location", "Location"), ("kind", "Kind (switchboard, panelboard, MCC…)"),
+              ("nominal_v", "Nominal voltage, line-to-line (V)"), ("frequency_hz", "Frequency (Hz)"),
+              ("af_incident_energy_cal_cm2", "Arc-flash label: incident energy (cal/cm²)"),
+              ("af_working_distance_mm", "Label: working distance (mm)"),
+              ("af_boundary_mm", "Label: arc-flash boundary (mm)"),
+              ("af_ppe", "Label: PPE category, or 'none posted'"), ("af_label_date", "Label date (YYYY-MM-DD)")]
+
+    def __init__(self, site_id: str, board_id: str | None = None) -> None:
+        super().__init__()
+        self.site_id = site_id
+        self.board_id = board_id
+
+    def compose(self) -> ComposeResult:
+        board = repo.get_board(self.app.db, self.board_id) if self.board_id else {}
+        with VerticalScroll(classes="form"):
+            yield Static("[b]Edit board[/b]" if self.board_id else "[b]New board[/b]")
+            yield Label("System")
+            yield Select(SYSTEMS, value=board.get("system", "wye"), allow_blank=False, id="system")
+            for field, label in self.FIELDS:
+                yield Label(label)
+                v = board.get(field)
+                yield Input(value="" if v is None else (f"{v:g}" if isinstance(v, float) else str(v)), id=field)
+            yield Static(id="form-error")
+        yield Footer()
+
+    def action_save(self) -> None:
+        values = {f: self.query_one(f"#{f}", Input).value for f, _ in self.FIELDS}
+        values["system"] = self.query_one("#system", Select).value
+        try:
+            if self.board_id:
+                repo.update_board(self.app.db, self.board_id, **values)
+                bid = self.board_id
+            else:
+                name = values.pop("name")
+                system = values.pop("system")
+                bid = repo.create_board(self.app.db, self.site_id, name, system=system, **values)
+        except repo.ValidationError as e:
+            self.query_one("#form-error", Static).update(
+                Text("Not saved: " + "; ".join(f"{f}: {r}" for f, r in e.problems), "bold #ff5050"))
+            return
+        self.dismiss(bid)
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class SiteForm(ModalScreen[str | None]):
+    """Create a site."""
+
+    BINDINGS = [Binding("f2", "save", "Save", priority=True), Binding("ctrl+s", "save", "Save", show=False,
+                                                                      priority=True),
+                Binding("escape", "cancel", "Cancel")]
+
+    def compose(self) -> ComposeResult:
+        with VerticalScroll(classes="form"):
+            yield Static("[b]New site[/b] — F2 to save")
+            yield Label("Site name *")
+            yield Input(id="name")
+            yield Label("Address or description")
+            yield Input(id="description")
+            yield Label("Voltage limits for warnings")
+            yield Select([("ANSI C84.1 Range A / B", "ansi"), ("IEC 60038 ±10 %", "iec")], value="ansi",
+                         allow_blank=False, id="voltage_standard")
+            yield Label("Phase labels")
+            yield Select([("A / B / C", "ABC"), ("L1 / L2 / L3", "L123")], value="ABC", allow_blank=False,
+                         id="phase_labels")
+            yield Label("Phase colours")
+            yield Select([("IEC 60445: brown, black, grey; blue neutral", "iec60445"),
+                          ("208Y/120: black, red, blue; white neutral", "na-208y120"),
+                          ("480Y/277: brown, orange, yellow; grey neutral", "na-480y277")],
+                         value="iec60445", allow_blank=False, id="colour_set")
+            yield Static(id="form-error")
+        yield Footer()
+
+    def action_save(self) -> None:
+        try:
+            sid = repo.create_site(
+                self.app.db, self.query_one("#name", Input).value,
+                description=self.query_one("#description", Input).value,
+                voltage_standard=self.query_one("#voltage_standard", Select).value,
+                phase_labels=self.query_one("#phase_labels", Select).value,
+                colour_set=self.query_one("#colour_set", Select).value)
+        except repo.ValidationError as e:
+            self.query_one("#form-error", Static).update(
+                Text("Not saved: " + "; ".join(f"{f}: {r}" for f, r in e.problems), "bold #ff5050"))
+            return
+        self.dismiss(sid)
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class SitePicker(ModalScreen[str | None]):
+    BINDINGS = [Binding("n", "new", "New site"), Binding("escape", "cancel", "Cancel")]
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog"):
+            yield Static("[b]Sites[/b] — Enter to choose, n for a new one")
+            yield DataTable(id="sites", cursor_type="row")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        t = self.query_one(DataTable)
+        t.add_columns("site", "boards")
+        for s in repo.list_sites(self.app.db):
+            t.add_row(printable(s["name"]), str(len(repo.list_boards(self.app.db, s["id"]))), key=s["id"])
+        t.focus()
+
+    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+        self.dismiss(event.row_key.value)
+
+    def action_new(self) -> None:
+        self.app.push_screen(SiteForm(), lambda sid: self.dismiss(sid) if sid else None)
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class BoardList(Screen):
+    """Home: the site's boards, what has been read in the current round."""
+
+    BINDINGS = [
+        Binding("enter", "open", "Open sheet", show=True),
+        Binding("n", "new_board", "New board"),
+        Binding("e", "edit_board", "Edit"),
+        Binding("h", "history", "History"),
+        Binding("r", "round", "Round"),
+        Binding("s", "sites", "Sites"),
+        Binding("f1", "help", "Help"),
+        Binding("q", "app.quit", "Quit"),
+    ]
+
+    def compose(self) -> ComposeResult:
+        yield Static(id="home-title")
+        yield Static(id="home-caution")
+        yield DataTable(id="boards", cursor_type="row", zebra_stripes=True)
+        yield Static(id="home-hint")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        t = self.query_one(DataTable)
+        t.add_columns("board", "location", "system", "V", "last reading", "round")
+        self.query_one("#home-caution", Static).update(Text(
+            "⚠ Energised equipment: qualified persons, work permit and the PPE on each board's arc-flash "
+            "label; local codes govern. fieldpad never shows that equipment is safe."))
+        self.reload()
+        t.focus()
+
+    def on_screen_resume(self) -> None:
+        self.reload()
+
+    def reload(self) -> None:
+        app = self.app
+        site = repo.get_site(app.db, app.site_id)
+        rnd = app.round_id
+        title = f"[b]{markup_safe(site['name'])}[/b] — boards"
+        if rnd:
+            done, total = repo.round_progress(app.db, rnd)
+            title += f" · round: {done}/{total} boards read"
+        else:
+            title += " · no round (r: start one)"
+        self.query_one("#home-title", Static).update(title)
+        t = self.query_one(DataTable)
+        t.clear()
+        read_in_round = set()
+        if rnd:
+            read_in_round = {r["board_id"] for r in app.db.query(
+                "SELECT DISTINCT board_id FROM reading_current WHERE round_id = ? AND void = 0", [rnd])}
+        for b in repo.list_boards(app.db, app.site_id):
+            last = repo.previous_reading(app.db, b["id"])
+            t.add_row(printable(b["name"]), printable(b["location"]), b["system"],
+                      f"{b['nominal_v']:g}" if b["nominal_v"] else "", local_text(last["taken_at"]) if last else "—",
+                      "✔ done" if b["id"] in read_in_round else ("to do" if rnd else ""), key=b["id"])
+        hint = "Enter: open the board's sheet · n: new board · r: round · F1: help"
+        if t.row_count == 0:
+            hint = "No boards yet: press n to create the first board of this site."
+        self.query_one("#home-hint", Static).update(hint)
+
+    def _selected(self) -> str | None:
+        t = self.query_one(DataTable)
+        if t.row_count == 0:
+            return None
+        return t.coordinate_to_cell_key(t.cursor_coordinate).row_key.value
+
+    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+        self.action_open()
+
+    def action_open(self) -> None:
+        bid = self._selected()
+        if bid is None:
+            self.notify("No board selected: press n to create one.")
+            return
+        from .sheet import ReadingSheet
+        self.app.push_screen(ReadingSheet(bid, round_id=self.app.round_id, technician=self.app.technician))
+
+    def action_new_board(self) -> None:
+        self.app.push_screen(BoardForm(self.app.site_id), lambda bid: self.reload())
+
+    def action_edit_board(self) -> None:
+        bid = self._selected()
+        if bid:
+            self.app.push_screen(BoardForm(self.app.site_id, bid), lambda _: self.reload())
+
+    def action_history(self) -> None:
+        bid = self._selected()
+        if bid:
+            from .history import BoardHistory
+            self.app.push_screen(BoardHistory(bid))
+
+    def action_round(self) -> None:
+        app = self.app
+        if app.round_id:
+            repo.finish_round(app.db, app.round_id)
+            done, total = repo.round_progress(app.db, app.round_id)
+            app.round_id = None
+            self.notify(f"Round finished: {done} of {total} boards read.")
+        else:
+            app.round_id = repo.start_round(app.db, app.site_id, app.technician)
+            self.notify("Round started: readings saved now belong to it.")
+        self.reload()
+
+    def action_sites(self) -> None:
+        def chosen(sid):
+            if sid:
+                self.app.site_id = sid
+                self.app.round_id = None
+                self.reload()
+        self.app.push_screen(SitePicker(), chosen)
+
+    def action_help(self) -> None:
+        from .dialogs import help_page
+        self.app.push_screen(help_page())
+

@@ -1,0 +1,111 @@
+"""Small modal screens: yes/no question, a reason to type, the help page, a text page."""
+from __future__ import annotations
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical, VerticalScroll
+from textual.screen import ModalScreen
+from textual.widgets import Footer, Input, Static
+
+HELP = """\
+[b]fieldpad — keys[/b]  (everything works from the keyboard)
+
+[b]Board list[/b]
+  Enter  open the board's reading sheet      n  new board      e  edit board
+  r      start / finish a round              s  sites          h  board history
+  q      quit
+
+[b]Reading sheet[/b]
+  Tab / Enter     next field (A, B, C; magnitude then angle; then N)
+  Shift+Tab       previous field      Up/Down  same column, other phase
+  Backspace       delete a character  Delete   clear the field
+  F2 or Ctrl+S    save the reading (committed at once; the status line says so)
+  F3  previous reading of this board beside the results
+  F4  history of this board (corrections, voids)
+  F5  entry mode: line-to-neutral / line-to-line + angles / line-to-line only
+  F6  right panel: phasor drawing / per-phase power / findings in full
+  Esc back (asks first if something is typed and not saved)
+  Ctrl+P  command palette      F1  this help
+
+[b]Typing values[/b]
+  277  277.5  277,5  277V  13.8kV  12A  — angles: -120  240  30 lag  30 lead  -120°
+  Angles are counter-clockwise positive, relative to VA (leave VA's angle empty for 0).
+  A half-typed sheet is kept and offered back if the app or the terminal closes.
+
+[b]Safety[/b]
+  fieldpad never shows that equipment is safe. Work on or near energised equipment only
+  as a qualified person, under the site's energised-work permit, with the PPE the board's
+  arc-flash label calls for. Local codes and licensed practice govern.
+
+Esc to close.
+"""
+
+
+class Ask(ModalScreen[bool]):
+    """A yes/no question."""
+
+    BINDINGS = [Binding("y", "answer(True)", "Yes"), Binding("n", "answer(False)", "No"),
+                Binding("escape", "answer(False)", "No")]
+
+    def __init__(self, question: str) -> None:
+        super().__init__()
+        self.question = question
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog"):
+            yield Static(self.question, classes="question")
+            yield Static("[b]y[/b] yes    [b]n[/b] / Esc no", classes="hint")
+
+    def action_answer(self, value: bool) -> None:
+        self.dismiss(value)
+
+
+class AskReason(ModalScreen[str | None]):
+    """Ask why (a correction or a void needs a reason)."""
+
+    BINDINGS = [Binding("escape", "cancel", "Cancel")]
+
+    def __init__(self, question: str) -> None:
+        super().__init__()
+        self.question = question
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog"):
+            yield Static(self.question, classes="question")
+            yield Input(placeholder="reason (required)", id="reason", max_length=2000)
+            yield Static("Enter to confirm, Esc to cancel", classes="hint", id="reason-hint")
+
+    def on_input_submitted(self, event: Input.Submitted) -> None:
+        text = event.value.strip()
+        if not text:
+            self.query_one("#reason-hint", Static).update("[b #ff5050]A reason is required.[/] Esc to cancel.")
+            return
+        self.dismiss(text)
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class TextPage(ModalScreen[None]):
+    """A page of text (help, a reading's versions)."""
+
+    BINDINGS = [Binding("escape", "close", "Close"), Binding("q", "close", "Close", show=False)]
+
+    def __init__(self, content, title: str = "") -> None:
+        super().__init__()
+        self.content = content
+        self.page_title = title
+
+    def compose(self) -> ComposeResult:
+        with VerticalScroll(classes="page"):
+            if self.page_title:
+                yield Static(f"[b]{self.page_title}[/b]")
+            yield Static(self.content)
+        yield Footer()
+
+    def action_close(self) -> None:
+        self.dismiss(None)
+
+
+def help_page() -> TextPage:
+    return TextPage(HELP, "Help")

@@ -1,0 +1,162 @@
+"""The entry grid: one focusable widget that owns every cell of the sheet.
+
+Why one widget: with a separate Input per cell, characters that arrive in the
+same burst as Tab or Enter can land in the field being left, because focus
+moves after the key is handled.  Here the grid keeps its own cursor and moves
+it inside the same key handler, so every following character lands in the
+cell the technician moved to, however fast the keys arrive.
+"""
+from __future__ import annotations
+
+from rich.table import Table
+from rich.text import Text
+from textual.message import Message
+from textual.reactive import reactive
+from textual.widget import Widget
+
+from ..core.readings import FIELD_KIND, ReadingError, parse_value
+from .sheet_model import COLUMNS, Cell
+
+MAX_CELL = 16
+
+
+class EntryGrid(Widget, can_focus=True):
+    """Cells for V, V angle, I, I angle per phase, and the neutral current."""
+
+    cursor: reactive[int] = reactive(0)
+
+    class Changed(Message):
+        """A cell's text changed (posted after every edit)."""
+
+        def __init__(self, grid: "EntryGrid", field: str) -> None:
+            super().__init__()
+            self.grid = grid
+            self.field = field
+
+    class Moved(Message):
+        """The cursor moved to another cell."""
+
+        def __init__(self, grid: "EntryGrid", field: str) -> None:
+            super().__init__()
+            self.grid = grid
+            self.field = field
+
+    def __init__(self, **kwargs) -> None:
+        super().__init__(**kwargs)
+        self.cells: list[Cell] = []
+        self.values: dict[str, str] = {}
+        self.row_names: list[str] = []
+        self.row_colours: list[str] = []
+
+    def configure(self, cells: list[Cell], row_names: list[str], row_colours: list[str],
+                  values: dict | None = None) -> None:
+        self.cells = cells
+        self.row_names = row_names
+        self.row_colours = row_colours
+        keep = values if values is not None else self.values
+        self.values = {c.field: keep.get(c.field, "") for c in cells}
+        self.cursor = 0
+        self.refresh(layout=True)
+
+    @property
+    def current(self) -> Cell | None:
+        return self.cells[self.cursor] if self.cells else None
+
+    def entered(self) -> dict[str, str]:
+        """Non-empty cells as typed."""
+        return {f: v for f, v in self.values.items() if v.strip()}
+
+    def problems(self) -> dict[str, str]:
+        """field -> reason, for every cell whose text cannot be used."""
+        out = {}
+        for f, v in self.values.items():
+            try:
+                parse_value(v, FIELD_KIND[f])
+            except ReadingError as e:
+                out[f] = str(e)
+        return out
+
+    def clear(self) -> None:
+        for f in self.values:
+            self.values[f] = ""
+        self.cursor = 0
+        self.refresh()
+        if self.cells:
+            self.post_message(self.Changed(self, self.cells[0].field))
+
+    def move_to(self, index: int) -> None:
+        if self.cells:
+            self.cursor = max(0, min(len(self.cells) - 1, index))
+            self.post_message(self.Moved(self, self.cells[self.cursor].field))
+
+    def _move_row(self, step: int) -> None:
+        cur = self.current
+        if cur is None:
+            return
+        same_col = [k for k, c in enumerate(self.cells) if c.col == cur.col and (c.row - cur.row) * step > 0]
+        if same_col:
+            self.move_to(min(same_col, key=lambda k: abs(self.cells[k].row - cur.row)))
+
+    def on_key(self, event) -> None:
+        if not self.cells:
+            return
+        key = event.key
+        field = self.cells[self.cursor].field
+        handled = True
+        if key in ("tab", "enter", "ctrl+j"):
+            self.move_to((self.cursor + 1) % len(self.cells))
+        elif key == "shift+tab":
+            self.move_to((self.cursor - 1) % len(self.cells))
+        elif key == "down":
+            self._move_row(+1)
+        elif key == "up":
+            self._move_row(-1)
+        elif key == "right":
+            self.move_to(self.cursor + 1)
+        elif key == "left":
+            self.move_to(self.cursor - 1)
+        elif key == "backspace":
+            self.values[field] = self.values[field][:-1]
+            self.post_message(self.Changed(self, field))
+        elif key in ("delete", "ctrl+u"):
+            self.values[field] = ""
+            self.post_message(self.Changed(self, field))
+        elif event.is_printable and event.character and len(self.values[field]) < MAX_CELL:
+            self.values[field] += event.character
+            self.post_message(self.Changed(self, field))
+        else:
+            handled = False
+        if handled:
+            event.stop()
+            event.prevent_default()
+            self.refresh()
+
+    def render(self):
+        table = Table(box=None, padding=(0, 1), show_edge=False, expand=False, header_style="bold")
+        table.add_column("", width=5, no_wrap=True)
+        for title in COLUMNS:
+            table.add_column(title, width=8, no_wrap=True, justify="right")
+        problems = self.problems()
+        by_pos = {(c.row, c.col): (k, c) for k, c in enumerate(self.cells)}
+        for r, name in enumerate(self.row_names):
+            if not name:
+                continue
+            colour = self.row_colours[r] if r < len(self.row_colours) else "#cccccc"
+            row = [Text(f"■ {name}", style=f"bold {colour}")]
+            for col in range(4):
+                if (r, col) not in by_pos:
+                    row.append(Text("", style="#555555"))
+                    continue
+                k, c = by_pos[(r, col)]
+                text = self.values.get(c.field, "")
+                shown = text if len(text) <= 7 else "…" + text[-6:]
+                style = ""
+                if c.field in problems:
+                    style = "bold #ffffff on #b00020"
+                    shown = (shown or " ") + "!"
+                if k == self.cursor and self.has_focus:
+                    style = (style + " reverse").strip()
+                    shown = shown + "▏"
+                row.append(Text(shown or ("_" if k == self.cursor else "·"), style=style or "#e0e0e0"))
+            table.add_row(*row)
+        return table

@@ -1,0 +1,108 @@
+"""A board's history: its readings (current versions), each one's versions, correct and void."""
+from __future__ import annotations
+
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.screen import Screen
+from textual.widgets import DataTable, Footer, Static
+
+from ..report.export import analyze_rows
+from ..storage import repo
+from ..storage.ids import local_text
+from .dialogs import AskReason, TextPage
+from .safe import printable
+
+
+class BoardHistory(Screen):
+    BINDINGS = [
+        Binding("enter", "versions", "Versions"),
+        Binding("c", "correct", "Correct"),
+        Binding("x", "void", "Void"),
+        Binding("escape", "back", "Back"),
+    ]
+
+    def __init__(self, board_id: str) -> None:
+        super().__init__()
+        self.board_id = board_id
+
+    def compose(self) -> ComposeResult:
+        yield Static(id="history-title")
+        yield DataTable(id="history", cursor_type="row", zebra_stripes=True)
+        yield Static("Enter: all versions · c: correct · x: void (both keep the old version)", id="history-hint")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        board = repo.get_board(self.app.db, self.board_id)
+        self.site = repo.get_site(self.app.db, board["site_id"])
+        self.query_one("#history-title", Static).update(
+            Text(f"History of {printable(board['name'])} (last 50 readings, newest first)", "bold"))
+        table = self.query_one(DataTable)
+        table.add_columns("taken", "ver", "by", "VUF %", "NEMA %", "rot", "worst finding")
+        self.reload()
+        table.focus()
+
+    def reload(self) -> None:
+        table = self.query_one(DataTable)
+        table.clear()
+        rows = repo.board_history(self.app.db, self.board_id, 50)
+        results = analyze_rows([{**r, "thresholds_json": self.site["thresholds_json"],
+                                 "phase_labels": self.site["phase_labels"]} for r in rows])
+        for r, res in zip(rows, results):
+            worst = res["findings"][0] if res["findings"] else None
+            worst_text = f"{worst['severity']}: {worst['code']}" if worst else ""
+            if r["void"]:
+                worst_text = "VOID: " + printable(r["reason"])
+            table.add_row(local_text(r["taken_at"]), str(r["version"]), printable(r["technician"]),
+                          _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "", worst_text,
+                          key=r["reading_id"])
+
+    def _selected(self) -> str | None:
+        table = self.query_one(DataTable)
+        if table.row_count == 0:
+            return None
+        return table.coordinate_to_cell_key(table.cursor_coordinate).row_key.value
+
+    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+        self.action_versions()
+
+    def action_versions(self) -> None:
+        rid = self._selected()
+        if not rid:
+            return
+        t = Text()
+        for v in repo.history(self.app.db, rid):
+            t.append(f"version {v['version']}  recorded {local_text(v['recorded_at'], '%Y-%m-%d %H:%M:%S')}"
+                     f" by {printable(v['recorded_by']) or '—'}\n", "bold")
+            if v["reason"]:
+                t.append(f"  {'VOID' if v['void'] else 'reason'}: {printable(v['reason'])}\n")
+            t.append("  " + ", ".join(f"{k}={printable(val)}" for k, val in repo.inputs_of(v).items()) + "\n\n")
+        self.app.push_screen(TextPage(t, "Every version of this reading (nothing is overwritten)"))
+
+    def action_correct(self) -> None:
+        rid = self._selected()
+        if rid:
+            from .sheet import ReadingSheet
+            self.app.push_screen(ReadingSheet(self.board_id, correcting=rid, technician=self.app.technician))
+
+    def action_void(self) -> None:
+        rid = self._selected()
+        if rid:
+            self.app.push_screen(AskReason("Why is this reading void? (it stays in the history)"),
+                                 lambda reason: self._void(rid, reason))
+
+    def _void(self, rid: str, reason: str | None) -> None:
+        if reason:
+            repo.void_reading(self.app.db, rid, reason=reason, by=self.app.technician)
+            self.reload()
+            self.notify("Reading marked void; every version is kept.")
+
+    def on_screen_resume(self) -> None:
+        self.reload()
+
+    def action_back(self) -> None:
+        self.app.pop_screen()
+
+
+def _f(x):
+    return "" if x is None else f"{x:.2f}"

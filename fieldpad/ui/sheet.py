@@ -1,0 +1,370 @@
+"""The reading sheet: entry grid, live results, phasor drawing, findings, caution banner."""
+from __future__ import annotations
+
+import time
+
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.screen import Screen
+from textual.widgets import Footer, Static
+
+from ..core.readings import validate_record
+from ..core.results import analyze_records
+from ..storage import repo
+from ..storage.ids import local_text
+from . import phasor_art
+from .dialogs import Ask, AskReason, help_page
+from .entry_grid import EntryGrid
+from .safe import markup_safe
+from .results_view import findings_text, per_phase_text, results_text
+from .sheet_model import (
+    COLOUR_SETS,
+    LL,
+    LL_MAG,
+    LN,
+    MODE_NAMES,
+    caution_lines,
+    cells,
+    modes_for,
+    row_labels,
+    understood,
+)
+
+DRAFT_DELAY_S = 0.4
+PANELS = ("drawing", "power", "findings")
+
+
+def live_result(values: dict, board: dict, site: dict):
+    """Core results for what is typed so far (cells that cannot be read are left out)."""
+    record = {"system": board["system"], "nominal_v": board["nominal_v"], "standard": site["voltage_standard"]}
+    record.update(values)
+    clean, problems = validate_record(record)
+    bad = {f for f, _ in problems}
+    if bad:
+        record = {k: v for k, v in record.items() if k not in bad}
+        clean, problems = validate_record(record)
+        if problems:  # e.g. an angle without its magnitude: drop those too
+            record = {k: v for k, v in record.items() if k not in {f for f, _ in problems}}
+            clean, problems = validate_record(record)
+            if problems:
+                return None
+    if not any(clean[f] is not None for f in ("va", "vb", "vab", "vbc", "ia", "ib")):
+        return None
+    return analyze_records([clean], repo.site_thresholds(site), repo.site_labels(site))[0]
+
+
+class ReadingSheet(Screen):
+    """One board's readings: type, see the results live, save."""
+
+    BINDINGS = [
+        Binding("f2", "save", "Save", priority=True),
+        Binding("ctrl+s", "save", "Save", show=False, priority=True),
+        Binding("f3", "previous", "Previous"),
+        Binding("f4", "history", "History"),
+        Binding("f5", "mode", "Mode"),
+        Binding("f6", "panel", "Panel"),
+        Binding("f1", "help", "Help"),
+        Binding("escape", "back", "Back"),
+    ]
+
+    def __init__(self, board_id: str, round_id: str | None = None, correcting: str | None = None,
+                 technician: str | None = None) -> None:
+        super().__init__()
+        self.board_id = board_id
+        self.round_id = round_id
+        self.correcting = correcting
+        self.technician = technician
+        self.dirty = False
+        self.result = None
+        self.previous = None
+        self.show_previous = False
+        self.panel = "drawing"
+        self._draft_timer = None
+        self.last_compute_ms = 0.0
+
+    # ---- layout -------------------------------------------------------------
+    def compose(self) -> ComposeResult:
+        yield Static(id="sheet-title")
+        yield Static(id="caution")
+        with Horizontal(id="sheet-body"):
+            with Vertical(id="sheet-left"):
+                yield EntryGrid(id="grid")
+                yield Static(id="understood")
+                yield Static(id="results")
+            with Vertical(id="sheet-right"):
+                yield Static(id="panel")
+                yield Static(id="findings")
+        yield Static(id="status")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        db = self.app.db
+        self.board = repo.get_board(db, self.board_id)
+        self.site = repo.get_site(db, self.board["site_id"])
+        self.labels = repo.site_labels(self.site)
+        colours = COLOUR_SETS.get(self.site["colour_set"], COLOUR_SETS["iec60445"])
+        self.colour_names = [c[0] for c in colours]
+        self.colours = [c[1] for c in colours]
+        self.mode = modes_for(self.board["system"])[0]
+        values = None
+        if self.correcting:
+            cur = repo.current_version(db, self.correcting)
+            values = {k: str(v) for k, v in repo.inputs_of(cur).items()
+                      if k not in ("system", "standard", "nominal_v")}
+            if any(k in values for k in ("vab_deg", "vbc_deg", "vca_deg")) and "va" not in values:
+                self.mode = LL
+            elif any(k in values for k in ("vab", "vbc", "vca")) and "va" not in values:
+                self.mode = LL_MAG
+        self._configure_grid(values or {})
+        self.previous_row = repo.previous_reading(db, self.board_id, self.correcting)
+        if self.previous_row:
+            from ..report.export import analyze_rows
+            self.previous = analyze_rows([{**self.previous_row, "thresholds_json": self.site["thresholds_json"],
+                                           "phase_labels": self.site["phase_labels"]}])[0]
+        self._update_title()
+        self._update_caution()
+        self.query_one(EntryGrid).focus()
+        self.recompute()
+        if self.correcting:
+            self.set_status(f"Correcting reading of {local_text(cur['taken_at'])} (version {cur['version']}). "
+                            "F2 saves a new version; you will be asked why.")
+        else:
+            draft = repo.get_draft(db, self.board_id)
+            if draft and any(str(v).strip() for v in draft.get("values", {}).values()):
+                self.app.push_screen(Ask("A half-typed sheet was kept for this board. Restore it? (y/n)"),
+                                     self._restore_draft)
+            else:
+                self.set_status("Type the readings. Tab/Enter: next field. F2: save. F1: help.")
+
+    def _restore_draft(self, yes: bool | None) -> None:
+        draft = repo.get_draft(self.app.db, self.board_id) or {}
+        if yes:
+            self.mode = draft.get("mode", self.mode)
+            self._configure_grid(draft.get("values", {}))
+            self.dirty = True
+            self.recompute()
+            self.set_status("Draft restored: check every value before saving.")
+        else:
+            repo.clear_draft(self.app.db, self.board_id)
+            self.set_status("Draft discarded. Type the readings.")
+
+    def _configure_grid(self, values: dict) -> None:
+        grid = self.query_one(EntryGrid)
+        grid.configure(cells(self.mode, self.board["system"]),
+                       row_labels(self.mode, self.labels, self.board["system"]), self.colours, values)
+
+    def _update_title(self) -> None:
+        b = self.board
+        nominal = f"{b['nominal_v']:g} V" if b["nominal_v"] else "nominal ?"
+        parts = [f"[b]{markup_safe(b['name'])}[/b]", markup_safe(self.site["name"]), f"{b['system']} {nominal}",
+                 MODE_NAMES[self.mode]]
+        if self.round_id:
+            done, total = repo.round_progress(self.app.db, self.round_id)
+            parts.append(f"round {done}/{total} boards")
+        if self.correcting:
+            parts.append("[b #ffb000]CORRECTING[/]")
+        self.query_one("#sheet-title", Static).update(" · ".join(parts))
+
+    def _update_caution(self) -> None:
+        first, second, problem = caution_lines(self.board, self.site["label_review_years"])
+        banner = self.query_one("#caution", Static)
+        banner.update(Text(first + "\n" + second))
+        banner.set_class(problem, "label-problem")
+
+    # ---- live results -----------------------------------------------------
+    @on(EntryGrid.Changed)
+    def _changed(self, event: EntryGrid.Changed) -> None:
+        self.dirty = True
+        self._show_understood(event.field)
+        self.recompute()
+        if self._draft_timer is not None:
+            self._draft_timer.stop()
+        self._draft_timer = self.set_timer(DRAFT_DELAY_S, self._save_draft)
+
+    @on(EntryGrid.Moved)
+    def _moved(self, event: EntryGrid.Moved) -> None:
+        self._show_understood(event.field)
+
+    def _show_understood(self, field: str) -> None:
+        grid = self.query_one(EntryGrid)
+        msg, ok = understood(field, grid.values.get(field, ""))
+        self.query_one("#understood", Static).update(Text(msg, "#9ecbff" if ok else "bold #ff5050"))
+
+    def recompute(self) -> None:
+        t0 = time.perf_counter()
+        grid = self.query_one(EntryGrid)
+        self.result = live_result(grid.entered(), self.board, self.site)
+        if self.result is None and self.show_previous and self.previous is not None:
+            shown = Text("Previous reading (F3 hides it):\n", "bold #b0a0ff")
+            shown.append_text(results_text(self.previous))
+        else:
+            shown = results_text(self.result, self.previous if self.show_previous else None)
+        self.query_one("#results", Static).update(shown)
+        self._draw_panel()
+        self.query_one("#findings", Static).update(
+            findings_text(self.result["findings"] if self.result else [], detail=False))
+        self.last_compute_ms = (time.perf_counter() - t0) * 1e3
+
+    def _draw_panel(self) -> None:
+        panel = self.query_one("#panel", Static)
+        if self.panel == "power":
+            panel.update(per_phase_text(self.result, self.labels))
+            return
+        if self.panel == "findings":
+            panel.update(findings_text(self.result["findings"] if self.result else [], detail=True))
+            return
+        w = max(20, panel.size.width or 38)
+        h = max(6, panel.size.height or 10)
+        panel.update(phasor_art.draw(self._arrows(), w, h, self.result["rotation"] if self.result else None))
+
+    def _arrows(self) -> list:
+        grid = self.query_one(EntryGrid)
+        from ..core.readings import ReadingError, parse_value
+        arrows = []
+
+        def val(field, kind):
+            try:
+                return parse_value(grid.values.get(field, ""), kind)
+            except ReadingError:
+                return None
+
+        phases = ("a", "b") if self.board["system"] == "split-phase" else ("a", "b", "c")
+        for k, p in enumerate(phases):
+            if self.mode == LN:
+                m, d = val(f"v{p}", "V"), val(f"v{p}_deg", "deg")
+                if d is None and p == "a" and m is not None:
+                    d = 0.0
+                label = self.labels[k]
+            else:
+                f = {"a": "vab", "b": "vbc", "c": "vca"}[p]
+                m, d = val(f, "V"), val(f + "_deg", "deg")
+                label = row_labels(self.mode, self.labels, self.board["system"])[k]
+            if m is not None and d is not None:
+                arrows.append(phasor_art.Arrow(label, m, d, self.colours[k], "V"))
+            im, idg = val(f"i{p}", "A"), val(f"i{p}_deg", "deg")
+            if im is not None and idg is not None:
+                arrows.append(phasor_art.Arrow("I" + self.labels[k].lower(), im, idg, self.colours[k], "I"))
+        return arrows
+
+    def on_resize(self) -> None:
+        self._draw_panel()
+
+    def _save_draft(self) -> None:
+        self._draft_timer = None
+        if self.correcting or not self.dirty:
+            return
+        grid = self.query_one(EntryGrid)
+        try:
+            repo.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": grid.entered()})
+        except Exception as e:  # a draft that cannot be kept must not stop the typing
+            self.set_status(f"Draft not kept ({e}); your typing is still on the screen.", error=True)
+
+    def set_status(self, text: str, error: bool = False, ok: bool = False) -> None:
+        st = self.query_one("#status", Static)
+        st.update(Text(text))
+        st.set_class(error, "error")
+        st.set_class(ok, "ok")
+
+    # ---- actions ------------------------------------------------------------
+    def action_save(self) -> None:
+        grid = self.query_one(EntryGrid)
+        problems = grid.problems()
+        if problems:
+            f, reason = next(iter(problems.items()))
+            self.set_status(f"NOT SAVED: {f}: {reason}. Fix the red field(s); nothing was lost.", error=True)
+            grid.move_to(next(k for k, c in enumerate(grid.cells) if c.field == f))
+            return
+        if not grid.entered():
+            self.set_status("Nothing to save: the sheet is empty.", error=True)
+            return
+        if self.correcting:
+            self.app.push_screen(AskReason("Why is this reading corrected?"), self._save_correction)
+            return
+        try:
+            saved = repo.save_reading(self.app.db, self.board_id, grid.entered(), technician=self.technician,
+                                      round_id=self.round_id)
+        except repo.ValidationError as e:
+            self.set_status(f"NOT SAVED: {e}. Nothing was lost.", error=True)
+            return
+        except Exception as e:  # the disk, permissions: say so, keep the typing
+            self.set_status(f"NOT SAVED: {e}. What you typed is still here.", error=True)
+            return
+        self._after_save(f"✔ SAVED {time.strftime('%H:%M:%S')} (reading {saved.reading_id[:8]}). "
+                         "Sheet cleared; F3 shows it.")
+
+    def _save_correction(self, reason: str | None) -> None:
+        if not reason:
+            self.set_status("Correction not saved (no reason given).", error=True)
+            return
+        grid = self.query_one(EntryGrid)
+        try:
+            saved = repo.correct_reading(self.app.db, self.correcting, grid.entered(), reason=reason,
+                                         by=self.technician)
+        except Exception as e:
+            self.set_status(f"NOT SAVED: {e}. What you typed is still here.", error=True)
+            return
+        self.correcting = None
+        self._after_save(f"✔ SAVED {time.strftime('%H:%M:%S')}: correction = version {saved.version}; "
+                         "earlier version kept.")
+
+    def _after_save(self, message: str) -> None:
+        grid = self.query_one(EntryGrid)
+        self.previous_row = repo.previous_reading(self.app.db, self.board_id)
+        self.previous = self.result
+        self.dirty = False
+        if self._draft_timer is not None:
+            self._draft_timer.stop()
+            self._draft_timer = None
+        grid.clear()
+        self.dirty = False
+        self._update_title()
+        self.recompute()
+        self.set_status(message, ok=True)
+
+    def action_previous(self) -> None:
+        if self.previous is None:
+            self.set_status("No earlier reading of this board.")
+            return
+        self.show_previous = not self.show_previous
+        self.recompute()
+        when = local_text(self.previous_row["taken_at"]) if self.previous_row else "just saved"
+        self.set_status(f"Showing the previous reading ({when}) beside each figure." if self.show_previous
+                        else "Previous reading hidden.")
+
+    def action_history(self) -> None:
+        from .history import BoardHistory
+        self.app.push_screen(BoardHistory(self.board_id))
+
+    def action_mode(self) -> None:
+        modes = modes_for(self.board["system"])
+        if len(modes) == 1:
+            self.set_status(f"A {self.board['system']} board has one entry mode.")
+            return
+        self.mode = modes[(modes.index(self.mode) + 1) % len(modes)]
+        self._configure_grid(self.query_one(EntryGrid).values)
+        self._update_title()
+        self.recompute()
+        self.set_status(f"Entry mode: {MODE_NAMES[self.mode]}.")
+
+    def action_panel(self) -> None:
+        self.panel = PANELS[(PANELS.index(self.panel) + 1) % len(PANELS)]
+        self._draw_panel()
+
+    def action_help(self) -> None:
+        self.app.push_screen(help_page())
+
+    def action_back(self) -> None:
+        if self.dirty and self.query_one(EntryGrid).entered():
+            self.app.push_screen(Ask("Leave this sheet? What is typed is NOT saved as a reading "
+                                     "(it stays as a draft). (y/n)"), self._leave)
+        else:
+            self.app.pop_screen()
+
+    def _leave(self, yes: bool | None) -> None:
+        if yes:
+            self._save_draft()
+            self.app.pop_screen()
+

@@ -1,0 +1,128 @@
+"""What the reading sheet shows and in which order: entry modes, grid cells,
+phase labels and colours, and the caution banner's text.  No widgets here, so
+it is easy to test.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import date
+
+from ..core.readings import FIELD_KIND, ReadingError, parse_value
+
+LN, LL, LL_MAG = "ln", "ll", "ll-mag"
+MODE_NAMES = {LN: "line-to-neutral", LL: "line-to-line + angles", LL_MAG: "line-to-line, no angles"}
+
+#: Column titles of the grid (V magnitude, V angle, I magnitude, I angle).
+COLUMNS = ("V", "V°", "I", "I°")
+
+
+@dataclass(frozen=True)
+class Cell:
+    row: int  # 0..3: A, B, C, N
+    col: int  # 0..3: COLUMNS
+    field: str  # the reading field this cell fills
+
+
+def modes_for(system: str) -> tuple[str, ...]:
+    if system in ("delta",):
+        return (LL_MAG, LL)
+    if system == "split-phase":
+        return (LN,)
+    return (LN, LL, LL_MAG)
+
+
+def cells(mode: str, system: str) -> list[Cell]:
+    """The grid's cells in reading order (A, B, C; magnitude then angle; then N)."""
+    phases = ("a", "b") if system == "split-phase" else ("a", "b", "c")
+    ll = {"a": "vab", "b": "vbc", "c": "vca"}
+    out = []
+    for r, p in enumerate(phases):
+        v = f"v{p}" if mode == LN else ll[p]
+        out.append(Cell(r, 0, v))
+        if mode != LL_MAG:
+            out.append(Cell(r, 1, v + "_deg"))
+        out.append(Cell(r, 2, f"i{p}"))
+        out.append(Cell(r, 3, f"i{p}_deg"))
+    if system != "delta":
+        out.append(Cell(3, 2, "i_n"))
+    return out
+
+
+def row_labels(mode: str, labels: tuple[str, str, str], system: str) -> list[str]:
+    if mode == LN:
+        out = list(labels)
+    else:
+        a, b, c = labels
+        out = [f"{a}-{b}", f"{b}-{c}", f"{c}-{a}"]
+    if system == "split-phase":
+        out[2] = ""
+    return out + ["N"]
+
+
+def understood(field: str, text: str) -> tuple[str, bool]:
+    """How a typed value was understood, for the line under the grid.
+
+    Returns (message, ok).
+    """
+    kind = FIELD_KIND[field]
+    try:
+        value = parse_value(text, kind)
+    except ReadingError as e:
+        return f"{field}: {e}", False
+    if value is None:
+        return f"{field}: empty", True
+    if kind == "deg":
+        norm = ((value + 180.0) % 360.0) - 180.0
+        norm = 180.0 if norm == -180.0 else norm
+        lag = "lagging" if norm < 0 else "leading" if norm > 0 else "on the reference"
+        return f"{field} = {value:g}° (same as {norm:+g}°, {lag})", True
+    return f"{field} = {value:g} {kind}", True
+
+
+#: Phase colour sets: (A, B, C, N) as (name, terminal hex).  Names are what is
+#: on the conductors; the hex is what the terminal shows (black conductors are
+#: drawn light grey so they show on a dark screen).  IEC 60445: brown, black,
+#: grey, blue.  North American sets are common practice, not a code rule.
+COLOUR_SETS = {
+    "iec60445": (("brown", "#c07030"), ("black", "#d8d8d8"), ("grey", "#9a9a9a"), ("blue", "#4f8fff")),
+    "na-208y120": (("black", "#d8d8d8"), ("red", "#ff5050"), ("blue", "#4f8fff"), ("white", "#f5f5f5")),
+    "na-480y277": (("brown", "#c07030"), ("orange", "#ff9a1f"), ("yellow", "#f2e14c"), ("grey", "#9a9a9a")),
+}
+
+
+def caution_lines(board: dict, review_years: float, today: date | None = None) -> tuple[str, str, bool]:
+    """The caution banner: (first line, second line, label problem?).
+
+    The banner is always shown; the second line carries the board's arc-flash
+    label data, or a warning that there is none or that it is out of date.
+    """
+    today = today or date.today()
+    first = "⚠ LIVE: shock & arc flash. Qualified persons, permit, PPE. Local codes govern."
+    e = board.get("af_incident_energy_cal_cm2")
+    ppe = board.get("af_ppe")
+    dated = board.get("af_label_date")
+    if e is None and not ppe:
+        return first, "⚠ NO ARC-FLASH LABEL recorded for this board: hazard unknown; check the board.", True
+    parts = []
+    if e is not None:
+        wd = board.get("af_working_distance_mm")
+        parts.append(f"{e:g} cal/cm²" + (f" at {wd:g} mm" if wd else ""))
+    if board.get("af_boundary_mm"):
+        parts.append(f"boundary {board['af_boundary_mm']:g} mm")
+    parts.append(f"PPE {ppe}" if ppe else "PPE not posted")
+    problem = False
+    if dated:
+        try:
+            d = date.fromisoformat(dated)
+            age = (today - d).days / 365.25
+            parts.append(f"label {dated}")
+            if age > review_years:
+                parts.append(f"⚠ OLDER THAN {review_years:g} YEARS: have it reviewed")
+                problem = True
+        except ValueError:
+            parts.append(f"label date {dated!r} unreadable")
+            problem = True
+    else:
+        parts.append("⚠ label date not recorded")
+        problem = True
+    return first, "Label: " + ", ".join(parts), problem
