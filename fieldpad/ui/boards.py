@@ -48,6 +48,9 @@ class BoardForm(ModalScreen[str | None]):
             yield Static(id="form-error")
         yield Footer()
 
+    def on_mount(self) -> None:
+        self.query_one("#name", Input).focus()
+
     def action_save(self) -> None:
         values = {f: self.query_one(f"#{f}", Input).value for f, _ in self.FIELDS}
         values["system"] = self.query_one("#system", Select).value
@@ -96,6 +99,9 @@ class SiteForm(ModalScreen[str | None]):
                          value="iec60445", allow_blank=False, id="colour_set")
             yield Static(id="form-error")
         yield Footer()
+
+    def on_mount(self) -> None:
+        self.query_one("#name", Input).focus()
 
     def action_save(self) -> None:
         try:

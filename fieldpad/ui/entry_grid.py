@@ -157,6 +157,8 @@ class EntryGrid(Widget, can_focus=True):
                 if k == self.cursor and self.has_focus:
                     style = (style + " reverse").strip()
                     shown = shown + "▏"
+                if not shown and c.field == "va_deg":
+                    shown, style = "0 ref", style or "#6f6f6f"  # VA is the reference when left empty
                 row.append(Text(shown or ("_" if k == self.cursor else "·"), style=style or "#e0e0e0"))
             table.add_row(*row)
         return table

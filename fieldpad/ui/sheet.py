@@ -62,8 +62,8 @@ class ReadingSheet(Screen):
     BINDINGS = [
         Binding("f2", "save", "Save", priority=True),
         Binding("ctrl+s", "save", "Save", show=False, priority=True),
-        Binding("f3", "previous", "Previous"),
-        Binding("f4", "history", "History"),
+        Binding("f3", "previous", "Prev"),
+        Binding("f4", "history", "Hist"),
         Binding("f5", "mode", "Mode"),
         Binding("f6", "panel", "Panel"),
         Binding("f1", "help", "Help"),

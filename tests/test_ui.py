@@ -1,0 +1,187 @@
+"""The entry app, headless: pilot tests for the whole flow, SVG snapshots, a real-terminal burst."""
+import shutil
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from fieldpad.storage import repo
+from fieldpad.storage.db import open_db
+from fieldpad.ui.app import FieldpadApp
+from fieldpad.ui.entry_grid import EntryGrid
+from fieldpad.ui.sheet import ReadingSheet
+
+from conftest import BAL
+
+
+def seeded(path):
+    db = open_db(path)
+    sid = repo.create_site(db, "Test Yard", colour_set="na-480y277")
+    bid = repo.create_board(db, sid, "MDB-7", system="wye", nominal_v=480, location="Plant room",
+                            af_incident_energy_cal_cm2=4.2, af_working_distance_mm=455, af_boundary_mm=900,
+                            af_ppe="2", af_label_date="2024-06-01")
+    repo.save_reading(db, bid, BAL, technician="Earlier Tech", taken_at="2026-11-30T09:00:00.000000Z")
+    db.close()
+    return bid
+
+
+async def test_first_run_create_site_board_enter_save_correct(tmp_path):
+    app = FieldpadApp(tmp_path / "new.db", technician="Test Tech")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press(*"Riverside Depot", "f2")  # the site form opens first on an empty database
+        await pilot.pause()
+        assert app.site_id is not None
+        await pilot.press("n")
+        await pilot.press(*"DB-1", "f2")
+        await pilot.pause()
+        assert [b["name"] for b in repo.list_boards(app.db, app.site_id)] == ["DB-1"]
+        await pilot.press("enter")
+        await pilot.pause()
+        sheet = app.screen
+        assert isinstance(sheet, ReadingSheet)
+        keys = ["2", "7", "7", "tab", "tab", "1", "0", "0", "tab", "-", "3", "0", "tab",
+                "2", "7", "7", "tab", "2", "4", "0", "tab", "1", "0", "0", "tab", "-", "1", "5", "0", "tab",
+                "2", "7", "7", "tab", "1", "2", "0", "tab", "1", "0", "0", "tab", "9", "0"]
+        await pilot.press(*keys)
+        grid = sheet.query_one(EntryGrid)
+        assert grid.values["vb_deg"] == "240" and grid.values["ic_deg"] == "90"
+        assert sheet.result["rotation"] == "ABC"
+        await pilot.press("f2")
+        await pilot.pause()
+        rows = repo.current_readings(app.db)
+        assert len(rows) == 1 and rows[0]["vb_deg"] == 240.0 and rows[0]["technician"] == "Test Tech"
+        assert grid.entered() == {}  # cleared for the next reading
+        # correct it from the history
+        await pilot.press("f4")
+        await pilot.pause()
+        await pilot.press("c")
+        await pilot.pause()
+        assert app.screen.correcting == rows[0]["reading_id"]
+        await pilot.press("delete", "2", "7", "6", "f2")
+        await pilot.pause()
+        await pilot.press(*"meter misread", "enter")
+        await pilot.pause()
+        hist = repo.history(app.db, rows[0]["reading_id"])
+        assert [h["version"] for h in hist] == [1, 2]
+        assert hist[1]["va"] == 276.0 and hist[1]["reason"] == "meter misread"
+
+
+async def test_bad_value_is_not_saved_and_stays_on_screen(tmp_path):
+    bid = seeded(tmp_path / "s.db")
+    app = FieldpadApp(tmp_path / "s.db", technician="T")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        app.push_screen(ReadingSheet(bid))
+        await pilot.pause()
+        await pilot.press("2", "7", "x", "f2")
+        await pilot.pause()
+        sheet = app.screen
+        assert sheet.query_one(EntryGrid).values["va"] == "27x"
+        assert "NOT SAVED" in str(sheet.query_one("#status").render())
+        assert repo.counts(app.db)["reading"] == 1
+
+
+async def test_leaving_with_unsaved_values_asks_and_keeps_a_draft(tmp_path):
+    bid = seeded(tmp_path / "d.db")
+    app = FieldpadApp(tmp_path / "d.db", technician="T")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        app.push_screen(ReadingSheet(bid))
+        await pilot.pause()
+        await pilot.press("2", "7", "5", "escape")
+        await pilot.pause()
+        assert "Leave this sheet" in str(app.screen.question)
+        await pilot.press("y")
+        await pilot.pause()
+        assert repo.get_draft(app.db, bid)["values"] == {"va": "275"}
+        app.push_screen(ReadingSheet(bid))
+        await pilot.pause()
+        await pilot.press("y")  # restore the draft
+        await pilot.pause()
+        assert app.screen.query_one(EntryGrid).values["va"] == "275"
+
+
+async def test_mode_switch_and_previous(tmp_path):
+    bid = seeded(tmp_path / "m.db")
+    app = FieldpadApp(tmp_path / "m.db", technician="T")
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        app.push_screen(ReadingSheet(bid))
+        await pilot.pause()
+        sheet = app.screen
+        await pilot.press("f5")
+        assert [c.field for c in sheet.query_one(EntryGrid).cells][:2] == ["vab", "vab_deg"]
+        await pilot.press("f5")
+        assert [c.field for c in sheet.query_one(EntryGrid).cells][:2] == ["vab", "ia"]
+        await pilot.press("f3")
+        assert sheet.show_previous and sheet.previous["rotation"] == "ABC"
+
+
+def _sheet_app(tmp_path, name):
+    """A sheet with a reading typed in, phase C's CT reversed (270° instead of 90°) so a finding shows."""
+    bid = seeded(tmp_path / name)
+    app = FieldpadApp(tmp_path / name, technician="T")
+
+    async def run_before(pilot):
+        await pilot.pause()
+        app.push_screen(ReadingSheet(bid))
+        await pilot.pause()
+        await pilot.press(*"277", "tab", "tab", *"100", "tab", *"-30", "tab", *"277", "tab", *"240", "tab",
+                          *"100", "tab", "-", *"150", "tab", *"277", "tab", *"120", "tab", *"100", "tab",
+                          *"270", "tab", *"12")
+        await pilot.pause()
+    return app, run_before
+
+
+def test_snapshot_sheet_80x24(snap_compare, tmp_path):
+    app, run_before = _sheet_app(tmp_path, "snap1.db")
+    assert snap_compare(app, terminal_size=(80, 24), run_before=run_before)
+
+
+def test_snapshot_sheet_120x40(snap_compare, tmp_path):
+    app, run_before = _sheet_app(tmp_path, "snap2.db")
+    assert snap_compare(app, terminal_size=(120, 40), run_before=run_before)
+
+
+@pytest.mark.skipif(shutil.which("tmux") is None, reason="tmux is not installed (the .ci/run script installs it)")
+def test_fast_burst_through_a_real_terminal(tmp_path):
+    """Keys sent by tmux in one burst, no pauses: every value lands in its own field."""
+    db = tmp_path / "burst.db"
+    seeded(db)
+    session = f"fpburst{int(time.time() * 1000) % 100000}"
+    cmd = f"{sys.executable} -m fieldpad --db {db}"
+    subprocess.run(["tmux", "new-session", "-d", "-s", session, "-x", "80", "-y", "24", cmd], check=True)
+    try:
+        def screen():
+            return subprocess.run(["tmux", "capture-pane", "-p", "-t", session], capture_output=True,
+                                  text=True).stdout
+
+        deadline = time.time() + 20
+        while "MDB-7" not in screen() and time.time() < deadline:
+            time.sleep(0.2)
+        subprocess.run(["tmux", "send-keys", "-t", session, "Enter"], check=True)
+        deadline = time.time() + 20
+        while "Label:" not in screen() and time.time() < deadline:
+            time.sleep(0.2)
+        burst = ["2", "7", "7", "Tab", "0", "Tab", "1", "0", "0", "Tab", "-", "3", "0", "Tab",
+                 "2", "7", "6", "Tab", "2", "4", "0", "Tab", "9", "9", "Tab", "-", "1", "5", "0", "Enter",
+                 "2", "7", "8", "Enter", "1", "2", "0", "Enter", "9", "8", "Enter", "9", "0", "Tab", "7"]
+        subprocess.run(["tmux", "send-keys", "-t", session, *burst], check=True)  # one burst
+        time.sleep(1.0)
+        subprocess.run(["tmux", "send-keys", "-t", session, "F2"], check=True)
+        deadline = time.time() + 20
+        while "SAVED" not in screen() and time.time() < deadline:
+            time.sleep(0.2)
+        assert "SAVED" in screen(), screen()
+    finally:
+        subprocess.run(["tmux", "kill-session", "-t", session])
+    d = open_db(db)
+    row = repo.board_history(d, repo.list_boards(d, repo.list_sites(d)[0]["id"])[0]["id"], 1)[0]
+    got = {k: row[k] for k in ("va", "va_deg", "ia", "ia_deg", "vb", "vb_deg", "ib", "ib_deg", "vc", "vc_deg",
+                               "ic", "ic_deg", "i_n")}
+    assert got == {"va": 277.0, "va_deg": 0.0, "ia": 100.0, "ia_deg": -30.0, "vb": 276.0, "vb_deg": 240.0,
+                   "ib": 99.0, "ib_deg": -150.0, "vc": 278.0, "vc_deg": 120.0, "ic": 98.0, "ic_deg": 90.0,
+                   "i_n": 7.0}
