@@ -18,6 +18,7 @@ from ..storage.ids import local_text
 from . import phasor_art
 from .dialogs import Ask, AskReason, help_page
 from .entry_grid import EntryGrid
+from .text_panel import TextPanel
 from .safe import markup_safe
 from .results_view import findings_text, per_phase_text, results_text
 from .sheet_model import (
@@ -92,12 +93,12 @@ class ReadingSheet(Screen):
         with Horizontal(id="sheet-body"):
             with Vertical(id="sheet-left"):
                 yield EntryGrid(id="grid")
-                yield Static(id="understood")
-                yield Static(id="results")
+                yield TextPanel(id="understood")
+                yield TextPanel(id="results")
             with Vertical(id="sheet-right"):
-                yield Static(id="panel")
-                yield Static(id="findings")
-        yield Static(id="status")
+                yield TextPanel(id="panel")
+                yield TextPanel(id="findings")
+        yield TextPanel(id="status")
         yield Footer()
 
     def on_mount(self) -> None:
@@ -191,7 +192,7 @@ class ReadingSheet(Screen):
     def _show_understood(self, field: str) -> None:
         grid = self.query_one(EntryGrid)
         msg, ok = understood(field, grid.values.get(field, ""))
-        self.query_one("#understood", Static).update(Text(msg, "#9ecbff" if ok else "bold #ff5050"))
+        self.query_one("#understood", TextPanel).update(Text(msg, "#9ecbff" if ok else "bold #ff5050"))
 
     def recompute(self) -> None:
         t0 = time.perf_counter()
@@ -202,14 +203,14 @@ class ReadingSheet(Screen):
             shown.append_text(results_text(self.previous))
         else:
             shown = results_text(self.result, self.previous if self.show_previous else None)
-        self.query_one("#results", Static).update(shown)
+        self.query_one("#results", TextPanel).update(shown)
         self._draw_panel()
-        self.query_one("#findings", Static).update(
+        self.query_one("#findings", TextPanel).update(
             findings_text(self.result["findings"] if self.result else [], detail=False))
         self.last_compute_ms = (time.perf_counter() - t0) * 1e3
 
     def _draw_panel(self) -> None:
-        panel = self.query_one("#panel", Static)
+        panel = self.query_one("#panel", TextPanel)
         if self.panel == "power":
             panel.update(per_phase_text(self.result, self.labels))
             return
@@ -263,7 +264,7 @@ class ReadingSheet(Screen):
             self.set_status(f"Draft not kept ({e}); your typing is still on the screen.", error=True)
 
     def set_status(self, text: str, error: bool = False, ok: bool = False) -> None:
-        st = self.query_one("#status", Static)
+        st = self.query_one("#status", TextPanel)
         st.update(Text(text))
         st.set_class(error, "error")
         st.set_class(ok, "ok")
