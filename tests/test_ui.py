@@ -185,3 +185,41 @@ def test_fast_burst_through_a_real_terminal(tmp_path):
     assert got == {"va": 277.0, "va_deg": 0.0, "ia": 100.0, "ia_deg": -30.0, "vb": 276.0, "vb_deg": 240.0,
                    "ib": 99.0, "ib_deg": -150.0, "vc": 278.0, "vc_deg": 120.0, "ic": 98.0, "ic_deg": 90.0,
                    "i_n": 7.0}
+
+
+async def test_day_review_filters_compare_and_export(tmp_path, monkeypatch):
+    from datetime import date
+
+    from textual.widgets import DataTable
+
+    from fieldpad.demo_site import build_demo
+    from fieldpad.ui import review
+
+    build_demo(tmp_path / "demo.db", day=date(2026, 3, 10))
+    monkeypatch.setattr(review, "export_folder", lambda: tmp_path)
+    app = FieldpadApp(tmp_path / "demo.db", technician="Sup")
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        await pilot.press("v")
+        await pilot.pause()
+        scr = app.screen
+        assert isinstance(scr, review.DayReview) and scr.day == date(2026, 3, 10)
+        table = scr.query_one(DataTable)
+        assert table.row_count == 23
+        await pilot.press("f")
+        with_findings = table.row_count
+        assert 0 < with_findings < 23
+        await pilot.press("o", "o")  # sort by worst finding: alarms first
+        first = table.get_row_at(0)
+        assert "ALARM" in str(first[-1])
+        await pilot.press("c")
+        await pilot.pause()
+        cmp_table = app.screen.query_one(DataTable)
+        assert cmp_table.row_count == 12
+        await pilot.press("escape", "x")
+        await pilot.pause()
+        await pilot.press("c")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        files = list(tmp_path.glob("fieldpad-*.csv"))
+        assert len(files) == 1 and files[0].read_text(encoding="utf-8-sig").count("\n") == 24

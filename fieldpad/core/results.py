@@ -5,8 +5,6 @@ Values are rounded to 4 decimals; a quantity the input cannot give is None.
 """
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
 from .analysis import BASIS_NAMES, Analysis
@@ -32,38 +30,24 @@ _FLOAT_FIELDS = tuple(f for f in RESULT_FIELDS if f not in
 VOLTAGE_STATUS = {-1: None, 0: "within", 1: "range B", 2: "out of range"}
 
 
-def _clean(x: float):
-    return None if math.isnan(x) or math.isinf(x) else round(x, 4)
+def _column(values) -> list:
+    """Rounded to 4 decimals, NaN and infinities as None, as a plain list."""
+    a = np.round(np.asarray(values, dtype=float), 4)
+    a[~np.isfinite(a)] = np.nan
+    return [None if x != x else x for x in a.tolist()]
 
 
 def to_records(result: Analysis, labels=("A", "B", "C"), standards=None) -> list[dict]:
     """One dict per reading, fields in :data:`RESULT_FIELDS` order."""
     v = result.values
-    cols = {f: np.asarray(v[f], dtype=float).tolist() for f in _FLOAT_FIELDS}
-    rot = v["rotation"].tolist()
-    reason = v["rotation_reason"].tolist()
-    basis = v["basis"].tolist()
-    high = v["high_leg"].tolist()
-    found = findings_lists(result, labels, standards)
-    three_phase = np.asarray(v["rotation_reason"]) != 4  # REASON_NOT_3PH
-    out = []
-    for i in range(result.n):
-        rec = {}
-        for f in RESULT_FIELDS:
-            if f == "rotation":
-                rec[f] = ROTATION_NAMES[rot[i]] if three_phase[i] else None
-            elif f == "rotation_note":
-                rec[f] = REASON_TEXT[reason[i]] or None
-            elif f == "basis":
-                rec[f] = BASIS_NAMES[basis[i]]
-            elif f == "high_leg":
-                rec[f] = labels[high[i]] if high[i] >= 0 else None
-            elif f == "findings":
-                rec[f] = found[i]
-            else:
-                rec[f] = _clean(cols[f][i])
-        out.append(rec)
-    return out
+    three_phase = (np.asarray(v["rotation_reason"]) != 4).tolist()  # REASON_NOT_3PH
+    columns = {f: _column(v[f]) for f in _FLOAT_FIELDS}
+    columns["rotation"] = [ROTATION_NAMES[r] if tp else None for r, tp in zip(v["rotation"].tolist(), three_phase)]
+    columns["rotation_note"] = [REASON_TEXT[r] or None for r in v["rotation_reason"].tolist()]
+    columns["basis"] = [BASIS_NAMES[b] for b in v["basis"].tolist()]
+    columns["high_leg"] = [labels[h] if h >= 0 else None for h in v["high_leg"].tolist()]
+    columns["findings"] = findings_lists(result, labels, standards)
+    return [dict(zip(RESULT_FIELDS, row)) for row in zip(*(columns[f] for f in RESULT_FIELDS))]
 
 
 def analyze_records(clean_records: list[dict], thresholds=None, labels=("A", "B", "C")) -> list[dict]:

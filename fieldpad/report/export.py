@@ -52,7 +52,7 @@ def analyze_rows(rows: list[dict]) -> list[dict]:
     return out
 
 
-def export_records(db, *, day=None, site=None) -> list[dict]:
+def export_records(db, *, day=None, site=None, round_id=None) -> list[dict]:
     """One record per current reading: meta, inputs, results, findings."""
     start = end = None
     if day:
@@ -63,7 +63,7 @@ def export_records(db, *, day=None, site=None) -> list[dict]:
         if s is None:
             return []
         site_id = s["id"]
-    rows = repo.current_readings(db, day_start_utc=start, day_end_utc=end, site_id=site_id)
+    rows = repo.current_readings(db, day_start_utc=start, day_end_utc=end, site_id=site_id, round_id=round_id)
     results = analyze_rows(rows)
     out = []
     for r, res in zip(rows, results):
@@ -72,7 +72,7 @@ def export_records(db, *, day=None, site=None) -> list[dict]:
             "taken_at_local": local_text(r["taken_at"], "%Y-%m-%d %H:%M:%S %z"),
             "technician": r["technician"], "instrument": r["instrument"], "round": r["round_label"],
             "note": r["note"], "reading_id": r["reading_id"], "version": r["version"], "reason": r["reason"],
-            "recorded_at": r["recorded_at"],
+            "recorded_at": r["recorded_at"], "board_id": r["board_id"],
             "inputs": {f: r[f] for f in INPUT_FIELDS},
             "results": {f: res[f] for f in RESULT_COLUMNS},
             "findings": res["findings"],
@@ -93,20 +93,11 @@ def to_csv(records: list[dict]) -> str:
     w = csv.writer(buf, lineterminator="\r\n")
     w.writerow(CSV_FIELDS)
     for rec in records:
-        row = []
-        for f in CSV_FIELDS:
-            if f in rec["inputs"]:
-                v = rec["inputs"][f]
-            elif f in rec["results"]:
-                v = rec["results"][f]
-            elif f == "findings":
-                v = findings_cell(rec["findings"])
-            else:
-                v = rec[f]
-            if f in USER_TEXT:
-                v = neutralise(v)
-            row.append("" if v is None else v)
-        w.writerow(row)
+        meta = [neutralise(rec[f]) if f in USER_TEXT else rec[f] for f in META_FIELDS]
+        inputs, results = rec["inputs"], rec["results"]
+        row = meta + [inputs[f] for f in INPUT_FIELDS] + [results[f] for f in RESULT_COLUMNS]
+        row.append(findings_cell(rec["findings"]))
+        w.writerow(["" if v is None else v for v in row])
     return "\ufeff" + buf.getvalue()  # BOM: spreadsheets then read the file as UTF-8
 
 

@@ -17,6 +17,7 @@ import sqlite_utils
 from ..core.analysis import NUMERIC_FIELDS
 from ..core.readings import validate_record
 from ..core.thresholds import Thresholds
+from ..phase_colours import COLOUR_SETS
 from .db import StorageError, write
 from .ids import utc_now, uuid7
 
@@ -25,7 +26,6 @@ SITE_FIELDS = ("name", "description", "voltage_standard", "phase_labels", "colou
 BOARD_FIELDS = ("name", "location", "kind", "system", "nominal_v", "frequency_hz", "af_incident_energy_cal_cm2",
                 "af_working_distance_mm", "af_boundary_mm", "af_ppe", "af_label_date")
 BOARD_KINDS = ("switchboard", "panelboard", "MCC", "distribution board")
-COLOUR_SETS = ("iec60445", "na-208y120", "na-480y277")
 
 
 class ValidationError(StorageError):
@@ -340,7 +340,8 @@ def previous_reading(db, board_id, before_reading_id=None) -> dict | None:
     return rows[0] if rows else None
 
 
-def current_readings(db, *, day_start_utc=None, day_end_utc=None, site_id=None, include_void=False) -> list[dict]:
+def current_readings(db, *, day_start_utc=None, day_end_utc=None, site_id=None, round_id=None,
+                     include_void=False) -> list[dict]:
     """Current versions joined with board and site, ordered by site, board and time."""
     where, params = [], {}
     if day_start_utc:
@@ -349,6 +350,9 @@ def current_readings(db, *, day_start_utc=None, day_end_utc=None, site_id=None, 
     if site_id:
         where.append("b.site_id = :site")
         params["site"] = site_id
+    if round_id:
+        where.append("r.round_id = :round")
+        params["round"] = round_id
     if not include_void:
         where.append("r.void = 0")
     sql = ("SELECT r.*, b.name AS board_name, b.site_id AS site_id, s.name AS site_name, "
@@ -389,3 +393,12 @@ def counts(db: sqlite_utils.Database) -> dict:
     out = {t: next(db.query(q.format(t)))["n"] for t in ("site", "board", "round", "reading", "draft")}
     out["current readings"] = next(db.query("SELECT COUNT(*) AS n FROM reading_current WHERE void = 0"))["n"]
     return out
+
+
+def reading_days(db, site_id) -> list[str]:
+    """Local calendar days (YYYY-MM-DD) with current readings at the site, newest first."""
+    from .ids import local_text
+
+    rows = db.query("SELECT r.taken_at FROM reading_current r JOIN board b ON b.id = r.board_id "
+                    "WHERE b.site_id = ? AND r.void = 0", [site_id])
+    return sorted({local_text(r["taken_at"], "%Y-%m-%d") for r in rows}, reverse=True)

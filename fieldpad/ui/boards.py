@@ -157,6 +157,7 @@ class BoardList(Screen):
         Binding("h", "history", "History"),
         Binding("r", "round", "Round"),
         Binding("s", "sites", "Sites"),
+        Binding("v", "review", "Day review"),
         Binding("f1", "help", "Help"),
         Binding("q", "app.quit", "Quit"),
     ]
@@ -257,6 +258,10 @@ class BoardList(Screen):
                 self.app.round_id = None
                 self.reload()
         self.app.push_screen(SitePicker(), chosen)
+
+    def action_review(self) -> None:
+        from .review import DayReview
+        self.app.push_screen(DayReview())
 
     def action_help(self) -> None:
         from .dialogs import help_page

@@ -13,7 +13,11 @@ HELP = """\
 [b]Board list[/b]
   Enter  open the board's reading sheet      n  new board      e  edit board
   r      start / finish a round              s  sites          h  board history
-  q      quit
+  v      day review (all readings of a day)  q  quit
+
+[b]Day review[/b]
+  f  findings only   b  filter by board   t  filter by technician   o  change the sort
+  [ ]  previous / next day   Enter  a reading in full   c  compare two rounds   x  export
 
 [b]Reading sheet[/b]
   Tab / Enter     next field (A, B, C; magnitude then angle; then N)
@@ -60,30 +64,41 @@ class Ask(ModalScreen[bool]):
         self.dismiss(value)
 
 
-class AskReason(ModalScreen[str | None]):
-    """Ask why (a correction or a void needs a reason)."""
+class AskText(ModalScreen[str | None]):
+    """Ask for a line of text (a reason, a filter); Esc cancels."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel")]
 
-    def __init__(self, question: str) -> None:
+    def __init__(self, question: str, placeholder: str = "", required: bool = True, value: str = "") -> None:
         super().__init__()
         self.question = question
+        self.placeholder = placeholder
+        self.required = required
+        self.value = value
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
             yield Static(self.question, classes="question")
-            yield Input(placeholder="reason (required)", id="reason", max_length=2000)
-            yield Static("Enter to confirm, Esc to cancel", classes="hint", id="reason-hint")
+            yield Input(value=self.value, placeholder=self.placeholder, id="answer", max_length=2000)
+            yield Static("Enter to confirm, Esc to cancel", classes="hint", id="answer-hint")
+
+    def on_mount(self) -> None:
+        self.query_one(Input).focus()
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         text = event.value.strip()
-        if not text:
-            self.query_one("#reason-hint", Static).update("[b #ff5050]A reason is required.[/] Esc to cancel.")
+        if self.required and not text:
+            self.query_one("#answer-hint", Static).update("[b #ff5050]An answer is required.[/] Esc to cancel.")
             return
         self.dismiss(text)
 
     def action_cancel(self) -> None:
         self.dismiss(None)
+
+
+def AskReason(question: str) -> AskText:
+    """A correction or a void needs a reason."""
+    return AskText(question, "reason (required)", required=True)
 
 
 class TextPage(ModalScreen[None]):

@@ -21,8 +21,8 @@ from .entry_grid import EntryGrid
 from .text_panel import TextPanel
 from .safe import markup_safe
 from .results_view import findings_text, per_phase_text, results_text
+from .. import phase_colours
 from .sheet_model import (
-    COLOUR_SETS,
     LL,
     LL_MAG,
     LN,
@@ -106,9 +106,8 @@ class ReadingSheet(Screen):
         self.board = repo.get_board(db, self.board_id)
         self.site = repo.get_site(db, self.board["site_id"])
         self.labels = repo.site_labels(self.site)
-        colours = COLOUR_SETS.get(self.site["colour_set"], COLOUR_SETS["iec60445"])
-        self.colour_names = [c[0] for c in colours]
-        self.colours = [c[1] for c in colours]
+        self.colour_names = phase_colours.names(self.site["colour_set"])
+        self.colours = phase_colours.colours(self.site["colour_set"], "terminal")
         self.mode = modes_for(self.board["system"])[0]
         values = None
         if self.correcting:

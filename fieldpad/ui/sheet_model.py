@@ -79,17 +79,6 @@ def understood(field: str, text: str) -> tuple[str, bool]:
     return f"{field} = {value:g} {kind}", True
 
 
-#: Phase colour sets: (A, B, C, N) as (name, terminal hex).  Names are what is
-#: on the conductors; the hex is what the terminal shows (black conductors are
-#: drawn light grey so they show on a dark screen).  IEC 60445: brown, black,
-#: grey, blue.  North American sets are common practice, not a code rule.
-COLOUR_SETS = {
-    "iec60445": (("brown", "#c07030"), ("black", "#d8d8d8"), ("grey", "#9a9a9a"), ("blue", "#4f8fff")),
-    "na-208y120": (("black", "#d8d8d8"), ("red", "#ff5050"), ("blue", "#4f8fff"), ("white", "#f5f5f5")),
-    "na-480y277": (("brown", "#c07030"), ("orange", "#ff9a1f"), ("yellow", "#f2e14c"), ("grey", "#9a9a9a")),
-}
-
-
 def caution_lines(board: dict, review_years: float, today: date | None = None) -> tuple[str, str, bool]:
     """The caution banner: (first line, second line, label problem?).
 

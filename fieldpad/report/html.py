@@ -1,0 +1,132 @@
+"""The printable HTML report: one self-contained file (inline CSS and SVG, no
+network fetches) for the supervisor to file and send.  Every name and note a
+user typed is escaped by Jinja2's autoescaping.
+"""
+from __future__ import annotations
+
+from collections import defaultdict
+
+from jinja2 import Environment, PackageLoader, select_autoescape
+
+from .. import __version__, phase_colours
+from ..core.thresholds import SOURCES
+from ..storage import repo
+from ..storage.ids import local_text, utc_now
+from .svg import phasor_svg
+
+_ENV = Environment(loader=PackageLoader("fieldpad.report", "templates"),
+                   autoescape=select_autoescape(default=True, default_for_string=True))
+
+SOURCE_NAMES = [
+    ("Voltage unbalance factor (VUF)", "vuf_pct"), ("Motor derating (NEMA line-voltage unbalance)", "lvur_pct"),
+    ("Motor operation limit", "lvur_max_pct"), ("Current unbalance", "iur_pct"),
+    ("Neutral current", "neutral_overload_ratio"), ("Voltage against nominal (ANSI)", "voltage_ansi"),
+    ("Voltage against nominal (IEC)", "voltage_iec"), ("Phase rotation", "rotation"),
+    ("High-leg position", "high_leg"), ("Reversed CT", "ct_reversed"),
+]
+
+
+def _n(x, fmt="{:.2f}"):
+    return "" if x is None else fmt.format(x)
+
+
+def _entered(inputs: dict, keys) -> str:
+    parts = []
+    for k in keys:
+        if inputs.get(k) is not None:
+            ang = inputs.get(k + "_deg")
+            parts.append(f"{k[1:].upper()} {inputs[k]:g}" + (f"∠{ang:g}°" if ang is not None else ""))
+    return ", ".join(parts)
+
+
+def _label(board: dict) -> str:
+    e = board.get("af_incident_energy_cal_cm2")
+    if e is None and not board.get("af_ppe"):
+        return "NONE RECORDED — hazard unknown, check the board"
+    parts = []
+    if e is not None:
+        parts.append(f"{e:g} cal/cm²" + (f" at {board['af_working_distance_mm']:g} mm"
+                                          if board.get("af_working_distance_mm") else ""))
+    if board.get("af_boundary_mm"):
+        parts.append(f"boundary {board['af_boundary_mm']:g} mm")
+    parts.append(f"PPE {board['af_ppe']}" if board.get("af_ppe") else "PPE not posted")
+    parts.append(f"dated {board['af_label_date']}" if board.get("af_label_date") else "label date not recorded")
+    return ", ".join(parts)
+
+
+def _arrows(inputs: dict, labels, colours):
+    arrows = []
+    ll = inputs.get("va") is None and inputs.get("vab") is not None
+    for k, p in enumerate("abc"):
+        if ll:
+            key = {"a": "vab", "b": "vbc", "c": "vca"}[p]
+            name = f"{labels[k]}-{labels[(k + 1) % 3]}"
+        else:
+            key, name = f"v{p}", labels[k]
+        ang = inputs.get(key + "_deg")
+        if ang is None and key == "va" and inputs.get("va") is not None and inputs.get("vb_deg") is not None:
+            ang = 0.0
+        arrows.append((name, inputs.get(key), ang, colours[k], "V"))
+        arrows.append(("I" + labels[k].lower(), inputs.get(f"i{p}"), inputs.get(f"i{p}_deg"), colours[k], "I"))
+    return arrows
+
+
+def to_html(db, records: list[dict], *, day=None, site=None) -> str:
+    sites = {}
+    by_board: dict = defaultdict(list)
+    for rec in records:
+        if rec["site"] not in sites:
+            sites[rec["site"]] = repo.find_site(db, rec["site"])
+        by_board[(rec["site"], rec["board"])].append(rec)
+
+    summary = {sev: {"readings": 0, "boards": []} for sev in ("alarm", "warning", "info")}
+    boards = []
+    for (site_name, board_name), recs in sorted(by_board.items()):
+        s = sites[site_name]
+        b = repo.find_board(db, s["id"], board_name)
+        labels = repo.site_labels(s)
+        colours = phase_colours.colours(s["colour_set"], "print")
+        for sev in summary:
+            hits = [r for r in recs if any(f["severity"] == sev for f in r["findings"])]
+            summary[sev]["readings"] += len(hits)
+            if hits:
+                summary[sev]["boards"].append(board_name if len(sites) == 1 else f"{site_name} / {board_name}")
+        latest = max(recs, key=lambda r: r["taken_at"])
+        rows = []
+        corrections = []
+        for r in sorted(recs, key=lambda r: r["taken_at"]):
+            res, inp = r["results"], r["inputs"]
+            rows.append({
+                "taken": local_text(r["taken_at"]), "technician": r["technician"], "round": r["round"],
+                "v_text": _entered(inp, ("va", "vb", "vc")) or _entered(inp, ("vab", "vbc", "vca")),
+                "i_text": _entered(inp, ("ia", "ib", "ic")) + (f", N {inp['i_n']:g}" if inp.get("i_n") else ""),
+                "vuf": _n(res["vuf_pct"]), "lvur": _n(res["lvur_pct"]), "rotation": res["rotation"] or "",
+                "neutral": _n(res["i_n_calc"] if res["i_n_calc"] is not None else inp.get("i_n"), "{:.1f}"),
+                "p_kw": _n(None if res["p_w"] is None else res["p_w"] / 1000.0), "pf": _n(res["pf"]),
+                "version": r["version"], "note": r["note"],
+            })
+            if r["version"] > 1:
+                for v in repo.history(db, r["reading_id"]):
+                    corrections.append({
+                        "taken": local_text(r["taken_at"]), "version": v["version"],
+                        "recorded": local_text(v["recorded_at"]), "by": v["recorded_by"], "reason": v["reason"],
+                        "void": bool(v["void"]),
+                        "values": ", ".join(f"{k}={val}" for k, val in repo.inputs_of(v).items()
+                                            if k not in ("system", "standard", "nominal_v")),
+                    })
+        title = board_name if len(sites) == 1 else f"{site_name} / {board_name}"
+        boards.append({
+            "name": title, "location": b["location"] if b else None, "system": b["system"] if b else "",
+            "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
+            "label": _label(b) if b else "—", "findings": latest["findings"], "readings": rows,
+            "corrections": corrections,
+            "svg": phasor_svg(_arrows(latest["inputs"], labels, colours), 220, latest["results"]["rotation"],
+                              f"phasor diagram of {title}"),
+        })
+    crew = sorted({r["technician"] for r in records if r["technician"]})
+    rounds = sorted({r["round"] for r in records if r["round"]})
+    site_title = site or (", ".join(sites) if sites else "no readings")
+    return _ENV.get_template("report.html.j2").render(
+        site_title=site_title, day=day, generated=local_text(utc_now(), "%Y-%m-%d %H:%M"), version=__version__,
+        crew=", ".join(crew), rounds=", ".join(rounds), summary=summary, boards=boards,
+        sources=[(name, SOURCES[key]) for name, key in SOURCE_NAMES])

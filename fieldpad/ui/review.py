@@ -1,0 +1,333 @@
+"""The supervisor's screens: the day review, round comparison and export from the app."""
+from __future__ import annotations
+
+from datetime import date, timedelta
+from pathlib import Path
+
+from rich.text import Text
+from textual import work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical
+from textual.screen import ModalScreen, Screen
+from textual.widgets import DataTable, Footer, ProgressBar, Static
+
+from ..report.export import export_records
+from ..storage import repo
+from ..storage.ids import local_text
+from .dialogs import AskText, TextPage
+from .results_view import findings_text, results_text
+from .safe import printable
+
+SEVERITY_RANK = {"alarm": 0, "warning": 1, "info": 2, None: 3}
+SORTS = ("time", "board", "worst finding", "VUF", "NEMA")
+
+
+def worst(rec) -> str | None:
+    return rec["findings"][0]["severity"] if rec["findings"] else None
+
+
+def _f(x, fmt="{:.2f}"):
+    return "" if x is None else fmt.format(x)
+
+
+class DayReview(Screen):
+    BINDINGS = [
+        Binding("f", "findings_only", "Findings only"),
+        Binding("b", "filter_board", "Board"),
+        Binding("t", "filter_tech", "Technician"),
+        Binding("o", "sort", "Sort"),
+        Binding("left_square_bracket", "day(-1)", "Prev day"),
+        Binding("right_square_bracket", "day(1)", "Next day"),
+        Binding("c", "compare", "Compare rounds"),
+        Binding("x", "export", "Export"),
+        Binding("escape", "back", "Back"),
+    ]
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.findings_only = False
+        self.board_filter = ""
+        self.tech_filter = ""
+        self.sort = 0
+        self.records: list = []
+
+    def compose(self) -> ComposeResult:
+        yield Static(id="review-title")
+        yield DataTable(id="review", cursor_type="row", zebra_stripes=True)
+        yield Static(id="review-hint")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        days = repo.reading_days(self.app.db, self.app.site_id)
+        self.day = date.fromisoformat(days[0]) if days else date.today()
+        t = self.query_one(DataTable)
+        t.add_columns("time", "board", "by", "rnd", "VUF%", "NEMA%", "rot", "IN A", "worst finding")
+        self.reload()
+        t.focus()
+
+    def reload(self) -> None:
+        site = repo.get_site(self.app.db, self.app.site_id)
+        self.records = export_records(self.app.db, day=self.day.isoformat(), site=site["name"])
+        shown = [r for r in self.records
+                 if (not self.findings_only or r["findings"])
+                 and (not self.board_filter or self.board_filter.lower() in (r["board"] or "").lower())
+                 and (not self.tech_filter or self.tech_filter.lower() in (r["technician"] or "").lower())]
+        key = SORTS[self.sort]
+        if key == "board":
+            shown.sort(key=lambda r: (r["board"], r["taken_at"]))
+        elif key == "worst finding":
+            shown.sort(key=lambda r: (SEVERITY_RANK[worst(r)], r["taken_at"]))
+        elif key in ("VUF", "NEMA"):
+            f = "vuf_pct" if key == "VUF" else "lvur_pct"
+            shown.sort(key=lambda r: -(r["results"][f] if r["results"][f] is not None else -1))
+        else:
+            shown.sort(key=lambda r: r["taken_at"])
+        t = self.query_one(DataTable)
+        t.clear()
+        for r in shown:
+            res = r["results"]
+            w = r["findings"][0] if r["findings"] else None
+            t.add_row(local_text(r["taken_at"], "%H:%M"), printable(r["board"]), printable(r["technician"])[:14],
+                      printable(r["round"]), _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
+                      _f(_neutral(r), "{:.0f}"),
+                      Text(f"{w['severity'].upper()} {w['code']}", "bold #ff5050" if w["severity"] == "alarm"
+                           else "#ffb000" if w["severity"] == "warning" else "#9ecbff") if w else "",
+                      key=r["reading_id"])
+        filters = []
+        if self.findings_only:
+            filters.append("findings only")
+        if self.board_filter:
+            filters.append(f"board ~ {printable(self.board_filter)}")
+        if self.tech_filter:
+            filters.append(f"by ~ {printable(self.tech_filter)}")
+        title = Text(f"Day review {self.day.isoformat()} · {printable(site['name'])} · {len(shown)} of "
+                     f"{len(self.records)} readings · sorted by {key}", "bold")
+        if filters:
+            title.append(" · " + ", ".join(filters))
+        self.query_one("#review-title", Static).update(title)
+        self.query_one("#review-hint", Static).update(
+            "Enter: reading in full · [ ]: day · c: compare rounds · x: export · F1: help" if self.records
+            else "No readings on this day: [ and ] change the day.")
+
+    def _selected(self):
+        t = self.query_one(DataTable)
+        if t.row_count == 0:
+            return None
+        rid = t.coordinate_to_cell_key(t.cursor_coordinate).row_key.value
+        return next(r for r in self.records if r["reading_id"] == rid)
+
+    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+        rec = self._selected()
+        if rec is None:
+            return
+        t = Text()
+        t.append(f"{printable(rec['board'])} · {local_text(rec['taken_at'], '%Y-%m-%d %H:%M')} · "
+                 f"{printable(rec['technician'])} · version {rec['version']}\n\n", "bold")
+        t.append("Entered: " + ", ".join(f"{k}={v:g}" for k, v in rec["inputs"].items()
+                                         if isinstance(v, float)) + "\n\n")
+        t.append_text(results_text(rec["results"]))
+        t.append("\n")
+        t.append_text(findings_text(rec["findings"], detail=True))
+        t.append("\nVersions:\n", "bold")
+        for v in repo.history(self.app.db, rec["reading_id"]):
+            t.append(f"  v{v['version']} {local_text(v['recorded_at'])} by {printable(v['recorded_by']) or '—'}"
+                     + (f": {printable(v['reason'])}" if v["reason"] else "") + "\n")
+        self.app.push_screen(TextPage(t, "Reading in full"))
+
+    def action_findings_only(self) -> None:
+        self.findings_only = not self.findings_only
+        self.reload()
+
+    def action_filter_board(self) -> None:
+        self.app.push_screen(AskText("Show only boards whose name contains (empty = all):", required=False,
+                                     value=self.board_filter), self._set_board)
+
+    def _set_board(self, text) -> None:
+        if text is not None:
+            self.board_filter = text
+            self.reload()
+
+    def action_filter_tech(self) -> None:
+        self.app.push_screen(AskText("Show only technicians whose name contains (empty = all):", required=False,
+                                     value=self.tech_filter), self._set_tech)
+
+    def _set_tech(self, text) -> None:
+        if text is not None:
+            self.tech_filter = text
+            self.reload()
+
+    def action_sort(self) -> None:
+        self.sort = (self.sort + 1) % len(SORTS)
+        self.reload()
+
+    def action_day(self, step: int) -> None:
+        self.day += timedelta(days=step)
+        self.reload()
+
+    def action_compare(self) -> None:
+        self.app.push_screen(RoundCompare())
+
+    def action_export(self) -> None:
+        self.app.push_screen(ExportDialog(self.day.isoformat()))
+
+    def action_back(self) -> None:
+        self.app.pop_screen()
+
+
+#: A change between rounds worth a look (common practice): percentage points of unbalance, amps of neutral.
+DRIFT_PP = 0.5
+DRIFT_NEUTRAL_RATIO = 0.25
+DRIFT_NEUTRAL_MIN_A = 5.0
+
+
+class RoundCompare(Screen):
+    """The same boards in two rounds, changes marked, so a drifting board stands out."""
+
+    BINDINGS = [Binding("a", "cycle(0)", "Round A"), Binding("b", "cycle(1)", "Round B"),
+                Binding("escape", "back", "Back")]
+
+    def compose(self) -> ComposeResult:
+        yield Static(id="compare-title")
+        yield DataTable(id="compare", cursor_type="row", zebra_stripes=True)
+        yield Static("▲ worth a look: unbalance ±0.5 pt, neutral ±25 % (≥5 A), rotation, new alarm",
+                     id="compare-hint")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self.rounds = repo.list_rounds(self.app.db, self.app.site_id)  # newest first
+        self.pick = [1, 0] if len(self.rounds) >= 2 else [0, 0]
+        self.query_one(DataTable).add_columns("board", "VUF% A→B", "NEMA% A→B", "IN A→B", "rot A→B", "findings B")
+        self.reload()
+        self.query_one(DataTable).focus()
+
+    def _label(self, r) -> str:
+        return f"{printable(r['label']) or 'round'} {local_text(r['started_at'])}"
+
+    def reload(self) -> None:
+        t = self.query_one(DataTable)
+        t.clear()
+        if not self.rounds:
+            self.query_one("#compare-title", Static).update("No rounds at this site yet.")
+            return
+        ra, rb = self.rounds[self.pick[0]], self.rounds[self.pick[1]]
+        self.query_one("#compare-title", Static).update(
+            Text(f"Compare A: {self._label(ra)}  with  B: {self._label(rb)}   (a / b: other rounds)", "bold"))
+        latest = {}
+        for side, r in (("a", ra), ("b", rb)):
+            for rec in export_records(self.app.db, round_id=r["id"]):
+                latest.setdefault(rec["board"], {})[side] = rec  # later readings of a round replace earlier
+        for board in sorted(latest):
+            a, b = latest[board].get("a"), latest[board].get("b")
+            cells, drift = [], False
+            for key in ("vuf_pct", "lvur_pct"):
+                va = a["results"][key] if a else None
+                vb = b["results"][key] if b else None
+                d = va is not None and vb is not None and abs(vb - va) > DRIFT_PP
+                drift |= d
+                cells.append(Text(_pair(_f(va), _f(vb)) + (" ▲" if d else ""), "bold #ffb000" if d else ""))
+            na = _neutral(a)
+            nb = _neutral(b)
+            d = na is not None and nb is not None and abs(nb - na) > max(DRIFT_NEUTRAL_RATIO * max(na, nb),
+                                                                         DRIFT_NEUTRAL_MIN_A)
+            drift |= d
+            cells.append(Text(_pair(_f(na, '{:.0f}'), _f(nb, '{:.0f}')) + (" ▲" if d else ""),
+                              "bold #ffb000" if d else ""))
+            rot_a = a["results"]["rotation"] if a else None
+            rot_b = b["results"]["rotation"] if b else None
+            d = bool(rot_a and rot_b and rot_a != rot_b)
+            cells.append(Text(f"{rot_a or '—'}→{rot_b or '—'}" + (" ▲" if d else ""), "bold #ff5050" if d else ""))
+            alarms_a = {f["code"] for f in a["findings"] if f["severity"] == "alarm"} if a else set()
+            alarms_b = {f["code"] for f in b["findings"] if f["severity"] == "alarm"} if b else set()
+            new = alarms_b - alarms_a
+            cells.append(Text(", ".join(sorted(new)) + " NEW ▲" if new else
+                              (worst(b) or "") if b else "not read", "bold #ff5050" if new else ""))
+            t.add_row(Text(printable(board) + (" ▲" if drift or new else ""), "bold" if drift or new else ""),
+                      *cells)
+
+    def action_cycle(self, which: int) -> None:
+        if self.rounds:
+            self.pick[which] = (self.pick[which] + 1) % len(self.rounds)
+            self.reload()
+
+    def action_back(self) -> None:
+        self.app.pop_screen()
+
+
+def _pair(a: str, b: str) -> str:
+    return f"{a or '—'}→{b or '—'}" if (a or b) else "—"
+
+
+def _neutral(rec):
+    """Measured neutral if entered, else the phasor sum (unless a CT is reversed: then it is not known)."""
+    if rec is None:
+        return None
+    if rec["inputs"].get("i_n") is not None:
+        return rec["inputs"]["i_n"]
+    if any(f["code"] == "CT_REVERSED" for f in rec["findings"]):
+        return None
+    return rec["results"]["i_n_calc"]
+
+
+class ExportDialog(ModalScreen[None]):
+    """Export the day (this site) to CSV, JSON or the printable HTML report."""
+
+    BINDINGS = [Binding("c", "run('csv')", "CSV"), Binding("j", "run('json')", "JSON"),
+                Binding("h", "run('html')", "HTML report"), Binding("escape", "close", "Close")]
+
+    def __init__(self, day: str) -> None:
+        super().__init__()
+        self.day = day
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog"):
+            yield Static(f"Export {self.day} (this site): [b]c[/b] CSV · [b]j[/b] JSON · [b]h[/b] printable HTML",
+                         classes="question")
+            yield ProgressBar(total=3, show_eta=False, id="export-progress")
+            yield Static("", id="export-status")
+
+    def action_run(self, fmt: str) -> None:
+        self.query_one("#export-status", Static).update("Exporting…")
+        self._export(fmt)
+
+    @work(thread=True, exclusive=True)
+    def _export(self, fmt: str) -> None:
+        from ..report.export import to_csv, to_json
+        from ..report.files import atomic_write_text
+        from ..storage.db import open_db
+
+        bar = self.query_one(ProgressBar)
+        try:
+            db = open_db(self.app.db_path)  # its own connection: this runs in a worker thread
+            site = repo.get_site(db, self.app.site_id)
+            records = export_records(db, day=self.day, site=site["name"])
+            self.app.call_from_thread(bar.update, progress=1)
+            if fmt == "csv":
+                text = to_csv(records)
+            elif fmt == "json":
+                text = to_json(records, day=self.day, site=site["name"])
+            else:
+                from ..report.html import to_html
+                text = to_html(db, records, day=self.day, site=site["name"])
+            self.app.call_from_thread(bar.update, progress=2)
+            folder = export_folder()
+            safe_name = "".join(ch if ch.isalnum() or ch in "-_" else "-" for ch in site["name"])[:40]
+            path = folder / f"fieldpad-{safe_name}-{self.day}.{fmt}"
+            atomic_write_text(path, text)
+            db.close()
+            self.app.call_from_thread(bar.update, progress=3)
+            msg = f"Wrote {len(records)} reading(s) to {path}"
+        except Exception as e:  # disk full, permissions: say so, nothing else is touched
+            msg = f"Export failed: {e}"
+        self.app.call_from_thread(self.query_one("#export-status", Static).update, Text(msg))
+
+    def action_close(self) -> None:
+        self.dismiss(None)
+
+
+def export_folder() -> Path:
+    import platformdirs
+
+    folder = Path(platformdirs.user_documents_dir()) / "fieldpad-exports"
+    folder.mkdir(parents=True, exist_ok=True)
+    return folder
