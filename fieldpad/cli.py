@@ -6,6 +6,7 @@ problem, nothing on stdout), 1 any other failure with a one-line message.
 from __future__ import annotations
 
 import argparse
+import sqlite3
 import sys
 
 MAX_PROBLEMS = 20
@@ -152,15 +153,16 @@ def cmd_db(args) -> int:
     from .storage.db import backup, resolve_path
 
     if args.action == "check":
-        from .storage.db import check
+        from .storage.db import check_file
 
-        db = _open(args)
-        problems = check(db)
+        problems = check_file(args.db)
         if problems:
-            for p in problems:
+            for p in problems[:MAX_PROBLEMS]:
                 print(f"problem: {p}")
+            print(f"{resolve_path(args.db)}: damaged. Nothing was changed; restore the latest backup "
+                  "(the .bak files beside it, or one made with 'fieldpad db backup').")
             return 1
-        print(f"{resolve_path(args.db)}: ok")
+        print(f"{resolve_path(args.db)}: ok (integrity and foreign keys)")
         return 0
     db = _open(args)
     if args.action == "backup":
@@ -244,6 +246,13 @@ def main(argv=None) -> int:
         return args.func(args)
     except StorageError as e:
         print(f"fieldpad: {e}", file=sys.stderr)
+        return 1
+    except sqlite3.DatabaseError as e:
+        print(f"fieldpad: the database cannot be read ({e}). Nothing was changed. Run 'fieldpad db check', "
+              "and restore a backup if it is damaged.", file=sys.stderr)
+        return 1
+    except OSError as e:
+        print(f"fieldpad: {e.filename or ''}: {e.strerror}", file=sys.stderr)
         return 1
     except KeyboardInterrupt:
         return 130

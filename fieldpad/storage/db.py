@@ -102,8 +102,31 @@ def _check_is_database(path: Path) -> None:
                            "Check the path given with --db or FIELDPAD_DB.")
 
 
+def _sanity_check_read_only(path: Path) -> None:
+    """Read the schema through a read-only connection before anything writes to the file,
+    so a damaged or foreign file is reported, not modified."""
+    conn = sqlite3.connect(f"{path.resolve().as_uri()}?mode=ro", uri=True, timeout=BUSY_TIMEOUT_MS / 1000)
+    try:
+        names = {r[0] for r in conn.execute("SELECT name FROM sqlite_master")}
+        if names and "_sqlite_migrations" not in names:
+            raise StorageError(f"{path} is an SQLite database but not a fieldpad one (no fieldpad schema). "
+                               "Nothing was changed. Check the path given with --db or FIELDPAD_DB.")
+        if "reading" in names:
+            conn.execute("SELECT COUNT(*) FROM (SELECT 1 FROM reading LIMIT 1)").fetchone()
+    finally:
+        conn.close()
+
+
+def is_writable(path: Path) -> bool:
+    """Whether the database file and its folder can be written (WAL needs both)."""
+    return os.access(path, os.W_OK) and os.access(path.parent, os.W_OK)
+
+
 def open_db(path: str | os.PathLike | None = None, *, create: bool = True) -> sqlite_utils.Database:
     """Open (and if needed create or upgrade) the database at ``path``.
+
+    A file or folder that cannot be written is opened read-only: everything can
+    be looked at and exported, and a save says clearly that it cannot be stored.
 
     Raises
     ------
@@ -111,26 +134,39 @@ def open_db(path: str | os.PathLike | None = None, *, create: bool = True) -> sq
         With a message naming the file and what to do.
     """
     p = resolve_path(path)
-    if str(p) != ":memory:":
-        _check_is_database(p)
-        if not p.exists():
-            if not create:
-                raise StorageError(f"{p}: no such database")
-            p.parent.mkdir(parents=True, exist_ok=True)
-            # Private from the start: readings and names are the site's business.
-            fd = os.open(p, os.O_CREAT | os.O_WRONLY, 0o600)
-            os.close(fd)
     try:
+        if str(p) != ":memory:":
+            _check_is_database(p)
+            if not p.exists():
+                if not create:
+                    raise StorageError(f"{p}: no such database")
+                p.parent.mkdir(parents=True, exist_ok=True)
+                # Private from the start: readings and names are the site's business.
+                fd = os.open(p, os.O_CREAT | os.O_WRONLY, 0o600)
+                os.close(fd)
+            elif p.stat().st_size > 0:
+                _sanity_check_read_only(p)
+            if p.stat().st_size > 0 and not is_writable(p):
+                conn = sqlite3.connect(f"{p.resolve().as_uri()}?mode=ro", uri=True, isolation_level=None,
+                                       check_same_thread=False, timeout=BUSY_TIMEOUT_MS / 1000)
+                conn.execute("PRAGMA foreign_keys=ON")
+                db = sqlite_utils.Database(conn)
+                db.read_only = True
+                _migrate(db, p, read_only=True)
+                return db
         conn = connect(p)
         db = sqlite_utils.Database(conn)
+        db.read_only = False
         _migrate(db, p)
     except sqlite3.DatabaseError as e:
         raise StorageError(f"{p}: the database cannot be read ({e}). Nothing was changed. "
                            f"Run 'fieldpad db check --db {p}', and restore a backup if it is damaged.") from None
+    except PermissionError as e:
+        raise StorageError(f"{p}: no permission ({e.strerror}). Nothing was changed.") from None
     return db
 
 
-def _migrate(db: sqlite_utils.Database, path: Path) -> None:
+def _migrate(db: sqlite_utils.Database, path: Path, read_only: bool = False) -> None:
     migrations = _migrations()
     known = set(schema_version_names())
     applied = [m.name for m in migrations.applied(db)]
@@ -142,6 +178,9 @@ def _migrate(db: sqlite_utils.Database, path: Path) -> None:
     pending = migrations.pending(db)
     if not pending:
         return
+    if read_only:
+        raise StorageError(f"{path} needs an upgrade to this fieldpad's schema but the file is read-only. "
+                           "Nothing was changed: make it writable, or use the fieldpad that wrote it.")
     if applied and str(path) != ":memory:":
         stamp = datetime.now(timezone.utc).strftime("%Y%m%dT%H%M%SZ")
         backup(db, path.with_name(f"{path.name}.before-{pending[0].name}-{stamp}.bak"))
@@ -175,19 +214,42 @@ def write(db: sqlite_utils.Database):
     use a savepoint (sqlite-utils' ``atomic``).
     """
     conn = db.conn
+    if getattr(db, "read_only", False):
+        raise StorageError("the database is open read-only (the file or its folder cannot be written): "
+                           "nothing was saved. Make it writable, or save to another database with --db.")
     if conn.in_transaction:
         with db.atomic():
             yield db
         return
-    conn.execute("BEGIN IMMEDIATE")
     try:
-        yield db
-    except BaseException:
-        if conn.in_transaction:
-            conn.execute("ROLLBACK")
-        raise
+        conn.execute("BEGIN IMMEDIATE")
+        try:
+            yield db
+        except BaseException:
+            if conn.in_transaction:
+                conn.execute("ROLLBACK")
+            raise
+        else:
+            conn.execute("COMMIT")
+    except sqlite3.OperationalError as e:
+        raise StorageError(_write_failure(e)) from e
+
+
+def _write_failure(e: sqlite3.OperationalError) -> str:
+    text = str(e).lower()
+    if "full" in text:
+        why = "the disk (or the database's size limit) is full"
+        todo = "free some space; "
+    elif "readonly" in text or "read-only" in text:
+        why = "the database file is read-only"
+        todo = "make it writable; "
+    elif "locked" in text or "busy" in text:
+        why = "another fieldpad kept the database busy for too long"
+        todo = "try again; "
     else:
-        conn.execute("COMMIT")
+        why = str(e)
+        todo = ""
+    return f"NOT SAVED: {why}. Nothing already saved was harmed; {todo}what you typed is kept on screen."
 
 
 def check(db: sqlite_utils.Database) -> list[str]:
@@ -195,4 +257,23 @@ def check(db: sqlite_utils.Database) -> list[str]:
     problems = [r[0] for r in db.execute("PRAGMA integrity_check").fetchall() if r[0] != "ok"]
     for table, rowid, parent, _fk in db.execute("PRAGMA foreign_key_check").fetchall():
         problems.append(f"{table} row {rowid} refers to a missing {parent}")
+    return problems
+
+
+def check_file(path) -> list[str]:
+    """Integrity check of a database file through a read-only connection (works on a damaged file,
+    changes nothing).  Raises StorageError for a file that is not an SQLite database."""
+    p = resolve_path(path)
+    if not p.exists():
+        raise StorageError(f"{p}: no such database")
+    _check_is_database(p)
+    conn = sqlite3.connect(f"{p.resolve().as_uri()}?mode=ro", uri=True)
+    try:
+        problems = [r[0] for r in conn.execute("PRAGMA integrity_check").fetchall() if r[0] != "ok"]
+        problems += [f"{t} row {rowid} refers to a missing {parent}"
+                     for t, rowid, parent, _ in conn.execute("PRAGMA foreign_key_check").fetchall()]
+    except sqlite3.DatabaseError as e:
+        problems = [f"the file is damaged ({e})"]
+    finally:
+        conn.close()
     return problems
