@@ -4,7 +4,6 @@ user typed is escaped by Jinja2's autoescaping.
 """
 from __future__ import annotations
 
-import re
 from collections import defaultdict
 
 from jinja2 import Environment, PackageLoader, select_autoescape
@@ -14,16 +13,14 @@ from .. import __version__, phase_colours
 from ..core.thresholds import SOURCES
 from ..storage import repo
 from ..storage.ids import local_text, utc_now
+from ..textsafe import printable
 from .svg import phasor_svg
-
-_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f]")
-
 
 def _no_controls(value):
     """Every value printed into the page: control characters (never meaningful in a report) become U+FFFD."""
     if isinstance(value, Markup):  # our own SVG, built from escaped parts
         return value
-    return _CONTROL.sub("\ufffd", value) if isinstance(value, str) else value
+    return printable(value, keep_tab_newline=True) if isinstance(value, str) else value
 
 
 _ENV = Environment(loader=PackageLoader("fieldpad.report", "templates"), finalize=_no_controls,

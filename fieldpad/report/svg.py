@@ -7,7 +7,13 @@ currents are dashed, so nothing is told by colour alone.
 from __future__ import annotations
 
 import math
-from html import escape
+from html import escape as _html_escape
+
+from ..textsafe import printable
+
+
+def escape(text) -> str:
+    return _html_escape(printable(text))
 
 
 def phasor_svg(arrows, size: int = 220, rotation: str | None = None, title: str = "") -> str:

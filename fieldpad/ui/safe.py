@@ -1,14 +1,7 @@
 """Stored text on the terminal: control characters never reach the terminal raw."""
 from __future__ import annotations
 
-import re
-
-_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029]")
-
-
-def printable(text) -> str:
-    """Text with every control character shown as a visible placeholder (U+FFFD)."""
-    return _CONTROL.sub("\ufffd", "" if text is None else str(text))
+from ..textsafe import printable
 
 
 def markup_safe(text) -> str:
@@ -16,3 +9,6 @@ def markup_safe(text) -> str:
     from rich.markup import escape
 
     return escape(printable(text))
+
+
+__all__ = ["printable", "markup_safe"]
