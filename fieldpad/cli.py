@@ -28,30 +28,16 @@ def _read_input(path: str) -> bytes:
 
 
 def cmd_compute(args) -> int:
-    from .core.readings import validate_record
-    from .core.results import RESULT_FIELDS, analyze_records
-    from .records_io import InputError, extra_columns_problem, parse_records, write_csv, write_json
+    from .compute_cmd import check_input, write_results
+    from .records_io import InputError
 
     try:
-        parsed = parse_records(_read_input(args.file))
+        kind, clean, problems = check_input(_read_input(args.file))
     except (InputError, OSError) as e:
         return _report_problems([f"{args.file}: {e.strerror if isinstance(e, OSError) else e}"])
-    problems, clean = [], []
-    for where, rec in parsed.records:
-        extra = extra_columns_problem(rec)
-        if extra:
-            problems.append(f"{where}: {extra[0]}: {extra[1]}")
-            continue
-        c, probs = validate_record(rec)
-        problems.extend(f"{where}: {field}: {reason}" for field, reason in probs)
-        clean.append(c)
     if problems:
         return _report_problems(problems)
-    results = analyze_records(clean)
-    if args.format == "csv":
-        sys.stdout.write(write_csv(results, RESULT_FIELDS))
-    else:
-        sys.stdout.write(write_json(results, single=parsed.kind == "json-object"))
+    write_results(clean, kind, args.format, sys.stdout)
     return 0
 
 

@@ -47,6 +47,8 @@ def parse_records(data: bytes) -> ParsedInput:
             raise InputError(f"line {e.lineno} column {e.colno}: malformed JSON ({e.msg})") from None
         except ValueError as e:
             raise InputError(f"malformed JSON: {e}") from None
+        except RecursionError:
+            raise InputError("malformed JSON: nested too deeply to be readings") from None
         if isinstance(obj, dict):
             return ParsedInput([("record 1", obj)], "json-object")
         if not obj:
@@ -100,10 +102,6 @@ def extra_columns_problem(record: dict):
     if "__extra__" in record:
         return ("(row)", f"{record['__extra__']} more value(s) than the header has columns")
     return None
-
-
-def write_json(records, single: bool) -> str:
-    return json.dumps(records[0] if single else records, ensure_ascii=False, indent=2) + "\n"
 
 
 def csv_cell(value):

@@ -2,43 +2,16 @@
 
 The robustness run (tests/robustness/run.py) does the same at larger counts.
 """
-import os
 import random
-import signal
 import subprocess
 import sys
-import time
 from pathlib import Path
 
-from fieldpad.storage import repo
-from fieldpad.storage.db import check, open_db
+from fieldpad.storage.db import open_db
 
-WRITER = str(Path(__file__).parent / "robustness" / "writer.py")
-
-
-def _setup(path):
-    db = open_db(path)
-    sid = repo.create_site(db, "Crash Yard")
-    bid = repo.create_board(db, sid, "DB-1")
-    db.close()
-    return bid
-
-
-def kill_test(path, board, kills, rng):
-    """Start a writer, SIGKILL it at a random moment, repeat; return (reported, lost, integrity problems)."""
-    reported = set()
-    for _ in range(kills):
-        p = subprocess.Popen([sys.executable, WRITER, str(path), board, "100000"], stdout=subprocess.PIPE,
-                             text=True)
-        time.sleep(rng.uniform(0.3, 1.2))
-        p.send_signal(signal.SIGKILL)
-        out, _ = p.communicate()
-        reported |= {line for line in out.splitlines() if line and not line.startswith("error")}
-    db = open_db(path)
-    stored = {r["reading_id"] for r in db.query("SELECT reading_id FROM reading")}
-    problems = check(db)
-    db.close()
-    return reported, reported - stored, problems
+sys.path.insert(0, str(Path(__file__).parent / "robustness"))
+from crash import WRITER, kill_test  # noqa: E402
+from crash import setup as _setup  # noqa: E402
 
 
 def test_sigkill_loses_no_committed_reading(tmp_path):

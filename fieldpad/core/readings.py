@@ -133,6 +133,14 @@ def parse_value(value, kind: str):
     return x
 
 
+def _field_name(key) -> str:
+    """A field name as shown in a message: quoted when empty or odd (a ':' or a control character)."""
+    key = str(key)
+    if re.fullmatch(r"[A-Za-z0-9_ .()-]+", key):
+        return key
+    return "(empty field name)" if key == "" else repr(key)[:60]
+
+
 def _empty(value) -> bool:
     return value is None or (isinstance(value, str) and not value.strip())
 
@@ -164,7 +172,7 @@ def validate_record(record: dict, extra_fields=()) -> tuple[dict, list[tuple[str
     extra = set(extra_fields)
     for key in record:
         if key not in FIELD_KIND and key not in ("system", "standard") and key not in extra:
-            problems.append((str(key), "unknown field"))
+            problems.append((_field_name(key), "unknown field"))
     system = record.get("system")
     system = "wye" if system is None or str(system).strip() == "" else str(system).strip().lower()
     if system not in SYSTEMS:

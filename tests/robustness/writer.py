@@ -1,11 +1,12 @@
 """A writer process for crash and concurrency tests.
 
-Usage: python writer.py DB BOARD_ID N [--import]
-Saves N readings (or imports N one-record files) and prints each reading id
+Usage: python writer.py DB BOARD_ID N [SECONDS]
+Saves up to N readings (for at most SECONDS if given) and prints each reading id
 on its own line once it is committed, flushing at once, so the parent knows
 exactly what was reported saved.  Prints "error: ..." for any error.
 """
 import sys
+import time
 
 from fieldpad.storage import repo
 from fieldpad.storage.db import open_db
@@ -16,8 +17,11 @@ BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "
 
 def main():
     path, board, n = sys.argv[1], sys.argv[2], int(sys.argv[3])
+    end = time.time() + float(sys.argv[4]) if len(sys.argv) > 4 else float("inf")
     db = open_db(path)
     for k in range(n):
+        if time.time() > end:
+            break
         try:
             s = repo.save_reading(db, board, {**BAL, "va": str(270 + k % 10)}, technician="writer",
                                   note=f"loop {k}")

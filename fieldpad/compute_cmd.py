@@ -1,0 +1,52 @@
+"""``fieldpad compute``: check every record first, then analyse and write in blocks.
+
+Nothing is written unless every record is usable (bad input: exit status 2,
+one line per problem on stderr).  Results are produced a block at a time so a
+large file does not hold every result in memory at once.
+"""
+from __future__ import annotations
+
+import json
+
+from .core.readings import validate_record
+from .core.results import RESULT_FIELDS, analyze_records
+from .records_io import extra_columns_problem, parse_records, write_csv
+
+BLOCK = 20_000
+
+
+def check_input(data: bytes):
+    """Parse and validate; returns (kind, clean records, problem lines).
+
+    Raises :class:`fieldpad.records_io.InputError` for input that cannot be read at all.
+    """
+    parsed = parse_records(data)
+    problems, clean = [], []
+    for where, rec in parsed.records:
+        extra = extra_columns_problem(rec)
+        if extra:
+            problems.append(f"{where}: {extra[0]}: {extra[1]}")
+            continue
+        c, probs = validate_record(rec)
+        problems.extend(f"{where}: {field}: {reason}" for field, reason in probs)
+        clean.append(c)
+    parsed.records = None  # free the raw records before the analysis
+    return parsed.kind, clean, problems
+
+
+def write_results(clean: list[dict], kind: str, fmt: str, out) -> None:
+    """Analyse and write results to the text stream ``out`` (JSON or CSV)."""
+    if fmt == "csv":
+        for start in range(0, len(clean), BLOCK):
+            text = write_csv(analyze_records(clean[start:start + BLOCK]), RESULT_FIELDS)
+            out.write(text if start == 0 else text.split("\n", 1)[1])
+        return
+    if kind == "json-object":
+        out.write(json.dumps(analyze_records(clean)[0], ensure_ascii=False, indent=2) + "\n")
+        return
+    out.write("[")
+    for start in range(0, len(clean), BLOCK):
+        block = analyze_records(clean[start:start + BLOCK])
+        body = ",\n".join(json.dumps(r, ensure_ascii=False, indent=2) for r in block)
+        out.write(("\n" if start == 0 else ",\n") + body)
+    out.write("\n]\n")
