@@ -96,9 +96,10 @@ def draw(arrows: list[Arrow], width: int, height: int, rotation: str | None = No
     c.put(c.w - 4, c.h // 2 if c.h > 2 else 0, "0°", "#8a8a8a")
     body = c.render()
     legend = Text(no_wrap=True, overflow="crop")
-    legend.append("V solid, I dotted; own scales", "#8a8a8a")
     if rotation:
-        legend.append(f"  rot {rotation}", "bold")
+        legend.append(f"rotation {rotation}  ", "bold")
+    legend.append("V solid, I dotted; own scales", "#8a8a8a")
+    legend.truncate(c.w)
     body.append("\n")
     body.append_text(legend)
     return body
