@@ -10,6 +10,7 @@ from textual.widgets import DataTable, Footer, Input, Label, Select, Static
 
 from ..storage import repo
 from ..storage.ids import local_text
+from .tables import selected_key
 from .safe import markup_safe, printable
 
 SYSTEMS = [("3-phase 4-wire wye", "wye"), ("3-phase 3-wire delta (line-to-line only)", "delta"),
@@ -209,10 +210,7 @@ class BoardList(Screen):
         self.query_one("#home-hint", Static).update(hint)
 
     def _selected(self) -> str | None:
-        t = self.query_one(DataTable)
-        if t.row_count == 0:
-            return None
-        return t.coordinate_to_cell_key(t.cursor_coordinate).row_key.value
+        return selected_key(self.query_one(DataTable))
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
         self.action_open()

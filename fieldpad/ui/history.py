@@ -11,6 +11,7 @@ from ..report.export import analyze_rows
 from ..storage import repo
 from ..storage.ids import local_text
 from .dialogs import AskReason, TextPage
+from .tables import selected_key
 from .safe import printable
 
 
@@ -58,10 +59,7 @@ class BoardHistory(Screen):
                           key=r["reading_id"])
 
     def _selected(self) -> str | None:
-        table = self.query_one(DataTable)
-        if table.row_count == 0:
-            return None
-        return table.coordinate_to_cell_key(table.cursor_coordinate).row_key.value
+        return selected_key(self.query_one(DataTable))
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
         self.action_versions()

@@ -18,6 +18,7 @@ from ..storage.ids import local_text
 from .dialogs import AskText, TextPage
 from .results_view import findings_text, results_text
 from .safe import printable
+from .tables import selected_key
 
 SEVERITY_RANK = {"alarm": 0, "warning": 1, "info": 2, None: 3}
 SORTS = ("time", "board", "worst finding", "VUF", "NEMA")
@@ -111,11 +112,8 @@ class DayReview(Screen):
             else "No readings on this day: [ and ] change the day.")
 
     def _selected(self):
-        t = self.query_one(DataTable)
-        if t.row_count == 0:
-            return None
-        rid = t.coordinate_to_cell_key(t.cursor_coordinate).row_key.value
-        return next(r for r in self.records if r["reading_id"] == rid)
+        rid = selected_key(self.query_one(DataTable))
+        return next((r for r in self.records if r["reading_id"] == rid), None)
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
         rec = self._selected()
@@ -140,22 +138,18 @@ class DayReview(Screen):
         self.reload()
 
     def action_filter_board(self) -> None:
-        self.app.push_screen(AskText("Show only boards whose name contains (empty = all):", required=False,
-                                     value=self.board_filter), self._set_board)
-
-    def _set_board(self, text) -> None:
-        if text is not None:
-            self.board_filter = text
-            self.reload()
+        self._ask_filter("board_filter", "boards whose name")
 
     def action_filter_tech(self) -> None:
-        self.app.push_screen(AskText("Show only technicians whose name contains (empty = all):", required=False,
-                                     value=self.tech_filter), self._set_tech)
+        self._ask_filter("tech_filter", "technicians whose name")
 
-    def _set_tech(self, text) -> None:
-        if text is not None:
-            self.tech_filter = text
-            self.reload()
+    def _ask_filter(self, attr: str, what: str) -> None:
+        def done(text) -> None:
+            if text is not None:
+                setattr(self, attr, text)
+                self.reload()
+        self.app.push_screen(AskText(f"Show only {what} contains (empty = all):", required=False,
+                                     value=getattr(self, attr)), done)
 
     def action_sort(self) -> None:
         self.sort = (self.sort + 1) % len(SORTS)
