@@ -169,19 +169,21 @@ def cmd_db(args) -> int:
 def cmd_app(args) -> int:
     from .ui.app import run_app
 
-    return run_app(args.db, demo=False)
+    return run_app(args.db, demo=False, technician=args.technician)
 
 
 def cmd_demo(args) -> int:
     from .ui.app import run_app
 
-    return run_app(args.db, demo=True)
+    return run_app(args.db, demo=True, technician=args.technician)
 
 
 def build_parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(prog="fieldpad", description="Switchboard readings: entry, checks and records. "
                                 "Run without a command to open the entry app.")
     p.add_argument("--db", metavar="PATH", help="database file (default: $FIELDPAD_DB or the user data folder)")
+    p.add_argument("--technician", metavar="NAME",
+                   help="name that signs the readings (default: $FIELDPAD_TECHNICIAN, else your login name)")
     p.set_defaults(func=cmd_app)
     sub = p.add_subparsers(dest="command")
     db_opt = argparse.ArgumentParser(add_help=False)
@@ -213,9 +215,12 @@ def build_parser() -> argparse.ArgumentParser:
     d.add_argument("dest", nargs="?", metavar="DEST")
     d.set_defaults(func=cmd_db)
 
-    a = sub.add_parser("app", parents=[db_opt], help="open the entry app (the default)")
+    who = argparse.ArgumentParser(add_help=False)
+    who.add_argument("--technician", metavar="NAME", default=argparse.SUPPRESS,
+                     help="name that signs the readings (default: $FIELDPAD_TECHNICIAN, else your login name)")
+    a = sub.add_parser("app", parents=[db_opt, who], help="open the entry app (the default)")
     a.set_defaults(func=cmd_app)
-    dm = sub.add_parser("demo", parents=[db_opt],
+    dm = sub.add_parser("demo", parents=[db_opt, who],
                         help="open the app on a fresh copy of the invented demo site (own file)")
     dm.set_defaults(func=cmd_demo)
     return p
@@ -228,6 +233,8 @@ def main(argv=None) -> int:
     args = parser.parse_args(argv)
     if not hasattr(args, "db"):
         args.db = None
+    if not hasattr(args, "technician"):
+        args.technician = None
     try:
         return args.func(args)
     except StorageError as e:

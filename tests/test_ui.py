@@ -223,3 +223,19 @@ async def test_day_review_filters_compare_and_export(tmp_path, monkeypatch):
         await pilot.pause()
         files = list(tmp_path.glob("fieldpad-*.csv"))
         assert len(files) == 1 and files[0].read_text(encoding="utf-8-sig").count("\n") == 24
+
+
+async def test_command_palette_offers_the_screen_commands(tmp_path):
+    from fieldpad.ui.review import DayReview
+
+    seeded(tmp_path / "p.db")
+    app = FieldpadApp(tmp_path / "p.db", technician="T")
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        await pilot.press("ctrl+p")
+        await pilot.pause()
+        await pilot.press(*"Day review")
+        await pilot.pause(0.5)
+        await pilot.press("enter")
+        await pilot.pause(0.5)
+        assert isinstance(app.screen, DayReview)

@@ -68,7 +68,7 @@ def _who() -> str | None:
         return None
 
 
-def run_app(db_arg, demo: bool = False) -> int:
+def run_app(db_arg, demo: bool = False, technician: str | None = None) -> int:
     note = None
     if demo:
         from ..demo_site import build_demo
@@ -82,7 +82,7 @@ def run_app(db_arg, demo: bool = False) -> int:
     else:
         from ..storage.db import resolve_path
         path = resolve_path(db_arg)
-    app = FieldpadApp(path, note=note)
+    app = FieldpadApp(path, note=note, technician=technician)
     app.run()
     if demo:
         print(f"The demo database is kept in {path} (delete it when done).")
