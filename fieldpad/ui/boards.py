@@ -10,8 +10,9 @@ from textual.widgets import DataTable, Footer, Input, Label, Select, Static
 
 from ..storage import repo
 from ..storage.ids import local_text
-from .tables import selected_key
+from .field_input import FieldInput
 from .safe import markup_safe, printable
+from .tables import selected_key
 
 SYSTEMS = [("3-phase 4-wire wye", "wye"), ("3-phase 3-wire delta (line-to-line only)", "delta"),
            ("4-wire high-leg delta", "high-leg-delta"), ("120/240 V split-phase", "split-phase")]
@@ -20,8 +21,11 @@ SYSTEMS = [("3-phase 4-wire wye", "wye"), ("3-phase 3-wire delta (line-to-line o
 class BoardForm(ModalScreen[str | None]):
     """Create or edit a board, with its arc-flash label data."""
 
-    BINDINGS = [Binding("f2", "save", "Save", priority=True), Binding("ctrl+s", "save", "Save", show=False,
-                                                                      priority=True),
+    AUTO_FOCUS = "#name"
+
+    # Not priority bindings: a priority binding runs before the keys typed just ahead of it reach the
+    # field, so a fast "…0 F2" could save without the last characters.
+    BINDINGS = [Binding("f2", "save", "Save"), Binding("ctrl+s", "save", "Save", show=False),
                 Binding("escape", "cancel", "Cancel")]
 
     FIELDS = [("name", "Name / tag *"), ("location", "Location"), ("kind", "Kind (switchboard, panelboard, MCC…)"),
@@ -41,11 +45,12 @@ class BoardForm(ModalScreen[str | None]):
         with VerticalScroll(classes="form"):
             yield Static("[b]Edit board[/b]" if self.board_id else "[b]New board[/b]")
             yield Label("System")
-            yield Select(SYSTEMS, value=board.get("system", "wye"), allow_blank=False, id="system")
+            yield Select(SYSTEMS, value=board.get("system", "wye"), allow_blank=False, id="system", compact=True)
             for field, label in self.FIELDS:
                 yield Label(label)
                 v = board.get(field)
-                yield Input(value="" if v is None else (f"{v:g}" if isinstance(v, float) else str(v)), id=field)
+                yield FieldInput(value="" if v is None else (f"{v:g}" if isinstance(v, float) else str(v)), id=field,
+                            compact=True)
             yield Static(id="form-error")
         yield Footer()
 
@@ -76,20 +81,23 @@ class BoardForm(ModalScreen[str | None]):
 class SiteForm(ModalScreen[str | None]):
     """Create a site."""
 
-    BINDINGS = [Binding("f2", "save", "Save", priority=True), Binding("ctrl+s", "save", "Save", show=False,
-                                                                      priority=True),
+    AUTO_FOCUS = "#name"
+
+    # Not priority bindings: a priority binding runs before the keys typed just ahead of it reach the
+    # field, so a fast "…0 F2" could save without the last characters.
+    BINDINGS = [Binding("f2", "save", "Save"), Binding("ctrl+s", "save", "Save", show=False),
                 Binding("escape", "cancel", "Cancel")]
 
     def compose(self) -> ComposeResult:
         with VerticalScroll(classes="form"):
             yield Static("[b]New site[/b] — F2 to save")
             yield Label("Site name *")
-            yield Input(id="name")
+            yield FieldInput(id="name", compact=True)
             yield Label("Address or description")
-            yield Input(id="description")
+            yield FieldInput(id="description", compact=True)
             yield Label("Voltage limits for warnings")
             yield Select([("ANSI C84.1 Range A / B", "ansi"), ("IEC 60038 ±10 %", "iec")], value="ansi",
-                         allow_blank=False, id="voltage_standard")
+                         allow_blank=False, id="voltage_standard", compact=True)
             yield Label("Phase labels")
             yield Select([("A / B / C", "ABC"), ("L1 / L2 / L3", "L123")], value="ABC", allow_blank=False,
                          id="phase_labels")
@@ -97,7 +105,7 @@ class SiteForm(ModalScreen[str | None]):
             yield Select([("IEC 60445: brown, black, grey; blue neutral", "iec60445"),
                           ("208Y/120: black, red, blue; white neutral", "na-208y120"),
                           ("480Y/277: brown, orange, yellow; grey neutral", "na-480y277")],
-                         value="iec60445", allow_blank=False, id="colour_set")
+                         value="iec60445", allow_blank=False, id="colour_set", compact=True)
             yield Static(id="form-error")
         yield Footer()
 

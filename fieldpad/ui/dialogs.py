@@ -7,6 +7,8 @@ from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Static
 
+from .field_input import FieldInput
+
 HELP = """\
 [b]fieldpad — keys[/b]  (everything works from the keyboard)
 
@@ -79,7 +81,7 @@ class AskText(ModalScreen[str | None]):
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
             yield Static(self.question, classes="question")
-            yield Input(value=self.value, placeholder=self.placeholder, id="answer", max_length=2000)
+            yield FieldInput(value=self.value, placeholder=self.placeholder, id="answer", max_length=2000)
             yield Static("Enter to confirm, Esc to cancel", classes="hint", id="answer-hint")
 
     def on_mount(self) -> None:

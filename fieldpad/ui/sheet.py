@@ -61,8 +61,10 @@ class ReadingSheet(Screen):
     """One board's readings: type, see the results live, save."""
 
     BINDINGS = [
-        Binding("f2", "save", "Save", priority=True),
-        Binding("ctrl+s", "save", "Save", show=False, priority=True),
+        # Not priority bindings: those run before the keys typed just ahead of them reach the grid,
+        # so "…7 F2" typed fast could save without the last digit.
+        Binding("f2", "save", "Save"),
+        Binding("ctrl+s", "save", "Save", show=False),
         Binding("f3", "previous", "Prev"),
         Binding("f4", "history", "Hist"),
         Binding("f5", "mode", "Mode"),
