@@ -182,8 +182,8 @@ class BoardList(Screen):
         t = self.query_one(DataTable)
         t.add_columns("board", "location", "system", "V", "last reading", "round")
         self.query_one("#home-caution", Static).update(Text(
-            "⚠ Energised equipment: qualified persons, work permit and the PPE on each board's arc-flash "
-            "label; local codes govern. fieldpad never shows that equipment is safe."))
+            "⚠ Energised equipment: qualified persons, permit, PPE per the board's arc-flash label; "
+            "local codes govern. fieldpad never shows that equipment is safe."))
         self.reload()
         t.focus()
 

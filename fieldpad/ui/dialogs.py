@@ -10,38 +10,45 @@ from textual.widgets import Footer, Input, Static
 from .field_input import FieldInput
 
 HELP = """\
-[b]fieldpad — keys[/b]  (everything works from the keyboard)
+[b]fieldpad — keys[/b] (everything works from the keyboard)
 
 [b]Board list[/b]
-  Enter  open the board's reading sheet      n  new board      e  edit board
-  r      start / finish a round              s  sites          h  board history
-  v      day review (all readings of a day)  q  quit
-
-[b]Day review[/b]
-  f  findings only   b  filter by board   t  filter by technician   o  change the sort
-  [ ]  previous / next day   Enter  a reading in full   c  compare two rounds   x  export
+  Enter   open the board's reading sheet
+  n / e   new board / edit board (arc-flash label data too)
+  r       start or finish a round      h   board history
+  v       day review                   s   sites
+  q       quit
 
 [b]Reading sheet[/b]
-  Tab / Enter     next field (A, B, C; magnitude then angle; then N)
-  Shift+Tab       previous field      Up/Down  same column, other phase
-  Backspace       delete a character  Delete   clear the field
-  F2 or Ctrl+S    save the reading (committed at once; the status line says so)
+  Tab, Enter   next field: A, B, C (magnitude, angle), then N
+  Shift+Tab    previous field;  Up/Down: same column, other phase
+  Backspace    delete a character;  Delete: clear the field
+  F2, Ctrl+S   save: committed at once, the status line says so
   F3  previous reading of this board beside the results
-  F4  history of this board (corrections, voids)
-  F5  entry mode: line-to-neutral / line-to-line + angles / line-to-line only
-  F6  right panel: phasor drawing / per-phase power / findings in full
-  Esc back (asks first if something is typed and not saved)
-  Ctrl+P  command palette      F1  this help
+  F4  history of this board (correct, void; old versions kept)
+  F5  entry: line-to-neutral / line-to-line + angles / LL only
+  F6  right panel: phasors / per-phase power / findings in full
+  Esc back (asks first if typed values are not saved)
+  Ctrl+P  command palette;  F1  this help
+
+[b]Day review[/b]
+  f  findings only    b / t  filter by board / technician
+  o  change the sort  [ ]    previous / next day
+  Enter  a reading in full;  c  compare rounds;  x  export
 
 [b]Typing values[/b]
-  277  277.5  277,5  277V  13.8kV  12A  — angles: -120  240  30 lag  30 lead  -120°
-  Angles are counter-clockwise positive, relative to VA (leave VA's angle empty for 0).
-  A half-typed sheet is kept and offered back if the app or the terminal closes.
+  277  277.5  277,5  277V  13.8kV  12A
+  angles: -120  240  30 lag  30 lead  -120°
+  Angles are counter-clockwise positive, relative to VA
+  (leave VA's angle empty: it is the 0° reference).
+  A half-typed sheet is kept and offered back next time.
 
 [b]Safety[/b]
-  fieldpad never shows that equipment is safe. Work on or near energised equipment only
-  as a qualified person, under the site's energised-work permit, with the PPE the board's
-  arc-flash label calls for. Local codes and licensed practice govern.
+  fieldpad never shows that equipment is safe. Work on or
+  near energised equipment only as a qualified person, under
+  the site's energised-work permit, with the PPE the board's
+  arc-flash label calls for. Local codes and licensed
+  practice govern.
 
 Esc to close.
 """

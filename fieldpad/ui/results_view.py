@@ -63,15 +63,18 @@ def per_phase_text(r: dict | None, labels) -> Text:
     t = Text(no_wrap=True, overflow="ellipsis")
     if r is None:
         return t
-    t.append("Per phase      P        Q      PF\n", "bold")
-    for lab, k in zip(labels, "abc"):
-        t.append(f"{lab:<5} {_si(r[f'p_{k}_w'], 'W'):>10} {_si(r[f'q_{k}_var'], 'var'):>10} "
-                 f"{_f(r[f'pf_{k}'], '{:.2f}'):>6}\n")
-    t.append(f"Total {_si(r['p_w'], 'W'):>10} {_si(r['q_var'], 'var'):>10} {_f(r['pf'], '{:.2f}'):>6}\n")
-    t.append(f"S arithmetic {_si(r['s_va'], 'VA')}, vector {_si(r['s_vector_va'], 'VA')}\n")
+
+    def k(x):
+        return "—" if x is None else f"{x / 1000:.2f}"
+
+    t.append(f"{'':<6}{'kW':>8}{'kvar':>8}{'PF':>6}\n", "bold")
+    for lab, ph in zip(labels, "abc"):
+        t.append(f"{lab:<6}{k(r[f'p_{ph}_w']):>8}{k(r[f'q_{ph}_var']):>8}{_f(r[f'pf_{ph}'], '{:.2f}'):>6}\n")
+    t.append(f"{'Total':<6}{k(r['p_w']):>8}{k(r['q_var']):>8}{_f(r['pf'], '{:.2f}'):>6}\n", "bold")
+    t.append(f"S arith. {_si(r['s_va'], 'VA')}\nS vector {_si(r['s_vector_va'], 'VA')}\n")
     t.append("Q > 0: current lags (IEEE 1459)\n", "#8a8a8a")
     if r.get("i_n_diff") is not None:
-        t.append(f"Neutral measured − calc: {r['i_n_diff']:+.1f} A\n")
+        t.append(f"IN measured − calc {r['i_n_diff']:+.1f} A\n")
     if r.get("high_leg"):
         t.append(f"High leg: {r['high_leg']}\n")
     return t
