@@ -1,5 +1,4 @@
 """The field database against real SQLite files in a temporary folder."""
-import json
 import os
 import sqlite3
 import stat

@@ -227,10 +227,10 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     x0, x1, x2 = sequence_components_cols(Va, Vb, Vc)  # line-to-neutral set
     if use_ll.any():
         l0, l1, l2 = sequence_components_cols(Vab, Vbc, Vca)
-        e = ln_equivalent_from_ll(np.stack([l0, l1, l2], axis=-1)[use_ll])
-        x0 = np.where(use_ll, np.nan, x0)
-        x1 = x1.copy(); x1[use_ll] = e[:, 1]
-        x2 = x2.copy(); x2[use_ll] = e[:, 2]
+        e = ln_equivalent_from_ll(np.stack([l0, l1, l2], axis=-1))
+        x0 = np.where(use_ll, CNAN, x0)
+        x1 = np.where(use_ll, e[:, 1], x1)
+        x2 = np.where(use_ll, e[:, 2], x2)
         r1 = np.where(use_ll, np.abs(l1), np.nan)  # the line-to-line set decides rotation
         r2 = np.where(use_ll, np.abs(l2), np.nan)
     else:

@@ -44,12 +44,14 @@ class Thresholds:
 
 #: Where each default comes from (shown beside every finding).
 SOURCES = {
-    "vuf_pct": "EN 50160:2010 clause 4.2.5 (LV supply: 10-min negative-sequence unbalance within 0-2 %)",
+    "vuf_pct": "EN 50160:2010 clause 4.2.5 (LV supply: 10-min negative-sequence unbalance "
+               "within 0-2 %)",
     "lvur_pct": "NEMA MG 1 Part 14.36 (motor derating above 1 % line-voltage unbalance)",
     "lvur_max_pct": "NEMA MG 1 Part 14.36 (operation above 5 % unbalance not recommended)",
     "iur_pct": "common practice (current unbalance is typically 6-10 times the voltage unbalance)",
     "neutral_ratio": "common practice",
-    "neutral_overload_ratio": "common practice (a neutral sized like the phases carries no more than the highest phase)",
+    "neutral_overload_ratio": "common practice (a neutral sized like the phases carries no more than "
+                              "the highest phase)",
     "neutral_mismatch_ratio": "common practice",
     "collapse_ratio": "common practice",
     "dominance": "common practice",

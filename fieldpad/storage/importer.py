@@ -95,7 +95,7 @@ def import_bytes(db, data: bytes, progress=None) -> ImportReport:
     with write(db):
         site_ids, site_std, board_rows, round_ids = {}, {}, {}, {}
         rows = []
-        for k, (where, clean, rec, system_given) in enumerate(prepared):
+        for k, (_where, clean, rec, system_given) in enumerate(prepared):
             sname, bname = clean["site"], clean["board"]
             if sname not in site_ids:
                 s = repo.find_site(db, sname)

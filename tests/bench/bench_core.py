@@ -28,7 +28,7 @@ A = cmath.exp(2j * math.pi / 3)
 def random_readings(n: int, seed: int = 1):
     rng = np.random.default_rng(seed)
     cols = {}
-    for k, (name, base) in enumerate((("va", 0.0), ("vb", -120.0), ("vc", 120.0))):
+    for name, base in (("va", 0.0), ("vb", -120.0), ("vc", 120.0)):
         cols[name] = 277.0 * (1 + 0.03 * rng.standard_normal(n))
         cols[name + "_deg"] = base + 2.0 * rng.standard_normal(n)
     for name, base in (("ia", -30.0), ("ib", -150.0), ("ic", 90.0)):
