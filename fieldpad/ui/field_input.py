@@ -15,6 +15,8 @@ from textual.widgets import Input
 class FieldInput(Input):
     def __init__(self, *args, **kwargs) -> None:
         kwargs.setdefault("compact", True)
+        # Selecting the text on focus would let the next key replace what was already passed on.
+        kwargs.setdefault("select_on_focus", False)
         super().__init__(*args, **kwargs)
 
     async def _on_key(self, event: events.Key) -> None:
