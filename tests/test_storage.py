@@ -175,3 +175,14 @@ def test_backup_and_check(db, board, tmp_path):
     with pytest.raises(StorageError, match="already exists"):
         backup(db, dest)
     assert check(db) == []
+
+
+def test_site_thresholds_are_validated_and_stored(db):
+    sid = repo.create_site(db, "T", thresholds={"vuf_pct": "1,5"})
+    assert repo.site_thresholds(repo.get_site(db, sid)).vuf_pct == 1.5
+    repo.update_site(db, sid, thresholds={"lvur_pct": "0.8", "vuf_pct": ""}, label_review_years="4")
+    site = repo.get_site(db, sid)
+    assert repo.site_thresholds(site).lvur_pct == 0.8 and repo.site_thresholds(site).vuf_pct == 2.0
+    with pytest.raises(repo.ValidationError) as e:
+        repo.update_site(db, sid, thresholds={"vuf_pct": "lots", "bogus": "1"}, label_review_years="-1")
+    assert {f for f, _ in e.value.problems} == {"vuf_pct", "thresholds", "label_review_years"}

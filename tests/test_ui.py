@@ -275,3 +275,31 @@ def test_fast_burst_in_the_board_form(tmp_path):
     assert (b["location"], b["kind"], b["nominal_v"], b["frequency_hz"], b["af_incident_energy_cal_cm2"],
             b["af_working_distance_mm"], b["af_boundary_mm"], b["af_ppe"], b["af_label_date"]) == (
         "Roof plant", "panelboard", 208.0, 60.0, 1.5, 455.0, 600.0, "1", "2025-01-31")
+
+
+async def test_site_settings_change_thresholds_and_findings_follow(tmp_path):
+    from fieldpad.storage.repo import site_thresholds
+
+    seeded(tmp_path / "t.db")
+    app = FieldpadApp(tmp_path / "t.db", technician="Sup")
+    async with app.run_test(size=(100, 40)) as pilot:
+        await pilot.pause()
+        await pilot.press("s")
+        await pilot.pause()
+        await pilot.press("e")
+        await pilot.pause()
+        form = app.screen
+        form.query_one("#th-lvur_pct").value = "0.5"
+        form.query_one("#label_review_years").value = "3"
+        await pilot.press("f2")
+        await pilot.pause()
+        site = repo.get_site(app.db, app.site_id)
+        assert site_thresholds(site).lvur_pct == 0.5 and site["label_review_years"] == 3.0
+        form_again = None
+        await pilot.press("s", "e")
+        await pilot.pause()
+        form_again = app.screen
+        form_again.query_one("#th-vuf_pct").value = "abc"
+        await pilot.press("f2")
+        await pilot.pause()
+        assert "vuf_pct" in str(form_again.query_one("#form-error").render())

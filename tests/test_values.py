@@ -19,7 +19,8 @@ def test_accepted(text, kind, expected):
     ("abc", "V", "not a number"), ("nan", "V", "finite"), ("-Infinity", "A", "finite"), ("1,234", "V", "ambiguous"),
     ("1.234,5", "V", "decimal separator"), ("277A", "V", "not a unit for a voltage"), ("12 V", "A", "not a unit"),
     ("-1", "A", "negative"), ("50000", "V", "too large"), ("400", "deg", "outside"), (True, "V", "not a number"),
-    ("1_000", "V", "not a unit"), (float("nan"), "V", "finite"),
+    ("1_000", "V", "not a unit"), (float("nan"), "V", "finite"), ("0\x1f", "V", "control character"),
+    ("\u0663", "V", "not a number"),  # an Arabic-Indic digit: only ASCII digits are read
 ])
 def test_refused_with_reason(text, kind, reason):
     with pytest.raises(ReadingError, match=reason):

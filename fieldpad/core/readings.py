@@ -50,8 +50,10 @@ READING_FIELDS = ("system",) + NUMERIC_FIELDS + ("standard",)
 #: Nominal voltages that are IEC-world values; any other nominal defaults to ANSI.
 IEC_NOMINALS = {220.0, 230.0, 380.0, 400.0, 415.0, 660.0, 690.0, 1000.0}
 
-_PLAIN = re.compile(r"\s*[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?\s*")
-_NUMBER = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?")
+# ASCII digits and blanks only: \d and \s would also take other scripts' digits and separators
+# such as U+001F that float() does not accept.
+_PLAIN = re.compile(r"[ \t]*[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?[ \t]*")
+_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _SUFFIX = {
     VOLTS: {"": 1.0, "v": 1.0, "kv": 1000.0},
     AMPS: {"": 1.0, "a": 1.0, "ka": 1000.0},
@@ -97,6 +99,8 @@ def parse_value(value, kind: str):
     elif isinstance(value, str) and _PLAIN.fullmatch(value):
         x = float(value)  # the common case: a plain decimal number
     elif isinstance(value, str):
+        if any(ord(c) < 32 and c not in " \t" or 0x7f <= ord(c) <= 0x9f for c in value):
+            raise ReadingError(f"{value!r} contains a control character")
         text = value.strip()
         if not text:
             return None

@@ -21,11 +21,8 @@ from ..phase_colours import COLOUR_SETS
 from .db import StorageError, write
 from .ids import utc_now, uuid7
 
-SITE_FIELDS = ("name", "description", "voltage_standard", "phase_labels", "colour_set", "thresholds_json",
-               "label_review_years")
 BOARD_FIELDS = ("name", "location", "kind", "system", "nominal_v", "frequency_hz", "af_incident_energy_cal_cm2",
                 "af_working_distance_mm", "af_boundary_mm", "af_ppe", "af_label_date")
-BOARD_KINDS = ("switchboard", "panelboard", "MCC", "distribution board")
 
 
 class ValidationError(StorageError):
@@ -56,40 +53,82 @@ def _insert(db, table: str, row: dict) -> None:
 
 # ---- sites -----------------------------------------------------------------
 
+def _site_values(fields: dict, problems: list) -> dict:
+    """Check site fields (any subset); ``thresholds`` is a dict of overrides."""
+    out = {}
+    for k, v in fields.items():
+        if k == "name":
+            out[k] = _clean_text(v, "name", problems, required=True, limit=200)
+        elif k == "description":
+            out[k] = _clean_text(v, "description", problems, limit=2000)
+        elif k == "voltage_standard":
+            if v not in ("ansi", "iec"):
+                problems.append((k, "use ansi or iec"))
+            out[k] = v
+        elif k == "phase_labels":
+            if v not in ("ABC", "L123"):
+                problems.append((k, "use ABC or L123"))
+            out[k] = v
+        elif k == "colour_set":
+            if v not in COLOUR_SETS:
+                problems.append((k, f"use one of {', '.join(COLOUR_SETS)}"))
+            out[k] = v
+        elif k == "label_review_years":
+            try:
+                years = float(str(v).replace(",", "."))
+            except ValueError:
+                problems.append((k, f"{v!r} is not a number"))
+                continue
+            if not 0 < years <= 50:
+                problems.append((k, "give a number of years between 0 and 50"))
+            out[k] = years
+        elif k == "thresholds":
+            overrides = {}
+            for name, value in (v or {}).items():
+                if value is None or str(value).strip() == "":
+                    continue
+                try:
+                    x = float(str(value).replace(",", "."))
+                except ValueError:
+                    problems.append((name, f"{value!r} is not a number"))
+                    continue
+                if not 0 <= x < 1e6:
+                    problems.append((name, f"{value!r} is not a plausible threshold"))
+                    continue
+                overrides[name] = x
+            try:
+                Thresholds().with_overrides(overrides)
+            except KeyError as e:
+                problems.append(("thresholds", str(e).strip("'\"")))
+            out["thresholds_json"] = json.dumps(overrides, sort_keys=True)
+        else:
+            problems.append((k, "unknown site field"))
+    return out
+
+
 def create_site(db, name, *, description=None, voltage_standard="ansi", phase_labels="ABC",
                 colour_set="iec60445", thresholds=None, label_review_years=5.0, site_id=None) -> str:
     problems: list = []
-    name = _clean_text(name, "name", problems, required=True, limit=200)
-    if voltage_standard not in ("ansi", "iec"):
-        problems.append(("voltage_standard", "use ansi or iec"))
-    if phase_labels not in ("ABC", "L123"):
-        problems.append(("phase_labels", "use ABC or L123"))
-    if colour_set not in COLOUR_SETS:
-        problems.append(("colour_set", f"use one of {', '.join(COLOUR_SETS)}"))
-    try:
-        Thresholds().with_overrides(thresholds or {})
-    except (KeyError, TypeError, ValueError) as e:
-        problems.append(("thresholds", str(e)))
+    values = _site_values({"name": name, "description": description, "voltage_standard": voltage_standard,
+                           "phase_labels": phase_labels, "colour_set": colour_set,
+                           "label_review_years": label_review_years, "thresholds": thresholds or {}}, problems)
     if problems:
         raise ValidationError(problems)
     now = utc_now()
     sid = site_id or uuid7()
     with write(db):
-        db["site"].insert({
-            "id": sid, "name": name, "description": _clean_text(description, "description", []),
-            "voltage_standard": voltage_standard, "phase_labels": phase_labels, "colour_set": colour_set,
-            "thresholds_json": json.dumps(thresholds or {}), "label_review_years": float(label_review_years),
-            "created_at": now, "updated_at": now,
-        })
+        db["site"].insert({"id": sid, **values, "created_at": now, "updated_at": now})
     return sid
 
 
 def update_site(db, site_id, **changes) -> None:
-    bad = set(changes) - set(SITE_FIELDS)
-    if bad:
-        raise ValidationError([(b, "unknown site field") for b in sorted(bad)])
+    """Change site settings; ``thresholds`` (a dict) replaces the site's threshold overrides."""
+    problems: list = []
+    values = _site_values(changes, problems)
+    if problems:
+        raise ValidationError(problems)
     with write(db):
-        db["site"].update(site_id, {**changes, "updated_at": utc_now()})
+        db["site"].update(site_id, {**values, "updated_at": utc_now()})
 
 
 def get_site(db, site_id) -> dict:
@@ -243,11 +282,13 @@ def _reading_row(inputs: dict, board: dict) -> tuple[dict, list]:
 
 
 def _board_for_reading(db, board_id) -> dict:
-    rows = list(db.query("SELECT b.*, s.voltage_standard AS _standard FROM board b JOIN site s ON s.id = b.site_id "
-                         "WHERE b.id = ?", [board_id]))
-    if not rows:
+    # Straight through sqlite3 (on the path of every save; sqlite-utils' query() parses the SQL first).
+    cur = db.conn.execute("SELECT b.*, s.voltage_standard AS _standard FROM board b JOIN site s ON s.id = b.site_id "
+                          "WHERE b.id = ?", [board_id])
+    row = cur.fetchone()
+    if row is None:
         raise StorageError(f"no board {board_id}")
-    return rows[0]
+    return dict(zip([d[0] for d in cur.description], row))
 
 
 def save_reading(db, board_id, inputs: dict, *, technician=None, instrument=None, note=None, round_id=None,

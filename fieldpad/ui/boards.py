@@ -1,6 +1,8 @@
 """The board list (home screen), and the site and board forms."""
 from __future__ import annotations
 
+import json
+
 from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -8,6 +10,7 @@ from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen, Screen
 from textual.widgets import DataTable, Footer, Input, Label, Select, Static
 
+from ..core.thresholds import Thresholds
 from ..storage import repo
 from ..storage.ids import local_text
 from .field_input import FieldInput
@@ -78,48 +81,81 @@ class BoardForm(ModalScreen[str | None]):
         self.dismiss(None)
 
 
+#: Threshold fields shown in the site form: (name, label).
+THRESHOLD_FIELDS = [
+    ("vuf_pct", "VUF warning above (%)"), ("lvur_pct", "NEMA unbalance: derate motors above (%)"),
+    ("lvur_max_pct", "NEMA unbalance: motors not recommended above (%)"),
+    ("iur_pct", "Current unbalance warning above (%)"),
+    ("neutral_ratio", "Neutral / highest phase: warning above"),
+    ("neutral_overload_ratio", "Neutral / highest phase: alarm above"),
+    ("neutral_mismatch_ratio", "Neutral measured vs computed: note above (ratio)"),
+    ("collapse_ratio", "Phase lost below (fraction of the highest)"),
+    ("dominance", "Rotation: one sequence at least N times the other"),
+]
+
+
 class SiteForm(ModalScreen[str | None]):
-    """Create a site."""
+    """Create a site, or edit its settings and its threshold overrides."""
 
     AUTO_FOCUS = "#name"
-
     # Not priority bindings: a priority binding runs before the keys typed just ahead of it reach the
     # field, so a fast "…0 F2" could save without the last characters.
     BINDINGS = [Binding("f2", "save", "Save"), Binding("ctrl+s", "save", "Save", show=False),
                 Binding("escape", "cancel", "Cancel")]
 
+    def __init__(self, site_id: str | None = None) -> None:
+        super().__init__()
+        self.site_id = site_id
+
     def compose(self) -> ComposeResult:
+        site = repo.get_site(self.app.db, self.site_id) if self.site_id else {}
+        overrides = json.loads(site.get("thresholds_json") or "{}")
+        defaults = Thresholds()
         with VerticalScroll(classes="form"):
-            yield Static("[b]New site[/b] — F2 to save")
+            yield Static("[b]Site settings[/b] — F2 to save" if self.site_id else "[b]New site[/b] — F2 to save")
             yield Label("Site name *")
-            yield FieldInput(id="name", compact=True)
+            yield FieldInput(value=site.get("name") or "", id="name")
             yield Label("Address or description")
-            yield FieldInput(id="description", compact=True)
+            yield FieldInput(value=site.get("description") or "", id="description")
             yield Label("Voltage limits for warnings")
-            yield Select([("ANSI C84.1 Range A / B", "ansi"), ("IEC 60038 ±10 %", "iec")], value="ansi",
-                         allow_blank=False, id="voltage_standard", compact=True)
+            yield Select([("ANSI C84.1 Range A / B", "ansi"), ("IEC 60038 ±10 %", "iec")],
+                         value=site.get("voltage_standard", "ansi"), allow_blank=False, id="voltage_standard",
+                         compact=True)
             yield Label("Phase labels")
-            yield Select([("A / B / C", "ABC"), ("L1 / L2 / L3", "L123")], value="ABC", allow_blank=False,
-                         id="phase_labels")
+            yield Select([("A / B / C", "ABC"), ("L1 / L2 / L3", "L123")], value=site.get("phase_labels", "ABC"),
+                         allow_blank=False, id="phase_labels", compact=True)
             yield Label("Phase colours")
             yield Select([("IEC 60445: brown, black, grey; blue neutral", "iec60445"),
                           ("208Y/120: black, red, blue; white neutral", "na-208y120"),
                           ("480Y/277: brown, orange, yellow; grey neutral", "na-480y277")],
-                         value="iec60445", allow_blank=False, id="colour_set", compact=True)
+                         value=site.get("colour_set", "iec60445"), allow_blank=False, id="colour_set", compact=True)
+            yield Label("Arc-flash label review interval (years)")
+            yield FieldInput(value=f"{site.get('label_review_years', 5.0):g}", id="label_review_years")
+            yield Static("[b]Thresholds[/b] (empty = the default shown, from the standard named in each finding)")
+            for name, label in THRESHOLD_FIELDS:
+                yield Label(f"{label} — default {getattr(defaults, name):g}")
+                v = overrides.get(name)
+                yield FieldInput(value="" if v is None else f"{v:g}", placeholder=f"{getattr(defaults, name):g}",
+                                 id=f"th-{name}")
             yield Static(id="form-error")
         yield Footer()
 
-    def on_mount(self) -> None:
-        self.query_one("#name", Input).focus()
-
     def action_save(self) -> None:
+        values = {
+            "name": self.query_one("#name", Input).value,
+            "description": self.query_one("#description", Input).value,
+            "voltage_standard": self.query_one("#voltage_standard", Select).value,
+            "phase_labels": self.query_one("#phase_labels", Select).value,
+            "colour_set": self.query_one("#colour_set", Select).value,
+            "label_review_years": self.query_one("#label_review_years", Input).value or "5",
+            "thresholds": {name: self.query_one(f"#th-{name}", Input).value for name, _ in THRESHOLD_FIELDS},
+        }
         try:
-            sid = repo.create_site(
-                self.app.db, self.query_one("#name", Input).value,
-                description=self.query_one("#description", Input).value,
-                voltage_standard=self.query_one("#voltage_standard", Select).value,
-                phase_labels=self.query_one("#phase_labels", Select).value,
-                colour_set=self.query_one("#colour_set", Select).value)
+            if self.site_id:
+                repo.update_site(self.app.db, self.site_id, **values)
+                sid = self.site_id
+            else:
+                sid = repo.create_site(self.app.db, **values)
         except repo.ValidationError as e:
             self.query_one("#form-error", Static).update(
                 Text("Not saved: " + "; ".join(f"{f}: {r}" for f, r in e.problems), "bold #ff5050"))
@@ -131,11 +167,12 @@ class SiteForm(ModalScreen[str | None]):
 
 
 class SitePicker(ModalScreen[str | None]):
-    BINDINGS = [Binding("n", "new", "New site"), Binding("escape", "cancel", "Cancel")]
+    BINDINGS = [Binding("n", "new", "New site"), Binding("e", "edit", "Edit settings"),
+                Binding("escape", "cancel", "Cancel")]
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
-            yield Static("[b]Sites[/b] — Enter to choose, n for a new one")
+            yield Static("[b]Sites[/b] — Enter to choose, n new site, e settings and thresholds")
             yield DataTable(id="sites", cursor_type="row")
         yield Footer()
 
@@ -151,6 +188,11 @@ class SitePicker(ModalScreen[str | None]):
 
     def action_new(self) -> None:
         self.app.push_screen(SiteForm(), lambda sid: self.dismiss(sid) if sid else None)
+
+    def action_edit(self) -> None:
+        sid = selected_key(self.query_one(DataTable))
+        if sid:
+            self.app.push_screen(SiteForm(sid), lambda changed: self.dismiss(changed) if changed else None)
 
     def action_cancel(self) -> None:
         self.dismiss(None)
