@@ -152,6 +152,8 @@ def test_asymmetric_ansi_range_b_checks_every_phase():
     k = 277.128 / 100
     (r,) = run({**BAL, "va": 105.9 * k, "vb": 100 * k, "vc": 94 * k})
     assert "VOLTAGE_OUT_OF_RANGE" in codes(r)
+    f = next(f for f in r["findings"] if f["code"] == "VOLTAGE_OUT_OF_RANGE")
+    assert f["phase"] == "A" and f["value"] == pytest.approx(5.9, abs=0.01)  # the phase that is out of range
 
 
 def test_blocked_analysis_equals_one_block(monkeypatch):

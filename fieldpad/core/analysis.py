@@ -335,23 +335,21 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     # (nominal / 2), line-to-line voltages for delta and high-leg delta.
     v_nom = col["nominal_v"]
     cmp_nom = np.where(ln_based, np.where(split, v_nom / 2.0, v_nom / SQRT3), v_nom)
-    c1, c2, c3 = (np.where(ln_based, x, y) for x, y in ((ma, uab), (mb, ubc), (mc, uca)))
-    d1, d2, d3 = (nominal.deviation_pct(c, cmp_nom) for c in (c1, c2, c3))
-    ad1, ad2, ad3 = (np.nan_to_num(np.abs(d), nan=-1.0) for d in (d1, d2, d3))
-    worst_ph = np.where((ad1 >= ad2) & (ad1 >= ad3), 0, np.where(ad2 >= ad3, 1, 2))
-    dev_worst = np.where(worst_ph == 0, d1, np.where(worst_ph == 1, d2, d3))
+    inv_nom = np.where(cmp_nom > 0, 1.0 / np.where(cmp_nom > 0, cmp_nom, 1.0), np.nan)
     iec = standard == 1
-    vstat_worst = np.maximum(np.maximum(nominal.status(c1, cmp_nom, nominal.ANSI),
-                                        nominal.status(c2, cmp_nom, nominal.ANSI)),
-                             nominal.status(c3, cmp_nom, nominal.ANSI))
-    if iec.any():
-        st_iec = np.maximum(np.maximum(nominal.status(c1, cmp_nom, nominal.IEC),
-                                       nominal.status(c2, cmp_nom, nominal.IEC)),
-                            nominal.status(c3, cmp_nom, nominal.IEC))
-        vstat_worst = np.where(iec, st_iec, vstat_worst)
+    ratios = [np.where(ln_based, x, y) * inv_nom for x, y in ((ma, uab), (mb, ubc), (mc, uca))]
+    stats = [nominal.status_of_ratio(r, iec) for r in ratios]
+    devs = [100.0 * (r - 1.0) for r in ratios]
+    # The worst phase: the worst range status first, then the largest deviation.
+    keys = [st * 1e6 + np.nan_to_num(np.abs(d), nan=-1.0) for st, d in zip(stats, devs)]
+    worst_ph = np.where((keys[0] >= keys[1]) & (keys[0] >= keys[2]), 0, np.where(keys[1] >= keys[2], 1, 2))
+    dev_worst = np.where(worst_ph == 0, devs[0], np.where(worst_ph == 1, devs[1], devs[2]))
+    vstat_worst = np.maximum(np.maximum(stats[0], stats[1]), stats[2])
 
     hl = (system == HIGH_LEG) & has_ln
-    high_leg_ix = np.where(hl, np.where((ma >= mb) & (ma >= mc), 0, np.where(mb >= mc, 1, 2)), -1)
+    high_leg_ix = np.full(n, -1, np.int8)
+    if hl.any():
+        high_leg_ix = np.where(hl, np.where((ma >= mb) & (ma >= mc), 0, np.where(mb >= mc, 1, 2)), -1)
 
     # Current sequence against voltage sequence: a lead on the wrong phase.
     i_rot = np.where(i1a >= th.dominance * i2a, rot.ABC, np.where(i2a >= th.dominance * i1a, rot.ACB, rot.UNKNOWN))

@@ -42,3 +42,23 @@ def status(v, v_nominal, standard=ANSI):
     r = v / np.where(n > 0, n, np.nan)
     code = np.where((r >= la) & (r <= ha), 0, np.where((r >= lb) & (r <= hb), 1, 2))
     return np.where(np.isfinite(r), code, -1).astype(np.int8)
+
+
+def status_of_ratio(ratio, iec):
+    """Range status codes for voltage/nominal ratios, per reading's standard.
+
+    Parameters
+    ----------
+    ratio : array_like
+        Measured voltage over nominal (NaN where unknown).
+    iec : array_like of bool
+        True where the reading uses IEC 60038, False for ANSI C84.1.
+    """
+    r = np.asarray(ratio, dtype=float)
+    iec = np.asarray(iec, dtype=bool)
+    (aa, ab), (ba, bb) = LIMITS[ANSI]
+    (ia, ib), (ja, jb) = LIMITS[IEC]
+    la, ha = np.where(iec, ia, aa), np.where(iec, ib, ab)
+    lb, hb = np.where(iec, ja, ba), np.where(iec, jb, bb)
+    code = np.where((r >= la) & (r <= ha), 0, np.where((r >= lb) & (r <= hb), 1, 2))
+    return np.where(np.isfinite(r), code, -1).astype(np.int8)
