@@ -74,7 +74,7 @@ def reading_for(board, rng, round_no: int) -> dict:
             mags = [vll * 1.012, vll * 1.004, vll * 0.975]
         angles = [30.0, -90.0, 150.0]
         if problem == "swapped":
-            angles = [30.0, 150.0, -90.0]  # two supply leads swapped: A-C-B
+            angles = [-30.0, 90.0, -150.0]  # two supply leads swapped: A-C-B (Vab = √3·Va∠-30° for ACB)
         rec.update(vab=_fmt(_noise(rng, mags[0], 0.002)), vbc=_fmt(_noise(rng, mags[1], 0.002)),
                    vca=_fmt(_noise(rng, mags[2], 0.002)))
         if problem != "unbalance":
