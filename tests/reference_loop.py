@@ -1,0 +1,130 @@
+"""A plain per-reading Python implementation of the analysis of a 3-phase 4-wire wye reading with
+every magnitude and angle entered (cmath and math only, no numpy).
+
+It is written from the definitions, not from fieldpad's vectorised code, and serves twice: as the
+independent check in tests/test_reference_loop.py and as "the same work in a plain loop" in
+tests/bench/bench_core.py.  Default thresholds, ANSI C84.1 limits.
+"""
+from __future__ import annotations
+
+import cmath
+import math
+
+A = cmath.exp(2j * math.pi / 3)
+CURVE = [(0.0, 1.0), (1.0, 1.0), (2.0, 0.95), (3.0, 0.88), (4.0, 0.82), (5.0, 0.75)]
+
+
+def _rect(m, d):
+    return cmath.rect(m, math.radians(d))
+
+
+def _maxdev(xs):
+    avg = sum(xs) / len(xs)
+    return 100 * max(abs(x - avg) for x in xs) / avg if avg > 0 else math.nan
+
+
+def _derate(u):
+    if not 0 <= u <= 5:
+        return math.nan
+    for (x0, y0), (x1, y1) in zip(CURVE, CURVE[1:]):
+        if u <= x1:
+            return y0 + (y1 - y0) * (u - x0) / (x1 - x0)
+    return math.nan
+
+
+def _status(ratio):
+    if 0.95 <= ratio <= 1.05:
+        return 0
+    if 110 / 120 <= ratio <= 127 / 120:
+        return 1
+    return 2
+
+
+def analyse_one(r: dict) -> dict:
+    """Results and finding codes for one reading (dict of floats: va.., va_deg.., ia.., nominal_v, i_n)."""
+    v = [_rect(r[f"v{p}"], r[f"v{p}_deg"]) for p in "abc"]
+    i = [_rect(r[f"i{p}"], r[f"i{p}_deg"]) for p in "abc"]
+    vm = [r[f"v{p}"] for p in "abc"]
+    im = [r[f"i{p}"] for p in "abc"]
+    v0, v1, v2 = sum(v) / 3, (v[0] + A * v[1] + A * A * v[2]) / 3, (v[0] + A * A * v[1] + A * v[2]) / 3
+    i0, i1, i2 = sum(i) / 3, (i[0] + A * i[1] + A * A * i[2]) / 3, (i[0] + A * A * i[1] + A * i[2]) / 3
+    big_v, small_v = max(abs(v1), abs(v2)), min(abs(v1), abs(v2))
+    out = {"v0": abs(v0), "v1": abs(v1), "v2": abs(v2), "vuf_pct": 100 * small_v / big_v,
+           "v0uf_pct": 100 * abs(v0) / big_v}
+    ll = [abs(v[0] - v[1]), abs(v[1] - v[2]), abs(v[2] - v[0])]
+    out["lvur_pct"] = _maxdev(ll)
+    out["pvur_pct"] = _maxdev(vm)
+    lowest = min(vm) / max(vm)
+    lost = lowest < 0.5
+    if lost:
+        rot = "unknown"
+    elif abs(v1) >= 2 * abs(v2):
+        rot = "ABC"
+    elif abs(v2) >= 2 * abs(v1):
+        rot = "ACB"
+    else:
+        rot = "unknown"
+    out["rotation"] = rot
+    out.update(i0=abs(i0), i1=abs(i1), i2=abs(i2))
+    out["iuf_pct"] = 100 * min(abs(i1), abs(i2)) / max(abs(i1), abs(i2)) if max(abs(i1), abs(i2)) > 0 else math.nan
+    out["iur_pct"] = _maxdev(im)
+    out["i_n_calc"] = abs(sum(i))
+    a, b, c = im
+    out["i_n_est"] = math.sqrt(max(0.0, a * a + b * b + c * c - a * b - b * c - c * a))
+    s = [v[k] * i[k].conjugate() for k in range(3)]
+    out["p_w"] = sum(x.real for x in s)
+    out["q_var"] = sum(x.imag for x in s)
+    out["s_va"] = sum(vm[k] * im[k] for k in range(3))
+    out["s_vector_va"] = abs(complex(out["p_w"], out["q_var"]))
+    out["pf"] = out["p_w"] / out["s_va"] if out["s_va"] > 0 else math.nan
+    for k, p in enumerate("abc"):
+        out[f"p_{p}_w"], out[f"q_{p}_var"] = s[k].real, s[k].imag
+        out[f"pf_{p}"] = s[k].real / abs(s[k]) if abs(s[k]) > 0 else math.nan
+    out["derating"] = _derate(out["lvur_pct"])
+    out["temp_rise_pct"] = 2 * out["lvur_pct"] ** 2
+    nom = r["nominal_v"] / math.sqrt(3)
+    statuses = [_status(x / nom) for x in vm]
+    codes = set()
+    if lost:
+        codes.add("PHASE_LOST")
+    if rot == "ACB":
+        codes.add("ROTATION_REVERSED")
+    if rot == "unknown" and not lost:
+        codes.add("ROTATION_UNKNOWN")
+    if max(statuses) == 2:
+        codes.add("VOLTAGE_OUT_OF_RANGE")
+    if max(statuses) == 1:
+        codes.add("VOLTAGE_RANGE_B")
+    if out["vuf_pct"] > 2.0:
+        codes.add("VUF_HIGH")
+    if out["lvur_pct"] > 5.0:
+        codes.add("LVUR_EXCESSIVE")
+    elif out["lvur_pct"] > 1.0:
+        codes.add("LVUR_DERATE")
+    if out["iur_pct"] > 10.0:
+        codes.add("CURRENT_UNBALANCE")
+    neg = [x.real < 0 for x in s]
+    pos = [x.real > 0 for x in s]
+    ct_reversed = sum(neg) == 1 and sum(pos) == 2
+    if ct_reversed:
+        codes.add("CT_REVERSED")
+    i_n = r.get("i_n")
+    measured = i_n is not None and not math.isnan(i_n)
+    best = i_n if measured else out["i_n_calc"]
+    if max(im) > 0 and not (ct_reversed and not measured):
+        ratio = best / max(im)
+        if ratio > 1.0:
+            codes.add("NEUTRAL_OVERLOAD")
+        elif ratio > 0.8:
+            codes.add("NEUTRAL_HIGH")
+    if measured and not ct_reversed:
+        diff = i_n - out["i_n_calc"]
+        biggest = max(i_n, out["i_n_calc"])
+        if biggest > 0 and abs(diff) > 0.2 * biggest and abs(diff) >= 1.0:
+            codes.add("NEUTRAL_MISMATCH")
+    if rot != "unknown" and not ct_reversed:
+        i_rot = "ABC" if abs(i1) >= 2 * abs(i2) else ("ACB" if abs(i2) >= 2 * abs(i1) else "unknown")
+        if i_rot != "unknown" and i_rot != rot:
+            codes.add("CURRENT_SEQUENCE")
+    out["codes"] = codes
+    return out
