@@ -56,9 +56,14 @@ def status_of_ratio(ratio, iec):
     """
     r = np.asarray(ratio, dtype=float)
     iec = np.asarray(iec, dtype=bool)
-    (aa, ab), (ba, bb) = LIMITS[ANSI]
-    (ia, ib), (ja, jb) = LIMITS[IEC]
-    la, ha = np.where(iec, ia, aa), np.where(iec, ib, ab)
-    lb, hb = np.where(iec, ja, ba), np.where(iec, jb, bb)
+    if not iec.any():
+        (la, ha), (lb, hb) = LIMITS[ANSI]
+    elif iec.all():
+        (la, ha), (lb, hb) = LIMITS[IEC]
+    else:
+        (aa, ab), (ba, bb) = LIMITS[ANSI]
+        (ia, ib), (ja, jb) = LIMITS[IEC]
+        la, ha = np.where(iec, ia, aa), np.where(iec, ib, ab)
+        lb, hb = np.where(iec, ja, ba), np.where(iec, jb, bb)
     code = np.where((r >= la) & (r <= ha), 0, np.where((r >= lb) & (r <= hb), 1, 2))
     return np.where(np.isfinite(r), code, -1).astype(np.int8)

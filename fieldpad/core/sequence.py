@@ -75,8 +75,12 @@ def sequence_components_cols(va, vb, vc):
     -------
     (x0, x1, x2) : tuple of complex arrays
     """
-    a2 = A * A
-    return (va + vb + vc) / 3.0, (va + A * vb + a2 * vc) / 3.0, (va + a2 * vb + A * vc) / 3.0
+    # a·Vb + a²·Vc = −(Vb + Vc)/2 + j(√3/2)(Vb − Vc), and a²·Vb + a·Vc its conjugate pair:
+    # the same transform with fewer complex multiplications.
+    s = vb + vc
+    u = va - 0.5 * s
+    t = (vb - vc) * (0.5j * SQRT3)
+    return (va + s) / 3.0, (u + t) / 3.0, (u - t) / 3.0
 
 
 def phases_from_sequence(seq):
