@@ -224,10 +224,9 @@ class BoardList(Screen):
         t = self.query_one(DataTable)
         t.add_columns("board", "location", "system", "V", "last reading", "round")
         self.query_one("#home-caution", Static).update(Text(
-            "⚠ Energised equipment: qualified persons, permit, PPE per the board's arc-flash label; "
-            "local codes govern. fieldpad never shows that equipment is safe."))
-        self.reload()
-        t.focus()
+            "⚠ Energised equipment: qualified persons, permit, PPE per each arc-flash label. "
+            "Local codes govern. fieldpad never shows that equipment is safe."))
+        t.focus()  # the rows are filled when the screen becomes current (on_screen_resume)
 
     def on_screen_resume(self) -> None:
         self.reload()

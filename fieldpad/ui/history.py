@@ -40,8 +40,7 @@ class BoardHistory(Screen):
             Text(f"History of {printable(board['name'])} (last 50 readings, newest first)", "bold"))
         table = self.query_one(DataTable)
         table.add_columns("taken", "ver", "by", "VUF %", "NEMA %", "rot", "worst finding")
-        self.reload()
-        table.focus()
+        table.focus()  # the rows are filled when the screen becomes current (on_screen_resume)
 
     def reload(self) -> None:
         table = self.query_one(DataTable)

@@ -260,7 +260,10 @@ class ReadingSheet(Screen):
             return
         grid = self.query_one(EntryGrid)
         try:
-            repo.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": grid.entered()})
+            if grid.entered():
+                repo.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": grid.entered()})
+            else:
+                repo.clear_draft(self.app.db, self.board_id)  # emptied by hand or cleared after a save
         except Exception as e:  # a draft that cannot be kept must not stop the typing
             self.set_status(f"Draft not kept ({e}); your typing is still on the screen.", error=True)
 
@@ -316,7 +319,6 @@ class ReadingSheet(Screen):
         grid = self.query_one(EntryGrid)
         self.previous_row = repo.previous_reading(self.app.db, self.board_id)
         self.previous = self.result
-        self.dirty = False
         if self._draft_timer is not None:
             self._draft_timer.stop()
             self._draft_timer = None
