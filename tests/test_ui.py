@@ -1,4 +1,5 @@
 """The entry app, headless: pilot tests for the whole flow, SVG snapshots, a real-terminal burst."""
+import os
 import shutil
 import subprocess
 import sys
@@ -145,36 +146,52 @@ def test_snapshot_sheet_120x40(snap_compare, tmp_path):
     assert snap_compare(app, terminal_size=(120, 40), run_before=run_before)
 
 
-@pytest.mark.skipif(shutil.which("tmux") is None, reason="tmux is not installed (the .ci/run script installs it)")
+class Terminal:
+    """fieldpad in a real 80x24 terminal (tmux): send keys without pauses, read the screen."""
+
+    def __init__(self, db):
+        self.session = f"fp{os.getpid()}{int(time.time() * 1000) % 100000}"
+        subprocess.run(["tmux", "new-session", "-d", "-s", self.session, "-x", "80", "-y", "24",
+                        f"{sys.executable} -m fieldpad --db {db}"], check=True)
+
+    def screen(self) -> str:
+        return subprocess.run(["tmux", "capture-pane", "-p", "-t", self.session], capture_output=True,
+                              text=True).stdout
+
+    def keys(self, *keys) -> None:
+        subprocess.run(["tmux", "send-keys", "-t", self.session, *keys], check=True)  # one burst
+
+    def wait(self, text: str, present: bool = True, seconds: float = 20) -> str:
+        deadline = time.time() + seconds
+        while (text in self.screen()) != present and time.time() < deadline:
+            time.sleep(0.2)
+        return self.screen()
+
+    def close(self) -> None:
+        subprocess.run(["tmux", "kill-session", "-t", self.session])
+
+
+needs_tmux = pytest.mark.skipif(shutil.which("tmux") is None,
+                                reason="tmux is not installed (the .ci/run script installs it)")
+
+
+@needs_tmux
 def test_fast_burst_through_a_real_terminal(tmp_path):
     """Keys sent by tmux in one burst, no pauses: every value lands in its own field."""
     db = tmp_path / "burst.db"
     seeded(db)
-    session = f"fpburst{int(time.time() * 1000) % 100000}"
-    cmd = f"{sys.executable} -m fieldpad --db {db}"
-    subprocess.run(["tmux", "new-session", "-d", "-s", session, "-x", "80", "-y", "24", cmd], check=True)
+    term = Terminal(db)
     try:
-        def screen():
-            return subprocess.run(["tmux", "capture-pane", "-p", "-t", session], capture_output=True,
-                                  text=True).stdout
-
-        deadline = time.time() + 20
-        while "MDB-7" not in screen() and time.time() < deadline:
-            time.sleep(0.2)
-        subprocess.run(["tmux", "send-keys", "-t", session, "Enter"], check=True)
-        deadline = time.time() + 20
-        while "Label:" not in screen() and time.time() < deadline:
-            time.sleep(0.2)
-        burst = ["2", "7", "7", "Tab", "0", "Tab", "1", "0", "0", "Tab", "-", "3", "0", "Tab",
-                 "2", "7", "6", "Tab", "2", "4", "0", "Tab", "9", "9", "Tab", "-", "1", "5", "0", "Enter",
-                 "2", "7", "8", "Enter", "1", "2", "0", "Enter", "9", "8", "Enter", "9", "0", "Tab", "7"]
-        subprocess.run(["tmux", "send-keys", "-t", session, *burst, "F2"], check=True)  # one burst, save included
-        deadline = time.time() + 20
-        while "SAVED" not in screen() and time.time() < deadline:
-            time.sleep(0.2)
-        assert "SAVED" in screen(), screen()
+        term.wait("MDB-7")
+        term.keys("Enter")
+        term.wait("Label:")
+        term.keys("2", "7", "7", "Tab", "0", "Tab", "1", "0", "0", "Tab", "-", "3", "0", "Tab",
+                  "2", "7", "6", "Tab", "2", "4", "0", "Tab", "9", "9", "Tab", "-", "1", "5", "0", "Enter",
+                  "2", "7", "8", "Enter", "1", "2", "0", "Enter", "9", "8", "Enter", "9", "0", "Tab", "7", "F2")
+        shown = term.wait("SAVED")
+        assert "SAVED" in shown, shown
     finally:
-        subprocess.run(["tmux", "kill-session", "-t", session])
+        term.close()
     d = open_db(db)
     row = repo.board_history(d, repo.list_boards(d, repo.list_sites(d)[0]["id"])[0]["id"], 1)[0]
     got = {k: row[k] for k in ("va", "va_deg", "ia", "ia_deg", "vb", "vb_deg", "ib", "ib_deg", "vc", "vc_deg",
@@ -238,37 +255,22 @@ async def test_command_palette_offers_the_screen_commands(tmp_path):
         assert isinstance(app.screen, DayReview)
 
 
-@pytest.mark.skipif(shutil.which("tmux") is None, reason="tmux is not installed (the .ci/run script installs it)")
+@needs_tmux
 def test_fast_burst_in_the_board_form(tmp_path):
     """The board form's text fields, filled and saved in one burst through a real terminal."""
     db = tmp_path / "form.db"
     seeded(db)
-    session = f"fpform{int(time.time() * 1000) % 100000}"
-    subprocess.run(["tmux", "new-session", "-d", "-s", session, "-x", "80", "-y", "24",
-                    f"{sys.executable} -m fieldpad --db {db}"], check=True)
+    term = Terminal(db)
     try:
-        def screen():
-            return subprocess.run(["tmux", "capture-pane", "-p", "-t", session], capture_output=True,
-                                  text=True).stdout
-
-        deadline = time.time() + 20
-        while "MDB-7" not in screen() and time.time() < deadline:
-            time.sleep(0.2)
-        subprocess.run(["tmux", "send-keys", "-t", session, "n"], check=True)
-        deadline = time.time() + 20
-        while "New board" not in screen() and time.time() < deadline:
-            time.sleep(0.2)
+        term.wait("MDB-7")
+        term.keys("n")
+        term.wait("Name / tag")
         time.sleep(0.5)  # the form has just opened; the burst below is what is under test
-        subprocess.run(["tmux", "send-keys", "-t", session, "LP-9", "Tab", "Roof plant", "Tab", "panelboard", "Tab",
-                        "208", "Tab", "60", "Tab", "1.5", "Tab", "455", "Tab", "600", "Tab", "1", "Tab",
-                        "2025-01-31", "F2"], check=True)
-        time.sleep(0.5)
-        deadline = time.time() + 20
-        while "Label date" in screen() and time.time() < deadline:  # the form is still open
-            time.sleep(0.2)
-        last_screen = screen()
+        term.keys("LP-9", "Tab", "Roof plant", "Tab", "panelboard", "Tab", "208", "Tab", "60", "Tab", "1.5", "Tab",
+                  "455", "Tab", "600", "Tab", "1", "Tab", "2025-01-31", "F2")
+        last_screen = term.wait("esc Cancel", present=False)  # the form's footer goes once it is saved
     finally:
-        subprocess.run(["tmux", "kill-session", "-t", session])
+        term.close()
     d = open_db(db)
     b = repo.find_board(d, repo.list_sites(d)[0]["id"], "LP-9")
     assert b is not None, last_screen

@@ -44,6 +44,25 @@ def _clean_text(value, field, problems, required=False, limit=10_000):
     return text
 
 
+_NO_NUMBER = object()
+
+
+def _number(value, field, problems, low=0.0, high=1e6):
+    """A setting typed as a number (a decimal comma is accepted): float, None when empty, or
+    ``_NO_NUMBER`` after recording the problem."""
+    if value is None or (isinstance(value, str) and not value.strip()):
+        return None
+    try:
+        x = float(str(value).replace(",", ".")) if isinstance(value, str) else float(value)
+    except (TypeError, ValueError):
+        problems.append((field, f"{value!r} is not a number"))
+        return _NO_NUMBER
+    if not (x == x and low <= x < high):
+        problems.append((field, f"{value!r} is not a plausible value"))
+        return _NO_NUMBER
+    return x
+
+
 def _insert(db, table: str, row: dict) -> None:
     """Plain INSERT of one row (sqlite-utils' insert() inspects the table on every call,
     which doubles the cost of saving one reading)."""
@@ -74,28 +93,17 @@ def _site_values(fields: dict, problems: list) -> dict:
                 problems.append((k, f"use one of {', '.join(COLOUR_SETS)}"))
             out[k] = v
         elif k == "label_review_years":
-            try:
-                years = float(str(v).replace(",", "."))
-            except ValueError:
-                problems.append((k, f"{v!r} is not a number"))
-                continue
-            if not 0 < years <= 50:
-                problems.append((k, "give a number of years between 0 and 50"))
-            out[k] = years
+            years = _number(v, k, problems, low=0.1, high=50.01)
+            if years is None:
+                problems.append((k, "is required"))
+            elif years is not _NO_NUMBER:
+                out[k] = years
         elif k == "thresholds":
             overrides = {}
             for name, value in (v or {}).items():
-                if value is None or str(value).strip() == "":
-                    continue
-                try:
-                    x = float(str(value).replace(",", "."))
-                except ValueError:
-                    problems.append((name, f"{value!r} is not a number"))
-                    continue
-                if not 0 <= x < 1e6:
-                    problems.append((name, f"{value!r} is not a plausible threshold"))
-                    continue
-                overrides[name] = x
+                x = _number(value, name, problems)
+                if x is not None and x is not _NO_NUMBER:
+                    overrides[name] = x
             try:
                 Thresholds().with_overrides(overrides)
             except KeyError as e:
@@ -161,18 +169,9 @@ def _board_values(fields: dict, problems: list) -> dict:
             problems.append((k, "unknown board field"))
         elif k in ("nominal_v", "frequency_hz", "af_incident_energy_cal_cm2", "af_working_distance_mm",
                    "af_boundary_mm"):
-            if v is None or (isinstance(v, str) and not v.strip()):
-                out[k] = None
-                continue
-            try:
-                x = float(str(v).replace(",", ".")) if isinstance(v, str) else float(v)
-            except ValueError:
-                problems.append((k, f"{v!r} is not a number"))
-                continue
-            if not (x == x and 0 <= x < 1e6):
-                problems.append((k, f"{v!r} is not a plausible value"))
-                continue
-            out[k] = x
+            x = _number(v, k, problems)
+            if x is not _NO_NUMBER:
+                out[k] = x
         elif k == "system":
             if v not in ("wye", "delta", "high-leg-delta", "split-phase"):
                 problems.append(("system", f"unknown system {v!r}"))
