@@ -1,4 +1,9 @@
 import pytest
+from hypothesis import settings
+
+# Property tests check values, not speed: no per-example deadline (a slow CI machine must not fail them).
+settings.register_profile("fieldpad", deadline=None)
+settings.load_profile("fieldpad")
 
 from fieldpad.storage import repo
 from fieldpad.storage.db import open_db
