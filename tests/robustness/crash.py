@@ -29,10 +29,11 @@ def kill_test(path, board, kills, rng):
     reported = set()
     for _ in range(kills):
         p = subprocess.Popen([sys.executable, WRITER, str(path), board, "100000"], stdout=subprocess.PIPE, text=True)
-        time.sleep(rng.uniform(0.3, 1.2))
+        first = p.stdout.readline()  # the writer is in its saving loop: now kill it at a random moment
+        time.sleep(rng.uniform(0.0, 0.8))
         p.send_signal(signal.SIGKILL)
         out, _ = p.communicate()
-        reported |= {line for line in out.splitlines() if line and not line.startswith("error")}
+        reported |= {line for line in (first + out).splitlines() if line and not line.startswith("error")}
     db = open_db(path)
     stored = {r["reading_id"] for r in db.query("SELECT reading_id FROM reading")}
     problems = check(db)
