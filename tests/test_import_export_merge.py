@@ -6,15 +6,15 @@ import subprocess
 import sys
 
 import pytest
-from hypothesis import HealthCheck, given, settings, strategies as st
+from conftest import BAL
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from fieldpad.report.export import export_records, to_csv, to_json
 from fieldpad.storage import repo
 from fieldpad.storage.db import open_db
 from fieldpad.storage.importer import import_bytes
 from fieldpad.storage.merge import merge_file
-
-from conftest import BAL
 
 GOOD = ("site,board,taken_at,technician,round,system,vab,vbc,vca,note\n"
         "Plant 7,MCC-2,2026-12-01T09:00:00Z,Sam,AM,delta,460,467,450,\n"

@@ -1,14 +1,31 @@
 """Neutral current, power, motor derating, voltage ranges, rotation."""
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
 from fieldpad.core import motor, nominal
-from fieldpad.core.neutral import neutral_estimate_3ph, neutral_estimate_split, neutral_phasor
+from fieldpad.core.neutral import (
+    neutral_estimate_3ph,
+    neutral_estimate_split,
+    neutral_phasor,
+)
 from fieldpad.core.phasors import line_to_line, polar
-from fieldpad.core.power import complex_power, power_factor, sequence_power, two_wattmeter_power
-from fieldpad.core.rotation import ABC, ACB, REASON_COLLAPSED, REASON_NO_ANGLES, UNKNOWN, rotation
+from fieldpad.core.power import (
+    complex_power,
+    power_factor,
+    sequence_power,
+    two_wattmeter_power,
+)
+from fieldpad.core.rotation import (
+    ABC,
+    ACB,
+    REASON_COLLAPSED,
+    REASON_NO_ANGLES,
+    UNKNOWN,
+    rotation,
+)
 from fieldpad.core.sequence import sequence_components
 
 amps = st.floats(min_value=0.0, max_value=2000.0, allow_nan=False)

@@ -3,12 +3,12 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from reference_loop import analyse_one
 
 from fieldpad.core.analysis import analyze
 from fieldpad.core.results import to_records
-
-from reference_loop import analyse_one
 
 FIELDS = ("v0", "v1", "v2", "vuf_pct", "v0uf_pct", "lvur_pct", "pvur_pct", "i0", "i1", "i2", "iuf_pct", "iur_pct",
           "i_n_calc", "i_n_est", "p_w", "q_var", "s_va", "s_vector_va", "pf", "p_a_w", "q_b_var", "pf_c",

@@ -7,14 +7,13 @@ import subprocess
 from html.parser import HTMLParser
 
 import pytest
+from conftest import BAL
 
 from fieldpad.report.export import export_records, to_csv
 from fieldpad.report.html import to_html
 from fieldpad.storage import repo
 from fieldpad.storage.db import open_db
 from fieldpad.storage.importer import import_bytes
-
-from conftest import BAL
 
 HOSTILE = '<script>alert("x")</script> & "quotes" \'apos\''
 VOID = {"area", "base", "br", "col", "embed", "hr", "img", "input", "link", "meta", "source", "track", "wbr",

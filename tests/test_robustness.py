@@ -8,6 +8,7 @@ import subprocess
 import sys
 
 import pytest
+from conftest import BAL
 
 from fieldpad.report.export import export_records, to_csv
 from fieldpad.report.files import atomic_write_text
@@ -15,8 +16,6 @@ from fieldpad.report.html import to_html
 from fieldpad.storage import repo
 from fieldpad.storage.db import StorageError, open_db
 from fieldpad.ui.safe import printable
-
-from conftest import BAL
 
 
 def cli(*args):

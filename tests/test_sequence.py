@@ -3,7 +3,8 @@ import numpy as np
 import pytest
 import scipy.fft
 import sympy
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
 from fieldpad.core.phasors import angle_deg, line_to_line, polar, wrap_deg

@@ -4,6 +4,7 @@ import sqlite3
 import stat
 
 import pytest
+from conftest import BAL
 
 from fieldpad.storage import repo
 from fieldpad.storage.db import (
@@ -17,8 +18,6 @@ from fieldpad.storage.db import (
     schema_version_names,
 )
 from fieldpad.storage.ids import parse_time, uuid7
-
-from conftest import BAL
 
 
 def test_connection_settings(db):

@@ -6,14 +6,13 @@ import sys
 import time
 
 import pytest
+from conftest import BAL
 
 from fieldpad.storage import repo
 from fieldpad.storage.db import open_db
 from fieldpad.ui.app import FieldpadApp
 from fieldpad.ui.entry_grid import EntryGrid
 from fieldpad.ui.sheet import ReadingSheet
-
-from conftest import BAL
 
 
 def seeded(path):

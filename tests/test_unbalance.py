@@ -1,7 +1,8 @@
 """Unbalance definitions: published examples, magnitude-only formulas, properties."""
 import numpy as np
 import pytest
-from hypothesis import assume, given, settings, strategies as st
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose
 
 from fieldpad.core.phasors import line_to_line, polar

@@ -1,6 +1,7 @@
 """How typed values are understood (see fieldpad.core.readings for the decisions)."""
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from fieldpad.core.readings import ReadingError, parse_value
 

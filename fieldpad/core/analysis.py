@@ -24,13 +24,18 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import motor, nominal, rotation as rot
+from . import motor, nominal
+from . import rotation as rot
 from .neutral import neutral_estimate_3ph, neutral_estimate_split
 from .phasors import SQRT3, polar
 from .power import complex_power, power_factor, two_wattmeter_power
 from .sequence import ln_equivalent_from_ll, sequence_components_cols
 from .thresholds import Thresholds
-from .unbalance import max_deviation_pct_cols, sequence_magnitudes_from_ll, vuf_from_ll_magnitudes
+from .unbalance import (
+    max_deviation_pct_cols,
+    sequence_magnitudes_from_ll,
+    vuf_from_ll_magnitudes,
+)
 
 WYE, DELTA, HIGH_LEG, SPLIT = 0, 1, 2, 3
 CNAN = complex(np.nan, np.nan)

@@ -16,6 +16,7 @@ from ..storage.ids import local_text, utc_now
 from ..textsafe import printable
 from .svg import phasor_svg
 
+
 def _no_controls(value):
     """Every value printed into the page: control characters (never meaningful in a report) become U+FFFD."""
     if isinstance(value, Markup):  # our own SVG, built from escaped parts

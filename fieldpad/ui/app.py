@@ -2,9 +2,9 @@
 from __future__ import annotations
 
 import getpass
-from datetime import date, timedelta
 import os
 import tempfile
+from datetime import date, timedelta
 from pathlib import Path
 
 from textual.app import App, SystemCommand

@@ -11,8 +11,8 @@ from ..report.export import analyze_rows
 from ..storage import repo
 from ..storage.ids import local_text
 from .dialogs import AskReason, TextPage
-from .tables import selected_key
 from .safe import printable
+from .tables import selected_key
 
 
 class BoardHistory(Screen):

@@ -11,6 +11,7 @@ from textual.containers import Horizontal, Vertical
 from textual.screen import Screen
 from textual.widgets import Footer, Static
 
+from .. import phase_colours
 from ..core.readings import validate_record
 from ..core.results import analyze_records
 from ..storage import repo
@@ -18,10 +19,8 @@ from ..storage.ids import local_text
 from . import phasor_art
 from .dialogs import Ask, AskReason, help_page
 from .entry_grid import EntryGrid
-from .text_panel import TextPanel
-from .safe import markup_safe
 from .results_view import findings_text, per_phase_text, results_text
-from .. import phase_colours
+from .safe import markup_safe
 from .sheet_model import (
     LL,
     LL_MAG,
@@ -33,6 +32,7 @@ from .sheet_model import (
     row_labels,
     understood,
 )
+from .text_panel import TextPanel
 
 DRAFT_DELAY_S = 0.4
 PANELS = ("drawing", "power", "findings")

@@ -18,7 +18,8 @@ import tempfile
 import time
 from pathlib import Path
 
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 sys.path.insert(0, str(Path(__file__).parent))
 from crash import WRITER, kill_test, setup  # noqa: E402
