@@ -21,15 +21,28 @@ SYSTEMS = [("3-phase 4-wire wye", "wye"), ("3-phase 3-wire delta (line-to-line o
            ("4-wire high-leg delta", "high-leg-delta"), ("120/240 V split-phase", "split-phase")]
 
 
-class BoardForm(ModalScreen[str | None]):
-    """Create or edit a board, with its arc-flash label data."""
+class SettingsForm(ModalScreen[str | None]):
+    """A form that saves with F2 and says, in place, what stopped the save."""
 
     AUTO_FOCUS = "#name"
-
     # Not priority bindings: a priority binding runs before the keys typed just ahead of it reach the
     # field, so a fast "…0 F2" could save without the last characters.
     BINDINGS = [Binding("f2", "save", "Save"), Binding("ctrl+s", "save", "Save", show=False),
                 Binding("escape", "cancel", "Cancel")]
+
+    def show_problems(self, error: repo.ValidationError) -> None:
+        text = "Not saved: " + "; ".join(f"{f}: {r}" for f, r in error.problems)
+        box = self.query_one("#form-error", Static)
+        box.update(Text(text, "bold #ff5050"))
+        box.scroll_visible()  # the form is taller than an 80x24 screen: bring the reason into view
+
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class BoardForm(SettingsForm):
+    """Create or edit a board, with its arc-flash label data."""
+
 
     FIELDS = [("name", "Name / tag *"), ("location", "Location"), ("kind", "Kind (switchboard, panelboard, MCC…)"),
               ("nominal_v", "Nominal voltage, line-to-line (V)"), ("frequency_hz", "Frequency (Hz)"),
@@ -72,13 +85,9 @@ class BoardForm(ModalScreen[str | None]):
                 system = values.pop("system")
                 bid = repo.create_board(self.app.db, self.site_id, name, system=system, **values)
         except repo.ValidationError as e:
-            self.query_one("#form-error", Static).update(
-                Text("Not saved: " + "; ".join(f"{f}: {r}" for f, r in e.problems), "bold #ff5050"))
+            self.show_problems(e)
             return
         self.dismiss(bid)
-
-    def action_cancel(self) -> None:
-        self.dismiss(None)
 
 
 #: Threshold fields shown in the site form: (name, label).
@@ -94,14 +103,8 @@ THRESHOLD_FIELDS = [
 ]
 
 
-class SiteForm(ModalScreen[str | None]):
+class SiteForm(SettingsForm):
     """Create a site, or edit its settings and its threshold overrides."""
-
-    AUTO_FOCUS = "#name"
-    # Not priority bindings: a priority binding runs before the keys typed just ahead of it reach the
-    # field, so a fast "…0 F2" could save without the last characters.
-    BINDINGS = [Binding("f2", "save", "Save"), Binding("ctrl+s", "save", "Save", show=False),
-                Binding("escape", "cancel", "Cancel")]
 
     def __init__(self, site_id: str | None = None) -> None:
         super().__init__()
@@ -157,13 +160,9 @@ class SiteForm(ModalScreen[str | None]):
             else:
                 sid = repo.create_site(self.app.db, **values)
         except repo.ValidationError as e:
-            self.query_one("#form-error", Static).update(
-                Text("Not saved: " + "; ".join(f"{f}: {r}" for f, r in e.problems), "bold #ff5050"))
+            self.show_problems(e)
             return
         self.dismiss(sid)
-
-    def action_cancel(self) -> None:
-        self.dismiss(None)
 
 
 class SitePicker(ModalScreen[str | None]):
