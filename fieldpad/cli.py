@@ -28,7 +28,10 @@ def _read_input(path: str) -> bytes:
 
 
 def cmd_compute(args) -> int:
+    from .batch_memory import keep_freed_memory
     from .compute_cmd import check_input, write_results
+
+    keep_freed_memory()
     from .records_io import InputError
 
     try:
@@ -87,8 +90,11 @@ def cmd_import(args) -> int:
 
 
 def cmd_export(args) -> int:
+    from .batch_memory import keep_freed_memory
     from .report.export import export_records, to_csv, to_json
     from .report.files import atomic_write_text
+
+    keep_freed_memory()
 
     if args.day:
         import datetime as _dt

@@ -20,6 +20,8 @@ Which voltages feed which result (see :mod:`fieldpad.core` for conventions):
 """
 from __future__ import annotations
 
+import os
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -70,8 +72,11 @@ class Analysis:
     """Results of :func:`analyze`.
 
     ``values`` maps result name -> array of length N.  ``findings`` is a list
-    of ``(code, severity, mask, value, threshold, unit, phase)`` where mask,
-    value and phase (index 0..2 or -1) are arrays of length N.
+    of ``(code, severity, mask, value, threshold, unit, phase)``: ``mask`` is a
+    bool array of length N; ``value``, ``threshold`` and ``phase`` (index 0..2,
+    -1 for none) are each a number (the same for every reading), the name of a
+    result in ``values``, or an array of length N that is meaningful only
+    where ``mask`` is True (see :meth:`finding_field`).
     """
 
     n: int
@@ -80,6 +85,12 @@ class Analysis:
 
     def __getitem__(self, key):
         return self.values[key]
+
+    def finding_field(self, item):
+        """A finding's value, threshold or phase as an array of length N."""
+        if isinstance(item, str):
+            item = self.values[item]
+        return np.broadcast_to(item, (self.n,))
 
 
 def _fin(*arrays):
@@ -123,29 +134,73 @@ def _pick(mask, a, b):
 BLOCK = 16_384
 
 
-def analyze(cols, system, standard=None, thresholds: Thresholds | None = None) -> Analysis:
-    """Analyse N readings (see :func:`analyze_block`), in cache-sized blocks."""
+def default_workers() -> int:
+    """Threads for a large batch: one per processor, at most 8 (numpy releases
+    the interpreter lock inside each array operation, so blocks run in parallel)."""
+    return max(1, min(8, os.cpu_count() or 1))
+
+
+def analyze(cols, system, standard=None, thresholds: Thresholds | None = None,
+            workers: int | None = None) -> Analysis:
+    """Analyse N readings (see :func:`analyze_block`) in cache-sized blocks.
+
+    Large batches are split into blocks of ``BLOCK`` readings, analysed on
+    ``workers`` threads (default :func:`default_workers`) and written into
+    one set of output arrays.  A finding's per-reading value, threshold and
+    phase are written only where its mask is set; the rest of those arrays
+    stays zero (see :class:`Analysis`).  The result is the same as one
+    :func:`analyze_block` call on the whole batch.
+    """
     system = np.asarray(system, dtype=np.int8)
     n = system.shape[0]
     if n <= 2 * BLOCK:
         return analyze_block(cols, system, standard, thresholds)
     cols = {k: np.asarray(v, dtype=float) for k, v in cols.items()}
     std = None if standard is None else np.asarray(standard, np.int8)
-    values: dict = {}
-    findings: list = []
-    for lo in range(0, n, BLOCK):
-        hi = min(n, lo + BLOCK)
-        part = analyze_block({k: v[lo:hi] for k, v in cols.items()}, system[lo:hi],
+    bounds = [(lo, min(n, lo + BLOCK)) for lo in range(0, n, BLOCK)]
+
+    def block(lo, hi):
+        return analyze_block({k: v[lo:hi] for k, v in cols.items()}, system[lo:hi],
                              None if std is None else std[lo:hi], thresholds)
-        if not values:
-            values = {k: np.empty(n, np.asarray(v).dtype) for k, v in part.values.items()}
-            findings = [(code, sev, np.empty(n, bool), np.empty(n), np.empty(n), unit, np.empty(n, np.int8))
-                        for code, sev, _m, _v, _t, unit, _p in part.findings]
+
+    first = block(*bounds[0])
+    values = {k: np.empty(n, np.asarray(v).dtype) for k, v in first.values.items()}
+
+    def out_like(item, dtype):
+        # A number or a result name is shared by every block; an array is
+        # filled in only where the finding is raised.
+        return item if isinstance(item, str) or np.ndim(item) == 0 else np.zeros(n, dtype)
+
+    findings = [(code, sev, np.empty(n, bool), out_like(v, float), out_like(t, float), unit, out_like(p, np.int8))
+                for code, sev, _m, v, t, unit, p in first.findings]
+
+    def store(lo, hi, part):
         for k, v in part.values.items():
             values[k][lo:hi] = v
         for dst, src in zip(findings, part.findings):
-            for k in (2, 3, 4, 6):
-                dst[k][lo:hi] = src[k]
+            mask = src[2]
+            dst[2][lo:hi] = mask
+            if not mask.any():
+                continue
+            for k in (3, 4, 6):
+                if isinstance(dst[k], np.ndarray):
+                    item = part.values[src[k]] if isinstance(src[k], str) else src[k]
+                    dst[k][lo:hi][mask] = np.broadcast_to(item, mask.shape)[mask]
+                elif not (isinstance(src[k], str) or np.ndim(src[k]) == 0):
+                    raise RuntimeError(f"finding {dst[0]}: field {k} changed kind between blocks")
+
+    def run(bound):
+        store(*bound, block(*bound))
+
+    store(*bounds[0], first)
+    workers = default_workers() if workers is None else max(1, int(workers))
+    if workers == 1:
+        for bound in bounds[1:]:
+            run(bound)
+    else:
+        with ThreadPoolExecutor(max_workers=workers) as pool:
+            for _ in pool.map(run, bounds[1:]):
+                pass
     return Analysis(n=n, values=values, findings=findings)
 
 
@@ -274,7 +329,7 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     # ---- rotation --------------------------------------------------------
     rot_1 = v1a if r1 is None else np.where(use_ll, r1, v1a)
     rot_2 = v2a if r2 is None else np.where(use_ll, r2, v2a)
-    rcode, rreason = rot.rotation_from(rot_1, rot_2, np.nan_to_num(low_rel, nan=0.0), v_ok,
+    rcode, rreason = rot.rotation_from(rot_1, rot_2, low_rel, v_ok,
                                        th.collapse_ratio, th.dominance)
     if split.any():
         rreason = np.where(split, rot.REASON_NOT_3PH, rreason).astype(np.int8)
@@ -312,7 +367,9 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     i_max = _pick(has_i, i_max, np.nan)
     i_n_meas = col["i_n"]
     i_n_best = np.where(np.isfinite(i_n_meas), i_n_meas, np.where(np.isfinite(i_n_calc), i_n_calc, i_n_est))
-    i_n_ratio = _ratio(i_n_best, i_max) / 100.0
+    # Neutral over the highest phase current, as a plain ratio (100·a/b/100 can land a hair above 1
+    # when the two are equal, and equal is not "exceeds").
+    i_n_ratio = np.where(i_max > 0, i_n_best / np.where(i_max > 0, i_max, 1.0), np.nan)
     i_n_diff = i_n_meas - i_n_calc
 
     # ---- power -----------------------------------------------------------
@@ -346,7 +403,7 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     stats = [nominal.status_of_ratio(r, iec) for r in ratios]
     devs = [100.0 * (r - 1.0) for r in ratios]
     # The worst phase: the worst range status first, then the largest deviation.
-    keys = [st * 1e6 + np.nan_to_num(np.abs(d), nan=-1.0) for st, d in zip(stats, devs)]
+    keys = [st * 1e6 + np.fmax(np.abs(d), -1.0) for st, d in zip(stats, devs)]  # fmax: NaN -> -1
     worst_ph = np.where((keys[0] >= keys[1]) & (keys[0] >= keys[2]), 0, np.where(keys[1] >= keys[2], 1, 2))
     dev_worst = np.where(worst_ph == 0, devs[0], np.where(worst_ph == 1, devs[1], devs[2]))
     vstat_worst = np.maximum(np.maximum(stats[0], stats[1]), stats[2])
@@ -375,18 +432,18 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
         "vab": uab, "vbc": ubc, "vca": uca,
     }
 
-    F = []  # (code, severity, mask, value, threshold, unit, phase)
-    ph_none = np.full(n, -1, np.int8)
+    F = []  # (code, severity, mask, value, threshold, unit, phase): see Analysis
+    nan1, ph_none = np.nan, -1
     F.append(("PHASE_LOST", "alarm", lost, 100.0 * low_rel, 100.0 * th.collapse_ratio, "% of highest", low_ix))
-    F.append(("ROTATION_REVERSED", "alarm", rcode == rot.ACB, nan, nan, "", ph_none))
-    F.append(("ROTATION_UNKNOWN", "info", is3 & (rcode == rot.UNKNOWN) & ~lost, nan, nan, "", ph_none))
-    F.append(("VOLTAGE_OUT_OF_RANGE", "alarm", vstat_worst == 2, dev_worst, nan, "% of nominal", worst_ph))
-    F.append(("VOLTAGE_RANGE_B", "warning", (vstat_worst == 1) & ~iec, dev_worst, nan, "% of nominal", worst_ph))
-    F.append(("VUF_HIGH", "warning", vuf_pct > th.vuf_pct, vuf_pct, th.vuf_pct, "%", ph_none))
-    F.append(("LVUR_EXCESSIVE", "alarm", lvur > th.lvur_max_pct, lvur, th.lvur_max_pct, "%", ph_none))
-    F.append(("LVUR_DERATE", "warning", (lvur > th.lvur_pct) & ~(lvur > th.lvur_max_pct), lvur,
+    F.append(("ROTATION_REVERSED", "alarm", rcode == rot.ACB, nan1, nan1, "", ph_none))
+    F.append(("ROTATION_UNKNOWN", "info", is3 & (rcode == rot.UNKNOWN) & ~lost, nan1, nan1, "", ph_none))
+    F.append(("VOLTAGE_OUT_OF_RANGE", "alarm", vstat_worst == 2, "v_dev_max_pct", nan1, "% of nominal", worst_ph))
+    F.append(("VOLTAGE_RANGE_B", "warning", (vstat_worst == 1) & ~iec, "v_dev_max_pct", nan1, "% of nominal", worst_ph))
+    F.append(("VUF_HIGH", "warning", vuf_pct > th.vuf_pct, "vuf_pct", th.vuf_pct, "%", ph_none))
+    F.append(("LVUR_EXCESSIVE", "alarm", lvur > th.lvur_max_pct, "lvur_pct", th.lvur_max_pct, "%", ph_none))
+    F.append(("LVUR_DERATE", "warning", (lvur > th.lvur_pct) & ~(lvur > th.lvur_max_pct), "lvur_pct",
               th.lvur_pct, "%", ph_none))
-    F.append(("CURRENT_UNBALANCE", "warning", iur > th.iur_pct, iur, th.iur_pct, "%", ph_none))
+    F.append(("CURRENT_UNBALANCE", "warning", iur > th.iur_pct, "iur_pct", th.iur_pct, "%", ph_none))
     # A CT or current lead reversed: one phase's real power negative while the others are positive.
     n_neg = (pa < 0).astype(np.int8) + (pb < 0) + (pc < 0)
     n_pos = (pa > 0).astype(np.int8) + (pb > 0) + (pc > 0)
@@ -400,15 +457,15 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
               i_n_best, th.neutral_ratio * i_max, "A", ph_none))
     big = np.fmax(i_n_meas, i_n_calc)
     mismatch = np.abs(i_n_diff) > th.neutral_mismatch_ratio * np.where(big > 0, big, np.nan)
-    F.append(("NEUTRAL_MISMATCH", "info", mismatch & (np.abs(i_n_diff) >= 1.0) & ~one_rev, i_n_diff, nan, "A",
+    F.append(("NEUTRAL_MISMATCH", "info", mismatch & (np.abs(i_n_diff) >= 1.0) & ~one_rev, "i_n_diff", nan1, "A",
               ph_none))
     rev_ix = np.where(pa < 0, 0, np.where(pb < 0, 1, 2))
     rev_pf = np.where(rev_ix == 0, pf_a, np.where(rev_ix == 1, pf_b, pf_c))
-    F.append(("CT_REVERSED", "alarm", one_rev, rev_pf, nan, "PF", rev_ix))
+    F.append(("CT_REVERSED", "alarm", one_rev, rev_pf, nan1, "PF", rev_ix))
     wrong_i_seq = (rcode != rot.UNKNOWN) & (i_rot != rot.UNKNOWN) & (i_rot != rcode)
-    F.append(("CURRENT_SEQUENCE", "warning", wrong_i_seq & ~one_rev, iuf_pct, nan, "%", ph_none))
-    F.append(("HIGH_LEG_POSITION", "warning", (high_leg_ix >= 0) & (high_leg_ix != 1), nan, nan, "", high_leg_ix))
-    F.append(("MAGNITUDE_ONLY", "info", use_mag, nan, nan, "", ph_none))
+    F.append(("CURRENT_SEQUENCE", "warning", wrong_i_seq & ~one_rev, "iuf_pct", nan1, "%", ph_none))
+    F.append(("HIGH_LEG_POSITION", "warning", (high_leg_ix >= 0) & (high_leg_ix != 1), nan1, nan1, "", "high_leg"))
+    F.append(("MAGNITUDE_ONLY", "info", use_mag, nan1, nan1, "", ph_none))
     return Analysis(n=n, values=values, findings=F)
 
 

@@ -89,8 +89,7 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
     derating = result["derating"]
     reason = result["rotation_reason"]
     for code, severity, mask, value, threshold, unit, phase in result.findings:
-        value = np.broadcast_to(value, (result.n,))
-        threshold = np.broadcast_to(threshold, (result.n,))
+        value, threshold, phase = (result.finding_field(x) for x in (value, threshold, phase))
         for i in np.flatnonzero(mask):
             ph = int(phase[i])
             iec = bool(std[i] == 1)

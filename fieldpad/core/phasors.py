@@ -30,11 +30,28 @@ def polar(magnitude, angle_deg):
     >>> complex(np.round(polar(2.0, 90.0), 12))
     2j
     """
-    c, s = cos_sin_deg(angle_deg)
     m = np.asarray(magnitude, dtype=float)
-    out = np.empty(np.broadcast(m, c).shape, dtype=complex)
-    out.real = m * c
-    out.imag = m * s
+    a = np.asarray(angle_deg, dtype=float)
+    if m.ndim != 1 or m.shape != a.shape:
+        c, s = cos_sin_deg(a)
+        out = np.empty(np.broadcast(m, c).shape, dtype=complex)
+        out.real = m * c
+        out.imag = m * s
+        return out
+    # Many readings: the same identities as cos_sin_deg, with the magnitude
+    # folded in and fewer temporary arrays (m·cos θ = m(1 − t²)/(1 + t²),
+    # m·sin θ = 2mt/(1 + t²), t = tan(θ/2)).
+    t = np.multiply(a, np.pi / 360.0)
+    np.tan(t, out=t)
+    t2 = t * t
+    k = t2 + 1.0
+    np.divide(m, k, out=k)
+    out = np.empty(t.shape, dtype=complex)
+    parts = out.view(np.float64).reshape(-1, 2)
+    np.subtract(1.0, t2, out=t2)
+    np.multiply(t2, k, out=parts[:, 0])
+    t += t
+    np.multiply(t, k, out=parts[:, 1])
     return out
 
 

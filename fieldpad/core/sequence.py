@@ -77,10 +77,26 @@ def sequence_components_cols(va, vb, vc):
     """
     # a·Vb + a²·Vc = −(Vb + Vc)/2 + j(√3/2)(Vb − Vc), and a²·Vb + a·Vc its conjugate pair:
     # the same transform with fewer complex multiplications.
+    va, vb, vc = (np.asarray(x, dtype=complex) for x in (va, vb, vc))
     s = vb + vc
+    if s.ndim == 0:
+        u = va - 0.5 * s
+        t = (vb - vc) * (0.5j * SQRT3)
+        return (va + s) / 3.0, (u + t) / 3.0, (u - t) / 3.0
+    # Arrays: the 1/3 is folded in, and real scalings run on the float view
+    # (a complex division per element is several times dearer).
+    x0 = va + s
+    _scale(x0, 1.0 / 3.0)
     u = va - 0.5 * s
-    t = (vb - vc) * (0.5j * SQRT3)
-    return (va + s) / 3.0, (u + t) / 3.0, (u - t) / 3.0
+    _scale(u, 1.0 / 3.0)
+    t = (vb - vc) * (1j * SQRT3 / 6.0)
+    x1 = u + t
+    return x0, x1, np.subtract(u, t, out=u)
+
+
+def _scale(z, k):
+    """Multiply a contiguous complex array by a real number, in place."""
+    z.view(np.float64)[...] *= k
 
 
 def phases_from_sequence(seq):
