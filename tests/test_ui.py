@@ -119,6 +119,28 @@ async def test_mode_switch_and_previous(tmp_path):
         assert sheet.show_previous and sheet.previous["rotation"] == "ABC"
 
 
+async def test_key_strip_lists_the_screen_keys_and_follows_the_screen(tmp_path):
+    from fieldpad.ui.key_strip import KeyStrip, key_cap, strip_text
+
+    bid = seeded(tmp_path / "k.db")
+    app = FieldpadApp(tmp_path / "k.db", technician="T")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        board_keys = [e[1] for e in app.screen.query_one(KeyStrip).entries()]
+        assert "New board" in board_keys and "Save" not in board_keys
+        app.push_screen(ReadingSheet(bid))
+        await pilot.pause()
+        strip = app.screen.query_one(KeyStrip)
+        entries = strip.entries()
+        assert ("f2", "Save", True) in entries
+        shown = strip.render().plain
+        assert shown.startswith(" F2  Save ") and len(shown) <= 80
+    # Keys that do not fit are left off whole, never cut in the middle of a word.
+    text = strip_text([("f2", "Save", True), ("f3", "Previous reading", True), ("esc", "Back", True)], width=33)
+    assert text.plain == " F2  Save  F3  Previous reading "
+    assert key_cap("f12") == "F12" and key_cap("escape") == "Esc" and key_cap("n") == "n"
+
+
 def _sheet_app(tmp_path, name):
     """A sheet with a reading typed in, phase C's CT reversed (270° instead of 90°) so a finding shows."""
     bid = seeded(tmp_path / name)
@@ -264,10 +286,11 @@ def test_fast_burst_in_the_board_form(tmp_path):
         term.wait("MDB-7")
         term.keys("n")
         term.wait("Name / tag")
+        term.wait("Esc  Cancel")  # the form's key strip, whose going away below means "saved"
         time.sleep(0.5)  # the form has just opened; the burst below is what is under test
         term.keys("LP-9", "Tab", "Roof plant", "Tab", "panelboard", "Tab", "208", "Tab", "60", "Tab", "1.5", "Tab",
                   "455", "Tab", "600", "Tab", "1", "Tab", "2025-01-31", "F2")
-        last_screen = term.wait("esc Cancel", present=False)  # the form's footer goes once it is saved
+        last_screen = term.wait("Esc  Cancel", present=False)  # the form's key strip goes once it is saved
     finally:
         term.close()
     d = open_db(db)

@@ -8,12 +8,13 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen, Screen
-from textual.widgets import DataTable, Footer, Input, Label, Select, Static
+from textual.widgets import DataTable, Input, Label, Select, Static
 
 from ..core.thresholds import Thresholds
 from ..storage import repo
 from ..storage.ids import local_text
 from .field_input import FieldInput
+from .key_strip import KeyStrip
 from .safe import markup_safe, printable
 from .tables import selected_key
 
@@ -68,7 +69,7 @@ class BoardForm(SettingsForm):
                 yield FieldInput(value="" if v is None else (f"{v:g}" if isinstance(v, float) else str(v)), id=field,
                             compact=True)
             yield Static(id="form-error")
-        yield Footer()
+        yield KeyStrip()
 
     def on_mount(self) -> None:
         self.query_one("#name", Input).focus()
@@ -141,7 +142,7 @@ class SiteForm(SettingsForm):
                 yield FieldInput(value="" if v is None else f"{v:g}", placeholder=f"{getattr(defaults, name):g}",
                                  id=f"th-{name}")
             yield Static(id="form-error")
-        yield Footer()
+        yield KeyStrip()
 
     def action_save(self) -> None:
         values = {
@@ -173,7 +174,7 @@ class SitePicker(ModalScreen[str | None]):
         with Vertical(classes="dialog"):
             yield Static("[b]Sites[/b] — Enter to choose, n new site, e settings and thresholds")
             yield DataTable(id="sites", cursor_type="row")
-        yield Footer()
+        yield KeyStrip()
 
     def on_mount(self) -> None:
         t = self.query_one(DataTable)
@@ -217,7 +218,7 @@ class BoardList(Screen):
         yield Static(id="home-caution")
         yield DataTable(id="boards", cursor_type="row", zebra_stripes=True)
         yield Static(id="home-hint")
-        yield Footer()
+        yield KeyStrip()
 
     def on_mount(self) -> None:
         t = self.query_one(DataTable)

@@ -5,9 +5,10 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen
-from textual.widgets import Footer, Input, Static
+from textual.widgets import Input, Static
 
 from .field_input import FieldInput
+from .key_strip import KeyStrip
 
 HELP = """\
 [b]fieldpad — keys[/b] (everything works from the keyboard)
@@ -125,7 +126,7 @@ class TextPage(ModalScreen[None]):
             if self.page_title:
                 yield Static(f"[b]{self.page_title}[/b]")
             yield Static(self.content)
-        yield Footer()
+        yield KeyStrip()
 
     def action_close(self) -> None:
         self.dismiss(None)

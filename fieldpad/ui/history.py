@@ -5,12 +5,13 @@ from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Static
+from textual.widgets import DataTable, Static
 
 from ..report.export import analyze_rows
 from ..storage import repo
 from ..storage.ids import local_text
 from .dialogs import AskReason, TextPage
+from .key_strip import KeyStrip
 from .safe import printable
 from .tables import selected_key
 
@@ -31,7 +32,7 @@ class BoardHistory(Screen):
         yield Static(id="history-title")
         yield DataTable(id="history", cursor_type="row", zebra_stripes=True)
         yield Static("Enter: all versions · c: correct · x: void (both keep the old version)", id="history-hint")
-        yield Footer()
+        yield KeyStrip()
 
     def on_mount(self) -> None:
         board = repo.get_board(self.app.db, self.board_id)

@@ -10,12 +10,13 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
 from textual.screen import ModalScreen, Screen
-from textual.widgets import DataTable, Footer, ProgressBar, Static
+from textual.widgets import DataTable, ProgressBar, Static
 
 from ..report.export import export_records
 from ..storage import repo
 from ..storage.ids import local_text
 from .dialogs import AskText, TextPage
+from .key_strip import KeyStrip
 from .results_view import findings_text, results_text
 from .safe import printable
 from .tables import selected_key
@@ -57,7 +58,7 @@ class DayReview(Screen):
         yield Static(id="review-title")
         yield DataTable(id="review", cursor_type="row", zebra_stripes=True)
         yield Static(id="review-hint")
-        yield Footer()
+        yield KeyStrip()
 
     def on_mount(self) -> None:
         days = repo.reading_days(self.app.db, self.app.site_id)
@@ -186,7 +187,7 @@ class RoundCompare(Screen):
         yield DataTable(id="compare", cursor_type="row", zebra_stripes=True)
         yield Static("▲ worth a look: unbalance ±0.5 pt, neutral ±25 % (≥5 A), rotation, new alarm",
                      id="compare-hint")
-        yield Footer()
+        yield KeyStrip()
 
     def on_mount(self) -> None:
         self.rounds = repo.list_rounds(self.app.db, self.app.site_id)  # newest first

@@ -9,7 +9,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.screen import Screen
-from textual.widgets import Footer, Static
+from textual.widgets import Static
 
 from .. import phase_colours
 from ..core.readings import validate_record
@@ -19,6 +19,7 @@ from ..storage.ids import local_text
 from . import phasor_art
 from .dialogs import Ask, AskReason, help_page
 from .entry_grid import EntryGrid
+from .key_strip import KeyStrip
 from .results_view import findings_text, per_phase_text, results_text
 from .safe import markup_safe
 from .sheet_model import (
@@ -101,7 +102,7 @@ class ReadingSheet(Screen):
                 yield TextPanel(id="panel")
                 yield TextPanel(id="findings")
         yield TextPanel(id="status")
-        yield Footer()
+        yield KeyStrip()
 
     def on_mount(self) -> None:
         db = self.app.db

@@ -1,0 +1,87 @@
+"""The bottom line of every screen: the keys the screen offers, in one widget.
+
+Textual's own footer builds one widget per key and restyles each of them
+whenever the bindings change; on this app's screens that cost about a quarter
+of the start-up (measured with tests/bench/bench_ui.py).  This strip draws the
+same list as one line of text and redraws it when the screen's bindings
+change (focus moves, a binding is enabled or disabled).
+"""
+from __future__ import annotations
+
+import re
+
+from rich.text import Text
+from textual.widget import Widget
+
+#: Key caps: dark text on light grey; descriptions in the strip's own colour.
+KEY_STYLE = "bold #000000 on #c8c8c8"
+KEY_OFF_STYLE = "#5a5a5a on #2a2a2a"
+DESC_OFF_STYLE = "#7a7a7a"
+
+
+def key_cap(display: str) -> str:
+    """How a key is written on the strip: function keys as on the keyboard (F2), Esc spelled out."""
+    if re.fullmatch(r"f\d{1,2}", display):
+        return display.upper()
+    return {"esc": "Esc", "escape": "Esc", "enter": "Enter", "tab": "Tab"}.get(display, display)
+
+
+def strip_text(entries, width: int | None = None) -> Text:
+    """The strip's text from ``(key_display, description, enabled)`` entries.
+
+    Keys whose description would not fit in ``width`` columns are left off the
+    end (they stay in the help screen and the command palette).
+    """
+    out = Text(no_wrap=True, overflow="crop", end="")
+    for key, description, enabled in entries:
+        piece = Text()
+        piece.append(f" {key_cap(key)} ", KEY_STYLE if enabled else KEY_OFF_STYLE)
+        piece.append(f" {description} ", "" if enabled else DESC_OFF_STYLE)
+        if width is not None and out.cell_len + piece.cell_len > width:
+            break
+        out.append_text(piece)
+    return out
+
+
+class KeyStrip(Widget):
+    """One line listing the focused screen's keys, with their descriptions."""
+
+    DEFAULT_CSS = """
+    KeyStrip {
+        dock: bottom;
+        height: 1;
+        background: #1a1a1a;
+        color: #e8e8e8;
+    }
+    """
+
+    def on_mount(self) -> None:
+        self.screen.bindings_updated_signal.subscribe(self, self._bindings_changed)
+
+    def on_unmount(self) -> None:
+        self.screen.bindings_updated_signal.unsubscribe(self)
+
+    def _bindings_changed(self, screen) -> None:
+        if self.is_attached and screen is self.screen:
+            self.refresh()
+
+    def entries(self) -> list[tuple[str, str, bool]]:
+        """``(key, description, enabled)`` for each shown binding, one per action, in binding order;
+        the command palette's key last."""
+        seen: set[str] = set()
+        out = []
+        palette = None
+        for _node, binding, enabled, _tooltip in self.screen.active_bindings.values():
+            if binding.key == self.app.COMMAND_PALETTE_BINDING and self.app.ENABLE_COMMAND_PALETTE:
+                palette = (self.app.get_key_display(binding), binding.description or "Commands", enabled)
+                continue
+            if not binding.show or not binding.description or binding.action in seen:
+                continue
+            seen.add(binding.action)
+            out.append((self.app.get_key_display(binding), binding.description, enabled))
+        if palette:
+            out.append(palette)
+        return out
+
+    def render(self) -> Text:
+        return strip_text(self.entries(), self.size.width or None)
