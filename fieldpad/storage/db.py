@@ -150,12 +150,12 @@ def open_db(path: str | os.PathLike | None = None, *, create: bool = True) -> sq
                 conn = sqlite3.connect(f"{p.resolve().as_uri()}?mode=ro", uri=True, isolation_level=None,
                                        check_same_thread=False, timeout=BUSY_TIMEOUT_MS / 1000)
                 conn.execute("PRAGMA foreign_keys=ON")
-                db = sqlite_utils.Database(conn)
+                db = sqlite_utils.Database(conn, execute_plugins=False)  # no third-party plugins on our connection
                 db.read_only = True
                 _migrate(db, p, read_only=True)
                 return db
         conn = connect(p)
-        db = sqlite_utils.Database(conn)
+        db = sqlite_utils.Database(conn, execute_plugins=False)  # no third-party plugins on our connection
         db.read_only = False
         _migrate(db, p)
     except sqlite3.DatabaseError as e:

@@ -8,7 +8,6 @@ cell the technician moved to, however fast the keys arrive.
 """
 from __future__ import annotations
 
-from rich.table import Table
 from rich.text import Text
 from textual.message import Message
 from textual.reactive import reactive
@@ -18,6 +17,8 @@ from ..core.readings import FIELD_KIND, ReadingError, parse_value
 from .sheet_model import COLUMNS, Cell
 
 MAX_CELL = 16
+#: Columns of the drawn grid: the row name, then each cell (value right-aligned).
+NAME_W, CELL_W = 5, 8
 
 
 class EntryGrid(Widget, can_focus=True):
@@ -131,25 +132,31 @@ class EntryGrid(Widget, can_focus=True):
             event.prevent_default()
             self.refresh()
 
-    def render(self):
-        table = Table(box=None, padding=(0, 1), show_edge=False, expand=False, header_style="bold")
-        table.add_column("", width=5, no_wrap=True)
+    def render(self) -> Text:
+        # Fixed-width columns drawn as plain text: a rich Table re-measures every cell on each
+        # keystroke, which cost several milliseconds per repaint.
+        out = Text(no_wrap=True, overflow="crop", end="")
+        out.append(" " * (NAME_W + 2))
         for title in COLUMNS:
-            table.add_column(title, width=8, no_wrap=True, justify="right")
+            out.append(" " + title.rjust(CELL_W), "bold")
+        out.append(" ")
         problems = self.problems()
         by_pos = {(c.row, c.col): (k, c) for k, c in enumerate(self.cells)}
         for r, name in enumerate(self.row_names):
             if not name:
                 continue
             colour = self.row_colours[r] if r < len(self.row_colours) else "#cccccc"
-            row = [Text(f"■ {name}", style=f"bold {colour}")]
-            for col in range(4):
+            out.append("\n ")
+            out.append(f"■ {name}"[:NAME_W].ljust(NAME_W), f"bold {colour}")
+            out.append(" ")
+            for col in range(len(COLUMNS)):
+                out.append(" ")
                 if (r, col) not in by_pos:
-                    row.append(Text("", style="#555555"))
+                    out.append(" " * CELL_W)
                     continue
                 k, c = by_pos[(r, col)]
                 text = self.values.get(c.field, "")
-                shown = text if len(text) <= 7 else "…" + text[-6:]
+                shown = text if len(text) <= CELL_W - 1 else "…" + text[-(CELL_W - 2):]
                 style = ""
                 if c.field in problems:
                     style = "bold #ffffff on #b00020"
@@ -159,6 +166,7 @@ class EntryGrid(Widget, can_focus=True):
                     shown = shown + "▏"
                 if not shown and c.field == "va_deg":
                     shown, style = "0 ref", style or "#6f6f6f"  # VA is the reference when left empty
-                row.append(Text(shown or ("_" if k == self.cursor else "·"), style=style or "#e0e0e0"))
-            table.add_row(*row)
-        return table
+                shown = shown or ("_" if k == self.cursor else "·")
+                out.append(shown.rjust(CELL_W)[-CELL_W:], style or "#e0e0e0")
+            out.append(" ")
+        return out

@@ -73,7 +73,7 @@ class KeyStrip(Widget):
         palette = None
         for _node, binding, enabled, _tooltip in self.screen.active_bindings.values():
             if binding.key == self.app.COMMAND_PALETTE_BINDING and self.app.ENABLE_COMMAND_PALETTE:
-                palette = (self.app.get_key_display(binding), binding.description or "Commands", enabled)
+                palette = (self.app.get_key_display(binding), "Commands", enabled)
                 continue
             if not binding.show or not binding.description or binding.action in seen:
                 continue

@@ -81,7 +81,8 @@ def per_phase_text(r: dict | None, labels) -> Text:
 
 
 def findings_text(findings: list[dict], detail: bool = False) -> Text:
-    t = Text(overflow="fold" if detail else "ellipsis", no_wrap=not detail)
+    # Wrapped, never cut: the end of a message says what to check next.
+    t = Text(overflow="fold")
     if not findings:
         t.append("No findings from these readings.\n", "#8a8a8a")
         t.append("(Not a statement that the equipment is safe.)", "#8a8a8a")
