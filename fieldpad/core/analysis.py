@@ -108,7 +108,8 @@ def _angle(z, mag, scale):
     is zero to within 1e-9 of ``scale``."""
     a = np.angle(z)
     np.multiply(a, 180.0 / np.pi, out=a)
-    a[~(mag > 1e-9 * scale)] = np.nan
+    # Where mag is NaN the angle is NaN already.
+    np.copyto(a, np.nan, where=mag <= 1e-9 * scale)
     return a
 
 
@@ -399,14 +400,15 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     cmp_nom = np.where(ln_based, np.where(split, v_nom / 2.0, v_nom / SQRT3), v_nom)
     inv_nom = np.where(cmp_nom > 0, 1.0 / np.where(cmp_nom > 0, cmp_nom, 1.0), np.nan)
     iec = standard == 1
-    ratios = [np.where(ln_based, x, y) * inv_nom for x, y in ((ma, uab), (mb, ubc), (mc, uca))]
-    stats = [nominal.status_of_ratio(r, iec) for r in ratios]
-    devs = [100.0 * (r - 1.0) for r in ratios]
-    # The worst phase: the worst range status first, then the largest deviation.
-    keys = [st * 1e6 + np.fmax(np.abs(d), -1.0) for st, d in zip(stats, devs)]  # fmax: NaN -> -1
-    worst_ph = np.where((keys[0] >= keys[1]) & (keys[0] >= keys[2]), 0, np.where(keys[1] >= keys[2], 1, 2))
-    dev_worst = np.where(worst_ph == 0, devs[0], np.where(worst_ph == 1, devs[1], devs[2]))
-    vstat_worst = np.maximum(np.maximum(stats[0], stats[1]), stats[2])
+    # The three phases as rows of one (3, N) array: one call per step instead of three.
+    ratios = _pick(ln_based, np.stack([ma, mb, mc]), np.stack([uab, ubc, uca])) * inv_nom
+    stats = nominal.status_of_ratio(ratios, iec)
+    devs = 100.0 * (ratios - 1.0)
+    # The worst phase: the worst range status first, then the largest deviation (first phase on a tie).
+    keys = stats * 1e6 + np.fmax(np.abs(devs), -1.0)  # fmax: NaN -> -1
+    worst_ph = np.argmax(keys, axis=0).astype(np.int8)
+    dev_worst = np.take_along_axis(devs, worst_ph[None, :].astype(np.intp), axis=0)[0]
+    vstat_worst = stats.max(axis=0)
 
     hl = (system == HIGH_LEG) & has_ln
     high_leg_ix = np.full(n, -1, np.int8)
