@@ -175,25 +175,10 @@ def analyze(cols, system, standard=None, thresholds: Thresholds | None = None,
     findings = [(code, sev, np.empty(n, bool), out_like(v, float), out_like(t, float), unit, out_like(p, np.int8))
                 for code, sev, _m, v, t, unit, p in first.findings]
 
-    def store(lo, hi, part):
-        for k, v in part.values.items():
-            values[k][lo:hi] = v
-        for dst, src in zip(findings, part.findings):
-            mask = src[2]
-            dst[2][lo:hi] = mask
-            if not mask.any():
-                continue
-            for k in (3, 4, 6):
-                if isinstance(dst[k], np.ndarray):
-                    item = part.values[src[k]] if isinstance(src[k], str) else src[k]
-                    dst[k][lo:hi][mask] = np.broadcast_to(item, mask.shape)[mask]
-                elif not (isinstance(src[k], str) or np.ndim(src[k]) == 0):
-                    raise RuntimeError(f"finding {dst[0]}: field {k} changed kind between blocks")
-
     def run(bound):
-        store(*bound, block(*bound))
+        _store_block(values, findings, *bound, block(*bound))
 
-    store(*bounds[0], first)
+    _store_block(values, findings, *bounds[0], first)
     workers = default_workers() if workers is None else max(1, int(workers))
     if workers == 1:
         for bound in bounds[1:]:
@@ -203,6 +188,23 @@ def analyze(cols, system, standard=None, thresholds: Thresholds | None = None,
             for _ in pool.map(run, bounds[1:]):
                 pass
     return Analysis(n=n, values=values, findings=findings)
+
+
+def _store_block(values: dict, findings: list, lo: int, hi: int, part: Analysis) -> None:
+    """Write one block's results into the batch's output arrays (see :func:`analyze`)."""
+    for k, v in part.values.items():
+        values[k][lo:hi] = v
+    for dst, src in zip(findings, part.findings):
+        mask = src[2]
+        dst[2][lo:hi] = mask
+        if not mask.any():
+            continue
+        for k in (3, 4, 6):
+            if isinstance(dst[k], np.ndarray):
+                item = part.values[src[k]] if isinstance(src[k], str) else src[k]
+                dst[k][lo:hi][mask] = np.broadcast_to(item, mask.shape)[mask]
+            elif not (isinstance(src[k], str) or np.ndim(src[k]) == 0):
+                raise RuntimeError(f"finding {dst[0]}: field {k} changed kind between blocks")
 
 
 def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = None) -> Analysis:

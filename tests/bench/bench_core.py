@@ -44,7 +44,7 @@ def random_readings(n: int, seed: int = 1):
     return cols, np.zeros(n, np.int8)
 
 
-def best_of(fn, repeat=3):
+def best_of(fn, repeat=5):
     times = []
     for _ in range(repeat):
         t = time.perf_counter()
