@@ -327,3 +327,37 @@ async def test_site_settings_change_thresholds_and_findings_follow(tmp_path):
         await pilot.press("f2")
         await pilot.pause()
         assert "vuf_pct" in str(form_again.query_one("#form-error").render())
+
+
+async def test_text_panel_redraws_on_new_content_and_on_a_style_change(tmp_path):
+    from rich.text import Text
+
+    from fieldpad.ui.text_panel import TextPanel
+
+    bid = seeded(tmp_path / "p.db")
+    app = FieldpadApp(tmp_path / "p.db", technician="T")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        app.push_screen(ReadingSheet(bid))
+        await pilot.pause()
+        status = app.screen.query_one("#status", TextPanel)
+        app.screen.set_status("all good", ok=True)
+        await pilot.pause()
+        first = status.render_line(0)
+        assert first.text.startswith(" all good") or first.text.startswith("all good")
+        app.screen.set_status("all good", error=True)  # same words, the error colours
+        await pilot.pause()
+        again = status.render_line(0)
+        assert again.text == first.text and list(again) != list(first)
+        status.update(Text("other words"))
+        assert "other words" in status.render_line(0).text
+
+
+def test_text_panel_sees_a_change_of_colour_alone():
+    from rich.text import Text
+
+    from fieldpad.ui.text_panel import _same
+
+    assert _same(Text("12 A", "#9ecbff"), Text("12 A", "#9ecbff"))
+    assert not _same(Text("12 A", "#9ecbff"), Text("12 A", "bold #ff5050"))  # same words, now an error
+    assert not _same(Text("12 A"), Text("12 B"))

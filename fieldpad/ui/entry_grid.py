@@ -42,8 +42,14 @@ class EntryGrid(Widget, can_focus=True):
             self.grid = grid
             self.field = field
 
-    def __init__(self, **kwargs) -> None:
+    def __init__(self, *, on_change=None, on_move=None, **kwargs) -> None:
+        """``on_change(field)`` and ``on_move(field)``, when given, are called at once inside the key's
+        handler instead of posting :class:`Changed` and :class:`Moved`: the owner's updates then reach
+        the screen in the same frame as the typed character (a message takes a few more turns of the
+        event loop, and on the sheet that cost a frame or two per keystroke)."""
         super().__init__(**kwargs)
+        self._on_change = on_change
+        self._on_move = on_move
         self.cells: list[Cell] = []
         self.values: dict[str, str] = {}
         self.row_names: list[str] = []
@@ -83,12 +89,22 @@ class EntryGrid(Widget, can_focus=True):
         self.cursor = 0
         self.refresh()
         if self.cells:
-            self.post_message(self.Changed(self, self.cells[0].field))
+            self._changed(self.cells[0].field)
 
     def move_to(self, index: int) -> None:
         if self.cells:
             self.cursor = max(0, min(len(self.cells) - 1, index))
-            self.post_message(self.Moved(self, self.cells[self.cursor].field))
+            field = self.cells[self.cursor].field
+            if self._on_move is not None:
+                self._on_move(field)
+            else:
+                self.post_message(self.Moved(self, field))
+
+    def _changed(self, field: str) -> None:
+        if self._on_change is not None:
+            self._on_change(field)
+        else:
+            self.post_message(self.Changed(self, field))
 
     def _move_row(self, step: int) -> None:
         cur = self.current
@@ -118,13 +134,13 @@ class EntryGrid(Widget, can_focus=True):
             self.move_to(self.cursor - 1)
         elif key == "backspace":
             self.values[field] = self.values[field][:-1]
-            self.post_message(self.Changed(self, field))
+            self._changed(field)
         elif key in ("delete", "ctrl+u"):
             self.values[field] = ""
-            self.post_message(self.Changed(self, field))
+            self._changed(field)
         elif event.is_printable and event.character and len(self.values[field]) < MAX_CELL:
             self.values[field] += event.character
-            self.post_message(self.Changed(self, field))
+            self._changed(field)
         else:
             handled = False
         if handled:

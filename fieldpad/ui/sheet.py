@@ -4,7 +4,6 @@ from __future__ import annotations
 import time
 
 from rich.text import Text
-from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -95,7 +94,7 @@ class ReadingSheet(Screen):
         yield Static(id="caution")
         with Horizontal(id="sheet-body"):
             with Vertical(id="sheet-left"):
-                yield EntryGrid(id="grid")
+                yield EntryGrid(id="grid", on_change=self._changed, on_move=self._show_understood)
                 yield TextPanel(id="understood")
                 yield TextPanel(id="results")
             with Vertical(id="sheet-right"):
@@ -178,18 +177,14 @@ class ReadingSheet(Screen):
         banner.set_class(problem, "label-problem")
 
     # ---- live results -----------------------------------------------------
-    @on(EntryGrid.Changed)
-    def _changed(self, event: EntryGrid.Changed) -> None:
+    def _changed(self, field: str) -> None:
+        """A cell was edited (called by the grid inside the key's handler)."""
         self.dirty = True
-        self._show_understood(event.field)
+        self._show_understood(field)
         self.recompute()
         if self._draft_timer is not None:
             self._draft_timer.stop()
         self._draft_timer = self.set_timer(DRAFT_DELAY_S, self._save_draft)
-
-    @on(EntryGrid.Moved)
-    def _moved(self, event: EntryGrid.Moved) -> None:
-        self._show_understood(event.field)
 
     def _show_understood(self, field: str) -> None:
         grid = self.query_one(EntryGrid)

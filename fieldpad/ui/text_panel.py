@@ -12,6 +12,8 @@ sheet's drawing time (tests/bench/bench_ui.py).
 """
 from __future__ import annotations
 
+from rich.text import Text
+from textual.geometry import Region
 from textual.strip import Strip
 from textual.widget import Widget
 
@@ -29,23 +31,43 @@ class TextPanel(Widget):
         return self._content
 
     def update(self, content) -> None:
+        """Show ``content``; nothing is repainted when it is the same as what is shown (most keystrokes
+        change only some of the sheet's panels, and each repainted line costs Textual time)."""
+        if self._strips is not None and _same(content, self._content):
+            return
+        old, drawn_for = self._strips, self._strips_for
         self._content = content
         self._strips = None
-        self.refresh()
+        if old is None or not self.is_mounted or drawn_for != self.size:
+            self.refresh()
+            return
+        # Draw now and repaint only the lines that changed (typing a digit changes a few of them).
+        new = self._lines()
+        changed = [y for y in range(max(len(old), len(new)))
+                   if y >= len(old) or y >= len(new) or old[y] != new[y]]
+        if len(changed) * 2 > len(new):
+            self.refresh()
+        elif changed:
+            width = self.size.width
+            self.refresh(*(Region(0, y, width, 1) for y in changed))  # content coordinates
+
+    def notify_style_update(self) -> None:
+        super().notify_style_update()
+        self._strips = None  # colours come from the styles: draw again
 
     def render(self):
         # Used by Textual only where the line API is not (e.g. text selection); same content.
         return self._content
 
     def _lines(self) -> list[Strip]:
-        width, height = self.size
-        key = (width, height, self.rich_style)
-        if self._strips is None or self._strips_for != key:
+        size = self.size
+        if self._strips is None or self._strips_for != size:
+            width, height = size
             console = self.app.console
             options = console.options.update_dimensions(max(1, width), max(1, height))
             lines = console.render_lines(self._content, options, style=self.rich_style, pad=True)
             self._strips = [Strip(line, width) for line in lines[:height]]
-            self._strips_for = key
+            self._strips_for = size
         return self._strips
 
     def render_line(self, y: int) -> Strip:
@@ -53,3 +75,11 @@ class TextPanel(Widget):
         if 0 <= y < len(lines):
             return lines[y]
         return Strip.blank(self.size.width, self.rich_style)
+
+
+def _same(a, b) -> bool:
+    """Whether two contents draw the same (rich Text's ``==`` compares only the words and spans)."""
+    if isinstance(a, Text) and isinstance(b, Text):
+        return (a == b and a.style == b.style and a.justify == b.justify and a.overflow == b.overflow
+                and a.no_wrap == b.no_wrap and a.end == b.end)
+    return a is b

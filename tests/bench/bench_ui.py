@@ -3,10 +3,11 @@
 1. Keystroke to updated results and drawing, headless at 80x24, over a few hundred keystrokes:
    median and 95th percentile of (a) the sheet's own update (parse, analysis, results text, drawing)
    and (b) the whole round trip from the key press until the app is idle again (pilot included),
-   beside the same round trip typing into a bare Textual Input (the pilot's own cost).  (b) is measured
-   twice: at Textual's default 60 frames per second, where a change waits for the next frame, and with
-   the frame cap lifted (TEXTUAL_FPS=1000, in a child process) so that the difference from the bare
-   Input is the work of updating and repainting the sheet.  Target: 95th percentile under 16 ms.
+   beside the same round trip typing into a bare Textual Input (the pilot's own cost), and (c) from the
+   key press until Textual has rendered the screen update (its display step, timed by wrapping it).
+   (c) is measured at Textual's default 60 frames per second, where a change waits for the next frame,
+   and with the frame cap lifted (TEXTUAL_FPS=1000, in a child process), where it is the work of
+   handling the key, updating the sheet and rendering it.  Target: 95th percentile under 16 ms.
 2. Start-up to a usable sheet on the demo database, beside a minimal Textual app's start-up, both in fresh
    processes, in the same run (target: within 1.5x).  fieldpad's modules are byte-compiled first, as an
    installed package is (an editable install under PYTHONDONTWRITEBYTECODE would compile them on every
@@ -79,9 +80,11 @@ import asyncio, statistics, sys
 from pathlib import Path
 sys.path.insert(0, sys.argv[2])
 import bench_ui
-own, trip = asyncio.run(bench_ui.keystrokes(Path(sys.argv[1])))
-base = asyncio.run(bench_ui.minimal_keystrokes())
-print(statistics.median(trip), bench_ui.pct(trip, 0.95), statistics.median(base), bench_ui.pct(base, 0.95))
+own, trip, shown = asyncio.run(bench_ui.keystrokes(Path(sys.argv[1])))
+base, base_shown = asyncio.run(bench_ui.minimal_keystrokes())
+print(statistics.median(trip), bench_ui.pct(trip, 0.95), statistics.median(base), bench_ui.pct(base, 0.95),
+      statistics.median(shown), bench_ui.pct(shown, 0.95), len(shown),
+      statistics.median(base_shown), bench_ui.pct(base_shown, 0.95))
 """
 
 
@@ -90,13 +93,29 @@ def pct(v, q):
     return v[min(len(v) - 1, int(q * len(v)))]
 
 
+def time_display(app) -> list[float]:
+    """Record when Textual has rendered a screen update: its display step (headless, it stops there instead
+    of writing to a terminal).  Textual's own method, wrapped for the benchmark only."""
+    painted: list[float] = []
+    display = app._display
+
+    def timed_display(screen, renderable):
+        display(screen, renderable)
+        if renderable is not None:
+            painted.append(time.perf_counter())
+
+    app._display = timed_display
+    return painted
+
+
 async def keystrokes(db_path: Path):
     from fieldpad.storage import repo
     from fieldpad.ui.app import FieldpadApp
     from fieldpad.ui.sheet import ReadingSheet
 
     app = FieldpadApp(db_path, technician="bench")
-    own, trip = [], []
+    own, trip, shown = [], [], []
+    painted = time_display(app)
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.pause()
         bid = repo.list_boards(app.db, app.site_id)[0]["id"]
@@ -105,15 +124,18 @@ async def keystrokes(db_path: Path):
             await pilot.pause()
             sheet = app.screen
             for k in KEYS:
+                painted.clear()
                 t = time.perf_counter()
                 await pilot.press(k)
                 await pilot.pause()
                 trip.append((time.perf_counter() - t) * 1e3)
                 own.append(sheet.last_compute_ms)
+                if painted:
+                    shown.append((painted[-1] - t) * 1e3)
             sheet.dirty = False
             app.pop_screen()
             await pilot.pause()
-    return own, trip
+    return own, trip, shown
 
 
 async def minimal_keystrokes():
@@ -125,15 +147,19 @@ async def minimal_keystrokes():
             yield Input()
 
     app = Minimal()
-    trip = []
+    trip, shown = [], []
+    painted = time_display(app)
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.pause()
         for k in KEYS * 8:
+            painted.clear()
             t = time.perf_counter()
             await pilot.press(k if k != "tab" else "x")
             await pilot.pause()
             trip.append((time.perf_counter() - t) * 1e3)
-    return trip
+            if painted:
+                shown.append((painted[-1] - t) * 1e3)
+    return trip, shown
 
 
 def main():
@@ -142,26 +168,31 @@ def main():
     with tempfile.TemporaryDirectory() as d:
         db = Path(d) / "demo.db"
         build_demo(db)
-        own, trip = asyncio.run(keystrokes(db))
+        own, trip, shown = asyncio.run(keystrokes(db))
         print(f"keystrokes measured: {len(trip)}")
-        print(f"sheet update per keystroke: median {statistics.median(own):.2f} ms, p95 {pct(own, 0.95):.2f} ms")
+        print(f"sheet update per keystroke (parse, analysis, results, drawing): median {statistics.median(own):.2f} ms, "
+              f"p95 {pct(own, 0.95):.2f} ms")
+        print(f"key press to the screen update rendered, at Textual's 60 frames/s ({len(shown)} updates): "
+              f"median {statistics.median(shown):.2f} ms, p95 {pct(shown, 0.95):.2f} ms")
         print(f"key press to idle (pilot round trip): median {statistics.median(trip):.2f} ms, "
               f"p95 {pct(trip, 0.95):.2f} ms")
-        base = asyncio.run(minimal_keystrokes())
+        base, base_shown = asyncio.run(minimal_keystrokes())
         print(f"same round trip typing into a bare Textual Input: median {statistics.median(base):.2f} ms, "
               f"p95 {pct(base, 0.95):.2f} ms (the pilot's own cost)")
-        print(f"fieldpad's cost above the bare Input at 60 frames/s: p95 {pct(trip, 0.95) - pct(base, 0.95):.2f} ms")
+        print(f"key press to the screen update rendered, bare Textual Input, 60 frames/s: "
+              f"median {statistics.median(base_shown):.2f} ms, p95 {pct(base_shown, 0.95):.2f} ms")
         db2 = Path(d) / "demo-uncapped.db"
         build_demo(db2)
         out = subprocess.run([sys.executable, "-c", UNCAPPED, str(db2), str(Path(__file__).parent)],
                              capture_output=True, text=True, check=True,
                              env={**os.environ, "TEXTUAL_FPS": "1000"}).stdout.split()
-        t_med, t_p95, b_med, b_p95 = map(float, out[-4:])
+        t_med, t_p95, b_med, b_p95, s_med, s_p95, s_n, bs_med, bs_p95 = map(float, out[-9:])
         print(f"frame cap lifted (TEXTUAL_FPS=1000): round trip median {t_med:.2f} ms, p95 {t_p95:.2f} ms; "
               f"bare Input median {b_med:.2f} ms, p95 {b_p95:.2f} ms")
-        print(f"keystroke to updated results and drawing (update + repaint, above the bare Input): "
-              f"median {t_med - b_med:.2f} ms, p95 {t_p95 - b_p95:.2f} ms; sheet update alone p95 "
-              f"{pct(own, 0.95):.2f} ms (target p95 < 16 ms)")
+        print(f"key press to the screen update rendered, frame cap lifted: bare Textual Input median "
+              f"{bs_med:.2f} ms, p95 {bs_p95:.2f} ms")
+        print(f"keystroke to updated results and drawing, rendered, frame cap lifted ({s_n:.0f} updates): "
+              f"median {s_med:.2f} ms, p95 {s_p95:.2f} ms (target p95 < 16 ms)")
 
         compileall.compile_dir(str(Path(__file__).resolve().parents[2] / "fieldpad"), quiet=1)
         runs = 7
