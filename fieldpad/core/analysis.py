@@ -136,9 +136,14 @@ BLOCK = 16_384
 
 
 def default_workers() -> int:
-    """Threads for a large batch: one per processor, at most 8 (numpy releases
-    the interpreter lock inside each array operation, so blocks run in parallel)."""
-    return max(1, min(8, os.cpu_count() or 1))
+    """Threads for a large batch: one per processor this process may run on, at
+    most 8 (numpy releases the interpreter lock inside each array operation, so
+    blocks run in parallel)."""
+    try:
+        cpus = len(os.sched_getaffinity(0))
+    except AttributeError:  # not on every platform
+        cpus = os.cpu_count() or 1
+    return max(1, min(8, cpus))
 
 
 def analyze(cols, system, standard=None, thresholds: Thresholds | None = None,
