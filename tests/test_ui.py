@@ -1,4 +1,5 @@
 """The entry app, headless: pilot tests for the whole flow, SVG snapshots, a real-terminal burst."""
+import contextlib
 import os
 import shutil
 import subprocess
@@ -68,13 +69,20 @@ async def test_first_run_create_site_board_enter_save_correct(tmp_path):
         assert hist[1]["va"] == 276.0 and hist[1]["reason"] == "meter misread"
 
 
-async def test_bad_value_is_not_saved_and_stays_on_screen(tmp_path):
-    bid = seeded(tmp_path / "s.db")
-    app = FieldpadApp(tmp_path / "s.db", technician="T")
-    async with app.run_test(size=(80, 24)) as pilot:
+@contextlib.asynccontextmanager
+async def sheet_open(tmp_path, name, size=(80, 24)):
+    """The app on a seeded database with the board's reading sheet open: (app, pilot)."""
+    bid = seeded(tmp_path / name)
+    app = FieldpadApp(tmp_path / name, technician="T")
+    async with app.run_test(size=size) as pilot:
         await pilot.pause()
         app.push_screen(ReadingSheet(bid))
         await pilot.pause()
+        yield app, pilot
+
+
+async def test_bad_value_is_not_saved_and_stays_on_screen(tmp_path):
+    async with sheet_open(tmp_path, "s.db") as (app, pilot):
         await pilot.press("2", "7", "x", "f2")
         await pilot.pause()
         sheet = app.screen
@@ -104,12 +112,7 @@ async def test_leaving_with_unsaved_values_asks_and_keeps_a_draft(tmp_path):
 
 
 async def test_mode_switch_and_previous(tmp_path):
-    bid = seeded(tmp_path / "m.db")
-    app = FieldpadApp(tmp_path / "m.db", technician="T")
-    async with app.run_test(size=(100, 30)) as pilot:
-        await pilot.pause()
-        app.push_screen(ReadingSheet(bid))
-        await pilot.pause()
+    async with sheet_open(tmp_path, "m.db", size=(100, 30)) as (app, pilot):
         sheet = app.screen
         await pilot.press("f5")
         assert [c.field for c in sheet.query_one(EntryGrid).cells][:2] == ["vab", "vab_deg"]
@@ -334,12 +337,7 @@ async def test_text_panel_redraws_on_new_content_and_on_a_style_change(tmp_path)
 
     from fieldpad.ui.text_panel import TextPanel
 
-    bid = seeded(tmp_path / "p.db")
-    app = FieldpadApp(tmp_path / "p.db", technician="T")
-    async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.pause()
-        app.push_screen(ReadingSheet(bid))
-        await pilot.pause()
+    async with sheet_open(tmp_path, "p.db") as (app, pilot):
         status = app.screen.query_one("#status", TextPanel)
         app.screen.set_status("all good", ok=True)
         await pilot.pause()
