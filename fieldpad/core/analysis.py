@@ -413,8 +413,10 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     devs = 100.0 * (ratios - 1.0)
     # The worst phase: the worst range status first, then the largest deviation (first phase on a tie).
     keys = stats * 1e6 + np.fmax(np.abs(devs), -1.0)  # fmax: NaN -> -1
-    worst_ph = np.argmax(keys, axis=0).astype(np.int8)
-    dev_worst = np.take_along_axis(devs, worst_ph[None, :].astype(np.intp), axis=0)[0]
+    k0, k1, k2 = keys
+    first_worst, second_worst = (k0 >= k1) & (k0 >= k2), k1 >= k2
+    worst_ph = np.where(first_worst, 0, np.where(second_worst, 1, 2)).astype(np.int8)
+    dev_worst = np.where(first_worst, devs[0], np.where(second_worst, devs[1], devs[2]))
     vstat_worst = stats.max(axis=0)
 
     hl = (system == HIGH_LEG) & has_ln
