@@ -89,6 +89,8 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
     derating = result["derating"]
     reason = result["rotation_reason"]
     for code, severity, mask, value, threshold, unit, phase in result.findings:
+        if not mask.any():
+            continue
         value, threshold, phase = (result.finding_field(x) for x in (value, threshold, phase))
         for i in np.flatnonzero(mask):
             ph = int(phase[i])

@@ -53,17 +53,25 @@ class BrailleCanvas:
 
     def render(self) -> Text:
         out = Text(no_wrap=True, overflow="crop")
+        run: list[str] = []
+        run_style = ""
         for cy in range(self.h):
             for cx in range(self.w):
                 if (cx, cy) in self.text:
                     ch, st = self.text[(cx, cy)]
-                    out.append(ch, st)
                 elif self.bits[cy][cx]:
-                    out.append(chr(0x2800 + self.bits[cy][cx]), self.style[cy][cx])
+                    ch, st = chr(0x2800 + self.bits[cy][cx]), self.style[cy][cx]
                 else:
-                    out.append(" ")
+                    ch, st = " ", ""
+                if st != run_style and run:  # one span per run of a style, not one per cell
+                    out.append("".join(run), run_style)
+                    run = []
+                run_style = st
+                run.append(ch)
             if cy < self.h - 1:
-                out.append("\n")
+                run.append("\n")
+        if run:
+            out.append("".join(run), run_style)
         return out
 
 
