@@ -9,7 +9,6 @@ cell the technician moved to, however fast the keys arrive.
 from __future__ import annotations
 
 from rich.text import Text
-from textual.message import Message
 from textual.reactive import reactive
 from textual.widget import Widget
 
@@ -26,27 +25,11 @@ class EntryGrid(Widget, can_focus=True):
 
     cursor: reactive[int] = reactive(0)
 
-    class Changed(Message):
-        """A cell's text changed (posted after every edit)."""
-
-        def __init__(self, grid: "EntryGrid", field: str) -> None:
-            super().__init__()
-            self.grid = grid
-            self.field = field
-
-    class Moved(Message):
-        """The cursor moved to another cell."""
-
-        def __init__(self, grid: "EntryGrid", field: str) -> None:
-            super().__init__()
-            self.grid = grid
-            self.field = field
-
-    def __init__(self, *, on_change=None, on_move=None, **kwargs) -> None:
-        """``on_change(field)`` and ``on_move(field)``, when given, are called at once inside the key's
-        handler instead of posting :class:`Changed` and :class:`Moved`: the owner's updates then reach
-        the screen in the same frame as the typed character (a message takes a few more turns of the
-        event loop, and on the sheet that cost a frame or two per keystroke)."""
+    def __init__(self, *, on_change, on_move, **kwargs) -> None:
+        """``on_change(field)`` (a cell's text changed) and ``on_move(field)`` (the cursor moved) are called
+        at once inside the key's handler, not through a posted message: the owner's updates then reach the
+        screen in the same frame as the typed character (a message takes a few more turns of the event
+        loop; on the sheet that cost a frame or two per keystroke)."""
         super().__init__(**kwargs)
         self._on_change = on_change
         self._on_move = on_move
@@ -89,22 +72,12 @@ class EntryGrid(Widget, can_focus=True):
         self.cursor = 0
         self.refresh()
         if self.cells:
-            self._changed(self.cells[0].field)
+            self._on_change(self.cells[0].field)
 
     def move_to(self, index: int) -> None:
         if self.cells:
             self.cursor = max(0, min(len(self.cells) - 1, index))
-            field = self.cells[self.cursor].field
-            if self._on_move is not None:
-                self._on_move(field)
-            else:
-                self.post_message(self.Moved(self, field))
-
-    def _changed(self, field: str) -> None:
-        if self._on_change is not None:
-            self._on_change(field)
-        else:
-            self.post_message(self.Changed(self, field))
+            self._on_move(self.cells[self.cursor].field)
 
     def _move_row(self, step: int) -> None:
         cur = self.current
@@ -134,13 +107,13 @@ class EntryGrid(Widget, can_focus=True):
             self.move_to(self.cursor - 1)
         elif key == "backspace":
             self.values[field] = self.values[field][:-1]
-            self._changed(field)
+            self._on_change(field)
         elif key in ("delete", "ctrl+u"):
             self.values[field] = ""
-            self._changed(field)
+            self._on_change(field)
         elif event.is_printable and event.character and len(self.values[field]) < MAX_CELL:
             self.values[field] += event.character
-            self._changed(field)
+            self._on_change(field)
         else:
             handled = False
         if handled:
