@@ -315,13 +315,12 @@ class ReadingSheet(Screen):
         grid = self.query_one(EntryGrid)
         self.previous_row = repo.previous_reading(self.app.db, self.board_id)
         self.previous = self.result
+        grid.clear()  # through _changed: the results are recomputed for the empty sheet
         if self._draft_timer is not None:
             self._draft_timer.stop()
             self._draft_timer = None
-        grid.clear()
         self.dirty = False
         self._update_title()
-        self.recompute()
         self.set_status(message, ok=True)
 
     def action_previous(self) -> None:
