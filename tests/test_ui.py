@@ -349,6 +349,12 @@ async def test_text_panel_redraws_on_new_content_and_on_a_style_change(tmp_path)
         assert again.text == first.text and list(again) != list(first)
         status.update(Text("other words"))
         assert "other words" in status.render_line(0).text
+        # A line that does not wrap and is too long is cut with an ellipsis, at the panel's width.
+        results = app.screen.query_one("#results", TextPanel)
+        results.update(Text("V1 " + "9" * 200 + "\nsecond", no_wrap=True, overflow="ellipsis"))
+        first_line, second_line = results.render_line(0), results.render_line(1)
+        assert first_line.cell_length == second_line.cell_length == results.size.width
+        assert first_line.text.rstrip().endswith("…") and second_line.text.strip() == "second"
 
 
 def test_text_panel_sees_a_change_of_colour_alone():

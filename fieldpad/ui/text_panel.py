@@ -12,6 +12,7 @@ sheet's drawing time (tests/bench/bench_ui.py).
 """
 from __future__ import annotations
 
+from rich.segment import Segment
 from rich.text import Text
 from textual.geometry import Region
 from textual.strip import Strip
@@ -62,11 +63,23 @@ class TextPanel(Widget):
     def _lines(self) -> list[Strip]:
         size = self.size
         if self._strips is None or self._strips_for != size:
-            width, height = size
-            console = self.app.console
-            options = console.options.update_dimensions(max(1, width), max(1, height))
-            lines = console.render_lines(self._content, options, style=self.rich_style, pad=True)
-            self._strips = [Strip(line, width) for line in lines[:height]]
+            width, height = max(1, size.width), max(1, size.height)
+            content, style, console = self._content, self.rich_style, self.app.console
+            if isinstance(content, Text) and content.no_wrap and content.overflow in ("crop", "ellipsis"):
+                # Lines that never wrap (results, drawing): each line straight to a strip, without
+                # rich's general layout (about half of a keystroke's drawing time went there).
+                strips = []
+                for line in content.split("\n", allow_blank=True)[:height]:
+                    if line.cell_len > width:
+                        line.truncate(width, overflow=content.overflow)
+                    segments = Segment.apply_style(line.render(console, end=""), style)
+                    strips.append(Strip(list(segments)).extend_cell_length(width, style))
+                strips += [Strip.blank(width, style)] * (height - len(strips))
+            else:
+                options = console.options.update_dimensions(width, height)
+                lines = console.render_lines(content, options, style=style, pad=True)
+                strips = [Strip(line, width) for line in lines[:height]]
+            self._strips = strips
             self._strips_for = size
         return self._strips
 
