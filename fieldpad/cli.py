@@ -30,9 +30,9 @@ def _read_input(path: str) -> bytes:
 def cmd_compute(args) -> int:
     from .batch_memory import keep_freed_memory
     from .compute_cmd import check_input, write_results
+    from .records_io import InputError
 
     keep_freed_memory()
-    from .records_io import InputError
 
     try:
         kind, clean, problems = check_input(_read_input(args.file))
