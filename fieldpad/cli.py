@@ -6,15 +6,20 @@ problem, nothing on stdout), 1 any other failure with a one-line message.
 from __future__ import annotations
 
 import argparse
+import contextlib
+import os
 import sqlite3
 import sys
+from pathlib import Path
+
+from .textsafe import printable
 
 MAX_PROBLEMS = 20
 
 
 def _report_problems(problems: list[str]) -> int:
     for line in problems[:MAX_PROBLEMS]:
-        print(line, file=sys.stderr)
+        print(printable(line), file=sys.stderr)
     if len(problems) > MAX_PROBLEMS:
         print(f"... and {len(problems) - MAX_PROBLEMS} more problem(s)", file=sys.stderr)
     return 2
@@ -44,10 +49,17 @@ def cmd_compute(args) -> int:
     return 0
 
 
-def _open(args):
-    from .storage.db import open_db
+def _open(args, *, create: bool = False):
+    """The database named by --db (or the default).  Commands that only read refuse a path where no
+    database exists; ``import`` and ``merge`` (which write) may start one, and say so on stderr."""
+    from .storage.db import open_db, resolve_path
 
-    return open_db(args.db)
+    path = resolve_path(args.db)
+    new = create and not path.exists()
+    db = open_db(path, create=create)
+    if new:
+        print(f"created a new database at {path}", file=sys.stderr)
+    return db
 
 
 def cmd_import(args) -> int:
@@ -58,7 +70,7 @@ def cmd_import(args) -> int:
         data = _read_input(args.file)
     except OSError as e:
         return _report_problems([f"{args.file}: {e.strerror}"])
-    db = _open(args)
+    db = _open(args, create=True)
     progress = None
     bar = None
     if sys.stderr.isatty() and len(data) > 1_000_000:
@@ -92,7 +104,9 @@ def cmd_import(args) -> int:
 def cmd_export(args) -> int:
     from .batch_memory import keep_freed_memory
     from .report.export import export_records, to_csv, to_json
-    from .report.files import atomic_write_text
+    from .storage import repo
+    from .storage.db import resolve_path
+    from .storage.files import atomic_write_text
 
     keep_freed_memory()
 
@@ -103,7 +117,17 @@ def cmd_export(args) -> int:
             _dt.date.fromisoformat(args.day)
         except ValueError:
             return _report_problems([f"--day: {args.day!r} is not a date (YYYY-MM-DD)"])
+    out_path = None
+    if args.output and args.output != "-":
+        from .storage.files import check_target
+
+        out_path = args.output
+        check_target(Path(out_path), overwrite=True)  # refuse a FIFO, device or folder before any work
     db = _open(args)
+    if args.site and not any(s_["name"] == args.site for s_ in repo.list_sites(db)):
+        names = ", ".join(printable(s_["name"]) for s_ in repo.list_sites(db)) or "none"
+        return _report_problems([f"--site: no site named {printable(args.site)!r} in {resolve_path(args.db)} "
+                                 f"(sites: {names}); nothing was written"])
     records = export_records(db, day=args.day, site=args.site)
     if args.format == "csv":
         text = to_csv(records)
@@ -113,9 +137,9 @@ def cmd_export(args) -> int:
         from .report.html import to_html
 
         text = to_html(db, records, day=args.day, site=args.site)
-    if args.output and args.output != "-":
-        atomic_write_text(args.output, text)
-        print(f"wrote {len(records)} reading(s) to {args.output}", file=sys.stderr)
+    if out_path:
+        atomic_write_text(out_path, text)
+        print(f"wrote {len(records)} reading(s) to {out_path}", file=sys.stderr)
     else:
         sys.stdout.write(text)
     return 0
@@ -124,7 +148,7 @@ def cmd_export(args) -> int:
 def cmd_merge(args) -> int:
     from .storage.merge import merge_file
 
-    db = _open(args)
+    db = _open(args, create=True)
     for other in args.others:
         rep = merge_file(db, other)
         added = ", ".join(f"{n} {t}(s)" for t, n in rep.added.items())
@@ -132,10 +156,10 @@ def cmd_merge(args) -> int:
         for t, n in rep.updated.items():
             if n:
                 print(f"{other}: updated {n} {t}(s) to the later edit")
-        for b in rep.same_name_boards:
+        for b in map(printable, rep.same_name_boards):
             print(f"warning: board {b} exists under different ids (two laptops created it); "
                   "both are kept, check which is which", file=sys.stderr)
-        for s_ in rep.same_name_sites:
+        for s_ in map(printable, rep.same_name_sites):
             print(f"warning: site {s_} exists under different ids; both are kept", file=sys.stderr)
     return 0
 
@@ -145,16 +169,24 @@ def cmd_db(args) -> int:
     from .storage.db import backup, resolve_path
 
     if args.action == "check":
-        from .storage.db import check_file
+        from .storage.db import check_file, unwritable_reason
 
-        problems = check_file(args.db)
+        path = resolve_path(args.db)
+        problems = check_file(path)
         if problems:
             for p in problems[:MAX_PROBLEMS]:
-                print(f"problem: {p}")
-            print(f"{resolve_path(args.db)}: damaged. Nothing was changed; restore the latest backup "
-                  "(the .bak files beside it, or one made with 'fieldpad db backup').")
+                print(f"problem: {printable(p)}")
+            print(f"{path}: damaged or not a fieldpad database. Nothing was changed; keep this file, and "
+                  "restore the latest backup beside it (the .bak files, or one made with 'fieldpad db backup').")
             return 1
-        print(f"{resolve_path(args.db)}: ok (integrity and foreign keys)")
+        reason = unwritable_reason(path)
+        if reason:
+            print(f"{path}: healthy (integrity and foreign keys), but it cannot be written: {reason}. "
+                  "Nothing is damaged and nothing needs restoring: every reading can be looked at and "
+                  "exported; to add readings make it writable, or copy it to a writable place with "
+                  f"'fieldpad db backup DEST --db {path}' and open the copy.")
+            return 0
+        print(f"{path}: ok (integrity and foreign keys)")
         return 0
     db = _open(args)
     if args.action == "backup":
@@ -167,6 +199,8 @@ def cmd_db(args) -> int:
     applied = [r["name"] for r in db.query("SELECT name FROM _sqlite_migrations ORDER BY rowid")]
     print(f"database: {resolve_path(args.db)}")
     print(f"schema: {applied[-1] if applied else 'none'} (this fieldpad knows up to {schema_version_names()[-1]})")
+    if db.read_only:
+        print(f"writable: no ({db.read_only_reason})")
     for k, v in repo.counts(db).items():
         print(f"{k}: {v}")
     return 0
@@ -243,20 +277,24 @@ def main(argv=None) -> int:
         args.technician = None
     try:
         return args.func(args)
+    except BrokenPipeError:
+        # The reader of our output went away (``fieldpad compute big.json | head -1``): not an error.
+        # Point stdout at /dev/null so Python's own flush at exit does not complain again.
+        with contextlib.suppress(OSError):
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
     except StorageError as e:
-        print(f"fieldpad: {e}", file=sys.stderr)
+        print(f"fieldpad: {printable(e)}", file=sys.stderr)
         return 1
     except sqlite3.DatabaseError as e:
         print(f"fieldpad: the database cannot be read ({e}). Nothing was changed. Run 'fieldpad db check', "
               "and restore a backup if it is damaged.", file=sys.stderr)
         return 1
     except OSError as e:
-        print(f"fieldpad: {e.filename or ''}: {e.strerror}", file=sys.stderr)
+        print(f"fieldpad: {printable(e.filename or '')}: {e.strerror or e}", file=sys.stderr)
         return 1
     except KeyboardInterrupt:
         return 130
-    except BrokenPipeError:
-        return 0
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -7,8 +7,11 @@ from __future__ import annotations
 
 import re
 
-_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f\u2028\u2029]")
-_CONTROL_ALL = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029]")
+# C0 and C1 controls, DEL, line/paragraph separators and the bidirectional embedding, override and
+# isolate characters (a U+202E in a board name would show the rest of a message reversed).
+_BIDI = "\u200e\u200f\u202a-\u202e\u2066-\u2069"
+_CONTROL = re.compile(f"[\\x00-\\x08\\x0b-\\x1f\\x7f-\\x9f\\u2028\\u2029{_BIDI}]")
+_CONTROL_ALL = re.compile(f"[\\x00-\\x1f\\x7f-\\x9f\\u2028\\u2029{_BIDI}]")
 
 
 def printable(text, keep_tab_newline: bool = False) -> str:

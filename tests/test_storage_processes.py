@@ -35,3 +35,14 @@ def test_two_writers_at_once(tmp_path):
     db = open_db(path)
     assert db["reading"].count == 300 == len(set(lines))
     db.close()
+
+
+def test_second_open_in_one_process_loses_nothing_when_another_process_comes_and_goes(tmp_path):
+    # The scenario of a lost WAL: a process holds a connection and opens, checks and backs up the same file
+    # again; `fieldpad db info` and `db check` run in other processes; the first saves 5 more and is killed.
+    from second_open import second_open_test
+
+    reported, lost, problems = second_open_test(tmp_path, n=5)
+    assert reported == 6
+    assert lost == 0
+    assert problems == []

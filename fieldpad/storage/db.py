@@ -32,6 +32,10 @@ class NewerDatabaseError(StorageError):
     pass
 
 
+class WriteError(StorageError):
+    """A write that did not happen (read-only, full, busy): the message says why and what to do."""
+
+
 def default_path() -> Path:
     """``$FIELDPAD_DB`` if set, else ``fieldpad.db`` in the user's data folder."""
     env = os.environ.get(ENV_VAR)
@@ -83,50 +87,147 @@ def schema_version_names() -> list[str]:
 def connect(path: Path) -> sqlite3.Connection:
     conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_MS / 1000, isolation_level=None,
                            check_same_thread=False)
+    try:
+        _settings(conn, path)
+    except BaseException:
+        conn.close()
+        raise
+    return conn
+
+
+def _settings(conn: sqlite3.Connection, path: Path) -> None:
     conn.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
     conn.execute("PRAGMA foreign_keys=ON")
     mode = conn.execute("PRAGMA journal_mode=WAL").fetchone()[0]
     if mode.lower() != "wal" and str(path) != ":memory:":
         raise StorageError(f"{path}: could not switch the database to WAL journal mode ({mode})")
     conn.execute("PRAGMA synchronous=FULL")
-    return conn
 
 
-def _check_is_database(path: Path) -> None:
-    if not path.exists() or path.stat().st_size == 0:
-        return
-    with open(path, "rb") as f:
-        head = f.read(16)
-    if head != b"SQLite format 3\x00":
-        raise StorageError(f"{path} is not a fieldpad database (not an SQLite file). Nothing was changed. "
-                           "Check the path given with --db or FIELDPAD_DB.")
+def _uri(path: Path, *, immutable: bool = False) -> str:
+    """A read-only SQLite URI for ``path`` (``as_uri`` quotes ``#``, ``?`` and ``%`` in names)."""
+    return path.resolve().as_uri() + ("?immutable=1" if immutable else "?mode=ro")
 
 
-def _sanity_check_read_only(path: Path) -> None:
-    """Read the schema through a read-only connection before anything writes to the file,
-    so a damaged or foreign file is reported, not modified."""
-    conn = sqlite3.connect(f"{path.resolve().as_uri()}?mode=ro", uri=True, timeout=BUSY_TIMEOUT_MS / 1000)
+def _free_bytes(folder: Path) -> int | None:
     try:
-        names = {r[0] for r in conn.execute("SELECT name FROM sqlite_master")}
-        if names and "_sqlite_migrations" not in names:
-            raise StorageError(f"{path} is an SQLite database but not a fieldpad one (no fieldpad schema). "
-                               "Nothing was changed. Check the path given with --db or FIELDPAD_DB.")
-        if "reading" in names:
-            conn.execute("SELECT COUNT(*) FROM (SELECT 1 FROM reading LIMIT 1)").fetchone()
-    finally:
+        st = os.statvfs(folder)
+    except OSError:
+        return None
+    return st.f_bavail * st.f_frsize
+
+
+def unwritable_reason(path: Path, error: Exception | None = None) -> str | None:
+    """Why a database that can be read cannot be written, in words, or None if nothing says so.
+
+    Looks at the file system, the file and its folder (WAL needs to create and
+    grow the ``-wal`` and ``-shm`` files beside the database), free space, and
+    the error SQLite gave, if any.  Nothing here opens the database file.
+    """
+    folder = path.resolve().parent
+    try:
+        if os.statvfs(folder).f_flag & os.ST_RDONLY:
+            return "it is on a read-only file system (for example a write-protected USB stick)"
+    except OSError:
+        pass
+    if path.exists() and not os.access(path, os.W_OK):
+        return "the file is read-only"
+    if not os.access(folder, os.W_OK | os.X_OK):
+        return "its folder cannot be written (SQLite keeps its -wal and -shm files there)"
+    for side in ("-wal", "-shm"):
+        extra = path.with_name(path.name + side)
+        if extra.exists() and not os.access(extra, os.W_OK):
+            return f"its {side} file is read-only"
+    text = str(error).lower() if error is not None else ""
+    free = _free_bytes(folder)
+    if "full" in text or (free is not None and free < 64 * 1024):
+        return "the disk is full"
+    if "readonly" in text or "read-only" in text:
+        return "the file or its folder is read-only"
+    return None
+
+
+def _inspect(conn: sqlite3.Connection, path: Path) -> None:
+    """Read the schema: a foreign or damaged file is reported before anything writes to it."""
+    names = {r[0] for r in conn.execute("SELECT name FROM sqlite_master")}
+    if names and "_sqlite_migrations" not in names:
+        raise StorageError(f"{path} is an SQLite database but not a fieldpad one (no fieldpad schema). "
+                           "Nothing was changed. Check the path given with --db or FIELDPAD_DB.")
+    if "reading" in names:
+        conn.execute("SELECT COUNT(*) FROM (SELECT 1 FROM reading LIMIT 1)").fetchone()
+
+
+def _not_a_database(path: Path) -> StorageError:
+    return StorageError(f"{path} is not a fieldpad database (not an SQLite file). Nothing was changed. "
+                        "Check the path given with --db or FIELDPAD_DB.")
+
+
+def connect_read_only(path: Path) -> tuple[sqlite3.Connection, str | None]:
+    """A read-only connection to an existing database, opened only through SQLite.
+
+    ``mode=ro`` first; where that cannot work because the ``-shm`` file cannot
+    be created (read-only media), ``immutable=1``, which is right only when
+    nothing can write the file: the second value then says what is not shown.
+    Raises StorageError for a file that is not an SQLite database.
+    """
+    last = None
+    for immutable in (False, True):
+        conn = sqlite3.connect(_uri(path, immutable=immutable), uri=True, isolation_level=None,
+                               check_same_thread=False, timeout=BUSY_TIMEOUT_MS / 1000)
+        try:
+            conn.execute("SELECT COUNT(*) FROM sqlite_master").fetchone()
+        except sqlite3.DatabaseError as e:
+            conn.close()
+            if "not a database" in str(e):
+                raise _not_a_database(path) from None
+            last = e
+            continue
+        note = None
+        if immutable:
+            wal = path.with_name(path.name + "-wal")
+            if wal.exists() and wal.stat().st_size > 0:
+                note = ("its -wal file holds changes not yet folded into the database; they are not shown "
+                        "here, but they are not lost: open it where it can be written to see them")
+        return conn, note
+    raise StorageError(f"{path}: the database cannot be read ({last}). Nothing was changed. "
+                       f"Run 'fieldpad db check --db {path}'.")
+
+
+def _wrap(conn: sqlite3.Connection, read_only_reason: str | None) -> sqlite_utils.Database:
+    db = sqlite_utils.Database(conn, execute_plugins=False)  # no third-party plugins on our connection
+    db.read_only = read_only_reason is not None
+    db.read_only_reason = read_only_reason
+    return db
+
+
+def _open_read_only(p: Path, reason: str) -> sqlite_utils.Database:
+    conn, note = connect_read_only(p)
+    try:
+        _inspect(conn, p)
+        conn.execute("PRAGMA foreign_keys=ON")
+        db = _wrap(conn, reason + (f"; {note}" if note else ""))
+        _migrate(db, p, read_only=True)
+    except BaseException:
         conn.close()
-
-
-def is_writable(path: Path) -> bool:
-    """Whether the database file and its folder can be written (WAL needs both)."""
-    return os.access(path, os.W_OK) and os.access(path.parent, os.W_OK)
+        raise
+    return db
 
 
 def open_db(path: str | os.PathLike | None = None, *, create: bool = True) -> sqlite_utils.Database:
     """Open (and if needed create or upgrade) the database at ``path``.
 
-    A file or folder that cannot be written is opened read-only: everything can
-    be looked at and exported, and a save says clearly that it cannot be stored.
+    The database file is opened only through SQLite, never with a plain
+    ``open()``: closing any descriptor of the file would drop the POSIX locks
+    SQLite holds on it in this process, and another process could then delete
+    the WAL this one still writes into.
+
+    ``create=False`` refuses a path where no database exists ("no database at
+    PATH") instead of creating one; only the app's first run creates.
+
+    A healthy database that cannot be written (read-only file, folder or file
+    system, full disk) is opened read-only: ``db.read_only`` is True and
+    ``db.read_only_reason`` says why in words; everything can be looked at and
+    exported, and a save says clearly that it cannot be stored.
 
     Raises
     ------
@@ -134,35 +235,57 @@ def open_db(path: str | os.PathLike | None = None, *, create: bool = True) -> sq
         With a message naming the file and what to do.
     """
     p = resolve_path(path)
-    try:
-        if str(p) != ":memory:":
-            _check_is_database(p)
-            if not p.exists():
-                if not create:
-                    raise StorageError(f"{p}: no such database")
-                p.parent.mkdir(parents=True, exist_ok=True)
-                # Private from the start: readings and names are the site's business.
-                fd = os.open(p, os.O_CREAT | os.O_WRONLY, 0o600)
-                os.close(fd)
-            elif p.stat().st_size > 0:
-                _sanity_check_read_only(p)
-            if p.stat().st_size > 0 and not is_writable(p):
-                conn = sqlite3.connect(f"{p.resolve().as_uri()}?mode=ro", uri=True, isolation_level=None,
-                                       check_same_thread=False, timeout=BUSY_TIMEOUT_MS / 1000)
-                conn.execute("PRAGMA foreign_keys=ON")
-                db = sqlite_utils.Database(conn, execute_plugins=False)  # no third-party plugins on our connection
-                db.read_only = True
-                _migrate(db, p, read_only=True)
-                return db
-        conn = connect(p)
-        db = sqlite_utils.Database(conn, execute_plugins=False)  # no third-party plugins on our connection
-        db.read_only = False
+    if str(p) == ":memory:":
+        db = _wrap(connect(p), None)
         _migrate(db, p)
+        return db
+    try:
+        exists = p.exists()
+        if exists and p.is_dir():
+            raise StorageError(f"{p} is a folder, not a database file. Check the path given with --db.")
+        if not exists or p.stat().st_size == 0:
+            if not create:
+                raise StorageError(f"no database at {p}. Nothing was created. Check the path given with --db "
+                                   "or FIELDPAD_DB (only the app, run for the first time, creates one).")
+            if not exists:
+                p.parent.mkdir(parents=True, exist_ok=True)
+                with contextlib.suppress(FileExistsError):
+                    # Private from the start.  Safe: the file did not exist, so no connection of this
+                    # process holds a lock on it that closing this descriptor could drop.
+                    os.close(os.open(p, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o600))
+        else:
+            reason = unwritable_reason(p)
+            if reason:
+                return _open_read_only(p, reason)
+            conn, _ = connect_read_only(p)
+            try:
+                _inspect(conn, p)
+            finally:
+                conn.close()
+        try:
+            conn = connect(p)
+        except sqlite3.DatabaseError as e:
+            reason = unwritable_reason(p, e)
+            if reason and p.stat().st_size > 0:
+                return _open_read_only(p, reason)
+            raise
+        db = _wrap(conn, None)
+        try:
+            _migrate(db, p)
+        except BaseException:
+            conn.close()
+            raise
     except sqlite3.DatabaseError as e:
+        reason = unwritable_reason(p, e)
+        if reason:
+            raise StorageError(f"{p}: the database cannot be opened for writing because {reason} ({e}). "
+                               "Nothing was changed.") from None
         raise StorageError(f"{p}: the database cannot be read ({e}). Nothing was changed. "
                            f"Run 'fieldpad db check --db {p}', and restore a backup if it is damaged.") from None
     except PermissionError as e:
         raise StorageError(f"{p}: no permission ({e.strerror}). Nothing was changed.") from None
+    except OSError as e:
+        raise StorageError(f"{p}: {e.strerror or e}. Nothing was changed.") from None
     return db
 
 
@@ -190,17 +313,47 @@ def _migrate(db: sqlite_utils.Database, path: Path, read_only: bool = False) -> 
 
 
 def backup(db: sqlite_utils.Database, dest: str | os.PathLike) -> Path:
-    """Online copy of the database through SQLite's backup API; refuses to overwrite."""
-    dest = Path(dest)
-    if dest.exists():
-        raise StorageError(f"{dest} already exists: choose a new name for the backup")
-    out = sqlite3.connect(str(dest))
+    """Online copy of the database through SQLite's backup API, whole or not at all.
+
+    Written to a part file beside ``dest``, flushed to disk, integrity-checked,
+    then given its name; an existing ``dest`` is never overwritten, and a failed
+    or killed backup leaves nothing under that name.
+    """
+    from .files import FileWriteError, check_target, clean_stale_parts, part_path, publish
+
+    dest = Path(dest).expanduser()
     try:
-        db.conn.backup(out)
+        check_target(dest, overwrite=False)
+    except FileWriteError as e:
+        raise StorageError(f"backup not written: {e}") from None
+    clean_stale_parts(dest.parent)
+    part = part_path(dest)
+    try:
+        out = sqlite3.connect(str(part))
+        try:
+            db.conn.backup(out)
+            out.execute("PRAGMA journal_mode=DELETE")  # the copy is one self-contained file
+        finally:
+            out.close()
+        os.chmod(part, 0o600)
+        fd = os.open(part, os.O_RDONLY)  # the part file: no connection of ours is open on it now
+        try:
+            os.fsync(fd)
+        finally:
+            os.close(fd)
+        problems = check_file(part)
+        if problems:
+            raise StorageError(f"backup not written: the copy failed its check ({problems[0]}); "
+                               "the database itself was not changed")
+        publish(part, dest, overwrite=False)
+    except (sqlite3.Error, OSError) as e:
+        reason = unwritable_reason(part, e) or (e.strerror if isinstance(e, OSError) and e.strerror else str(e))
+        raise StorageError(f"backup not written to {dest}: {reason}. Nothing was left under that name; "
+                           "the database itself was not changed.") from None
     finally:
-        out.close()
-    with contextlib.suppress(OSError):
-        os.chmod(dest, 0o600)
+        for leftover in (part, part.with_name(part.name + "-journal")):
+            with contextlib.suppress(OSError):
+                os.unlink(leftover)
     return dest
 
 
@@ -215,8 +368,9 @@ def write(db: sqlite_utils.Database):
     """
     conn = db.conn
     if getattr(db, "read_only", False):
-        raise StorageError("the database is open read-only (the file or its folder cannot be written): "
-                           "nothing was saved. Make it writable, or save to another database with --db.")
+        raise WriteError(f"the database is open read-only because {db.read_only_reason}. Nothing already "
+                         "saved was harmed; make it writable, or copy it somewhere writable "
+                         "('fieldpad db backup DEST') and open the copy")
     if conn.in_transaction:
         with db.atomic():
             yield db
@@ -232,24 +386,23 @@ def write(db: sqlite_utils.Database):
         else:
             conn.execute("COMMIT")
     except sqlite3.OperationalError as e:
-        raise StorageError(_write_failure(e)) from e
+        raise WriteError(_write_failure(db, e)) from e
 
 
-def _write_failure(e: sqlite3.OperationalError) -> str:
+def _write_failure(db: sqlite_utils.Database, e: sqlite3.OperationalError) -> str:
+    """Why a write failed, in words, without a "NOT SAVED" prefix (the caller says what was not saved)."""
     text = str(e).lower()
-    if "full" in text:
-        why = "the disk (or the database's size limit) is full"
-        todo = "free some space; "
-    elif "readonly" in text or "read-only" in text:
-        why = "the database file is read-only"
-        todo = "make it writable; "
-    elif "locked" in text or "busy" in text:
-        why = "another fieldpad kept the database busy for too long"
-        todo = "try again; "
+    path = Path(db.conn.execute("PRAGMA database_list").fetchone()[2] or ":memory:")
+    reason = unwritable_reason(path, e) if str(path) != ":memory:" else None
+    if "locked" in text or "busy" in text:
+        why, todo = "another fieldpad kept the database busy for too long", "try again"
+    elif "full" in text or reason == "the disk is full":
+        why, todo = "the disk (or the database's size limit) is full", "free some space and try again"
+    elif reason or "readonly" in text or "read-only" in text:
+        why, todo = f"the database cannot be written ({reason or 'read-only'})", "make it writable"
     else:
-        why = str(e)
-        todo = ""
-    return f"NOT SAVED: {why}. Nothing already saved was harmed; {todo}what you typed is kept on screen."
+        why, todo = str(e), "run 'fieldpad db check'"
+    return f"{why}. Nothing already saved was harmed; {todo}"
 
 
 def check(db: sqlite_utils.Database) -> list[str]:
@@ -262,13 +415,20 @@ def check(db: sqlite_utils.Database) -> list[str]:
 
 def check_file(path) -> list[str]:
     """Integrity check of a database file through a read-only connection (works on a damaged file,
-    changes nothing).  Raises StorageError for a file that is not an SQLite database."""
+    changes nothing).  An empty list means a healthy fieldpad database.  Raises StorageError for a
+    path with no file or a file that is not an SQLite database."""
     p = resolve_path(path)
     if not p.exists():
-        raise StorageError(f"{p}: no such database")
-    _check_is_database(p)
-    conn = sqlite3.connect(f"{p.resolve().as_uri()}?mode=ro", uri=True)
+        raise StorageError(f"no database at {p}")
+    if p.is_dir():
+        raise StorageError(f"{p} is a folder, not a database file")
+    if p.stat().st_size == 0:
+        return ["the file is empty (0 bytes): it holds no fieldpad database"]
+    conn, _ = connect_read_only(p)
     try:
+        names = {r[0] for r in conn.execute("SELECT name FROM sqlite_master")}
+        if "_sqlite_migrations" not in names:
+            return ["no fieldpad schema in the file (an SQLite database of something else)"]
         problems = [r[0] for r in conn.execute("PRAGMA integrity_check").fetchall() if r[0] != "ok"]
         problems += [f"{t} row {rowid} refers to a missing {parent}"
                      for t, rowid, parent, _ in conn.execute("PRAGMA foreign_key_check").fetchall()]

@@ -1,8 +1,11 @@
 """The fieldpad Textual app: one App, screens in their own modules, styles in fieldpad.tcss."""
 from __future__ import annotations
 
+import asyncio
+import contextlib
 import getpass
 import os
+import signal
 import tempfile
 from datetime import date, timedelta
 from pathlib import Path
@@ -26,8 +29,24 @@ class FieldpadApp(App):
         self.site_id: str | None = None
         self.round_id: str | None = None
         self.start_note = note
+        self._worker_db = None
+
+    def worker_db(self):
+        """The connection for work in a worker thread (exports), opened once and kept for the app's life:
+        one connection per thread, never opened and closed again and again."""
+        if self._worker_db is None:
+            self._worker_db = open_db(self.db_path, create=False)
+        return self._worker_db
 
     def on_mount(self) -> None:
+        loop = asyncio.get_running_loop()
+        for sig in (signal.SIGHUP, signal.SIGTERM):
+            with contextlib.suppress(NotImplementedError, RuntimeError, ValueError):
+                loop.add_signal_handler(sig, self._hang_up)
+        if self.db.read_only:
+            self.notify(f"READ-ONLY: this database cannot be written because {self.db.read_only_reason}. "
+                        "Everything can be looked at and exported; nothing new can be saved here.",
+                        severity="warning", timeout=20)
         sites = repo.list_sites(self.db)
         if sites:
             self._open_site(sites[0]["id"])
@@ -57,7 +76,35 @@ class FieldpadApp(App):
                 yield SystemCommand(binding.description, f"key {binding.key}",
                                     lambda b=binding: self.run_action(b.action, screen))
 
+    # ---- leaving: nothing typed is lost -------------------------------------------------
+    def _unsaved_sheets(self):
+        """Screens holding typed values that are not saved as a reading (sheets say so themselves)."""
+        return [s for s in self.screen_stack if getattr(s, "has_unsaved", None) and s.has_unsaved()]
+
+    async def action_quit(self) -> None:
+        sheets = self._unsaved_sheets()
+        if not sheets:
+            self.exit()
+            return
+        kept = all([s.flush_draft() for s in sheets])
+        from .dialogs import Ask
+        if kept:
+            question = ("Quit fieldpad? What is typed on the sheet is NOT saved as a reading; it is kept "
+                        "as a draft and offered back when you open the board again. (y/n)")
+        else:
+            question = ("Quit fieldpad and LOSE what is typed? It is not saved, and it could not be kept as a "
+                        "draft (see the status line). (y/n)")
+        self.push_screen(Ask(question), lambda yes: self.exit() if yes else None)
+
+    def _hang_up(self) -> None:
+        """The terminal went away (SIGHUP) or we are asked to stop (SIGTERM): keep drafts, then exit."""
+        for s in self._unsaved_sheets():
+            s.flush_draft()
+        self.exit(return_code=1, message="fieldpad stopped by a signal; typed values were kept as drafts.")
+
     def on_unmount(self) -> None:
+        if self._worker_db is not None:
+            self._worker_db.close()
         self.db.close()
 
 
@@ -86,4 +133,4 @@ def run_app(db_arg, demo: bool = False, technician: str | None = None) -> int:
     app.run()
     if demo:
         print(f"The demo database is kept in {path} (delete it when done).")
-    return 0
+    return app.return_code or 0  # an error inside the app exits non-zero

@@ -12,6 +12,7 @@ from textual.widgets import DataTable, Input, Label, Select, Static
 
 from ..core.thresholds import Thresholds
 from ..storage import repo
+from ..storage.db import StorageError
 from ..storage.ids import local_text
 from .field_input import FieldInput
 from .key_strip import KeyStrip
@@ -31,8 +32,9 @@ class SettingsForm(ModalScreen[str | None]):
     BINDINGS = [Binding("f2", "save", "Save"), Binding("ctrl+s", "save", "Save", show=False),
                 Binding("escape", "cancel", "Cancel")]
 
-    def show_problems(self, error: repo.ValidationError) -> None:
-        text = "Not saved: " + "; ".join(f"{f}: {r}" for f, r in error.problems)
+    def show_problems(self, error: StorageError) -> None:
+        problems = getattr(error, "problems", None)
+        text = "NOT SAVED: " + ("; ".join(f"{f}: {r}" for f, r in problems) if problems else str(error))
         box = self.query_one("#form-error", Static)
         box.update(Text(text, "bold #ff5050"))
         box.scroll_visible()  # the form is taller than an 80x24 screen: bring the reason into view
@@ -85,7 +87,7 @@ class BoardForm(SettingsForm):
                 name = values.pop("name")
                 system = values.pop("system")
                 bid = repo.create_board(self.app.db, self.site_id, name, system=system, **values)
-        except repo.ValidationError as e:
+        except StorageError as e:  # bad values, or a database that cannot be written
             self.show_problems(e)
             return
         self.dismiss(bid)
@@ -160,7 +162,7 @@ class SiteForm(SettingsForm):
                 sid = self.site_id
             else:
                 sid = repo.create_site(self.app.db, **values)
-        except repo.ValidationError as e:
+        except StorageError as e:  # bad values, or a database that cannot be written
             self.show_problems(e)
             return
         self.dismiss(sid)
@@ -288,14 +290,18 @@ class BoardList(Screen):
 
     def action_round(self) -> None:
         app = self.app
-        if app.round_id:
-            repo.finish_round(app.db, app.round_id)
-            done, total = repo.round_progress(app.db, app.round_id)
-            app.round_id = None
-            self.notify(f"Round finished: {done} of {total} boards read.")
-        else:
-            app.round_id = repo.start_round(app.db, app.site_id, app.technician)
-            self.notify("Round started: readings saved now belong to it.")
+        try:
+            if app.round_id:
+                repo.finish_round(app.db, app.round_id)
+                done, total = repo.round_progress(app.db, app.round_id)
+                app.round_id = None
+                self.notify(f"Round finished: {done} of {total} boards read.")
+            else:
+                app.round_id = repo.start_round(app.db, app.site_id, app.technician)
+                self.notify("Round started: readings saved now belong to it.")
+        except StorageError as e:
+            self.notify(f"NOT SAVED: the round was not {'finished' if app.round_id else 'started'}: {e}",
+                        severity="error", timeout=12)
         self.reload()
 
     def action_sites(self) -> None:

@@ -9,6 +9,7 @@ from textual.widgets import DataTable, Static
 
 from ..report.export import analyze_rows
 from ..storage import repo
+from ..storage.db import StorageError
 from ..storage.ids import local_text
 from .dialogs import AskReason, TextPage
 from .key_strip import KeyStrip
@@ -91,7 +92,11 @@ class BoardHistory(Screen):
 
     def _void(self, rid: str, reason: str | None) -> None:
         if reason:
-            repo.void_reading(self.app.db, rid, reason=reason, by=self.app.technician)
+            try:
+                repo.void_reading(self.app.db, rid, reason=reason, by=self.app.technician)
+            except StorageError as e:
+                self.notify(f"NOT SAVED: the reading was not voided: {e}", severity="error", timeout=12)
+                return
             self.reload()
             self.notify("Reading marked void; every version is kept.")
 

@@ -288,12 +288,11 @@ class ExportDialog(ModalScreen[None]):
     @work(thread=True, exclusive=True)
     def _export(self, fmt: str) -> None:
         from ..report.export import to_csv, to_json
-        from ..report.files import atomic_write_text
-        from ..storage.db import open_db
+        from ..storage.files import atomic_write_text
 
         bar = self.query_one(ProgressBar)
         try:
-            db = open_db(self.app.db_path)  # its own connection: this runs in a worker thread
+            db = self.app.worker_db()  # its own connection: this runs in a worker thread
             site = repo.get_site(db, self.app.site_id)
             records = export_records(db, day=self.day, site=site["name"])
             self.app.call_from_thread(bar.update, progress=1)
@@ -309,7 +308,6 @@ class ExportDialog(ModalScreen[None]):
             safe_name = "".join(ch if ch.isalnum() or ch in "-_" else "-" for ch in site["name"])[:40]
             path = folder / f"fieldpad-{safe_name}-{self.day}.{fmt}"
             atomic_write_text(path, text)
-            db.close()
             self.app.call_from_thread(bar.update, progress=3)
             msg = f"Wrote {len(records)} reading(s) to {path}"
         except Exception as e:  # disk full, permissions: say so, nothing else is touched

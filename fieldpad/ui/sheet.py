@@ -14,6 +14,7 @@ from .. import phase_colours
 from ..core.readings import validate_record
 from ..core.results import analyze_records
 from ..storage import repo
+from ..storage.db import StorageError
 from ..storage.ids import local_text
 from . import phasor_art
 from .dialogs import Ask, AskReason, help_page
@@ -251,17 +252,31 @@ class ReadingSheet(Screen):
         self._draw_panel()
 
     def _save_draft(self) -> None:
-        self._draft_timer = None
+        self.flush_draft()
+
+    def has_unsaved(self) -> bool:
+        """Values typed on this sheet that are not saved as a reading."""
+        return bool(self.dirty and self.query_one(EntryGrid).entered())
+
+    def flush_draft(self) -> bool:
+        """Store what is typed as this board's draft now.  True if it is stored (or there is nothing to
+        store); False if the draft could not be written, which the status line then says."""
+        if self._draft_timer is not None:
+            self._draft_timer.stop()
+            self._draft_timer = None
         if self.correcting or not self.dirty:
-            return
+            return True
         grid = self.query_one(EntryGrid)
         try:
             if grid.entered():
                 repo.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": grid.entered()})
             else:
                 repo.clear_draft(self.app.db, self.board_id)  # emptied by hand or cleared after a save
-        except Exception as e:  # a draft that cannot be kept must not stop the typing
-            self.set_status(f"Draft not kept ({e}); your typing is still on the screen.", error=True)
+        except StorageError as e:  # a draft that cannot be kept must not stop the typing
+            self.set_status(f"DRAFT NOT KEPT: {e}. Your typing is still on the screen: save it (F2) "
+                            "once the database can be written, or write the values down.", error=True)
+            return False
+        return True
 
     def set_status(self, text: str, error: bool = False, ok: bool = False) -> None:
         st = self.query_one("#status", TextPanel)
@@ -290,8 +305,11 @@ class ReadingSheet(Screen):
         except repo.ValidationError as e:
             self.set_status(f"NOT SAVED: {e}. Nothing was lost.", error=True)
             return
-        except Exception as e:  # the disk, permissions: say so, keep the typing
-            self.set_status(f"NOT SAVED: {e}. What you typed is still here.", error=True)
+        except StorageError as e:  # the disk, permissions: say so, keep the typing (and the draft)
+            kept = self.flush_draft()
+            self.set_status(f"NOT SAVED: {e}. What you typed is still here" + (
+                "." if kept else ", but it could not be kept as a draft either: do not leave this sheet "
+                "until it is saved or written down."), error=True)
             return
         self._after_save(f"✔ SAVED {time.strftime('%H:%M:%S')} (reading {saved.reading_id[:8]}). "
                          "Sheet cleared; F3 shows it.")
@@ -304,7 +322,7 @@ class ReadingSheet(Screen):
         try:
             saved = repo.correct_reading(self.app.db, self.correcting, grid.entered(), reason=reason,
                                          by=self.technician)
-        except Exception as e:
+        except StorageError as e:
             self.set_status(f"NOT SAVED: {e}. What you typed is still here.", error=True)
             return
         self.correcting = None
@@ -356,14 +374,16 @@ class ReadingSheet(Screen):
         self.app.push_screen(help_page())
 
     def action_back(self) -> None:
-        if self.dirty and self.query_one(EntryGrid).entered():
-            self.app.push_screen(Ask("Leave this sheet? What is typed is NOT saved as a reading "
-                                     "(it stays as a draft). (y/n)"), self._leave)
-        else:
+        if not self.has_unsaved():
             self.app.pop_screen()
+        elif self.flush_draft():
+            self.app.push_screen(Ask("Leave this sheet? What is typed is NOT saved as a reading "
+                                     "(it is kept as a draft and offered back). (y/n)"), self._leave)
+        else:
+            self.app.push_screen(Ask("Leave this sheet and LOSE what is typed? It is not saved, and it "
+                                     "could not be kept as a draft (see the status line). (y/n)"), self._leave)
 
     def _leave(self, yes: bool | None) -> None:
         if yes:
-            self._save_draft()
             self.app.pop_screen()
 

@@ -1,0 +1,248 @@
+"""Nothing saved is lost on one laptop: read-only and full file systems (real tmpfs mounts), backups and
+exports that appear whole or not at all, commands that do not invent a database, messages that name the
+real file and are safe on a terminal.
+
+The mounts need root (CI runs as root); where mounting is refused the test says so and skips.
+"""
+import contextlib
+import json
+import os
+import subprocess
+import sys
+import uuid
+from pathlib import Path
+
+import pytest
+from conftest import BAL
+
+from fieldpad.report.export import export_records
+from fieldpad.storage import repo
+from fieldpad.storage.db import StorageError, WriteError, check_file, open_db
+
+
+def cli(*args, stdin=None):
+    return subprocess.run([sys.executable, "-m", "fieldpad", *args], capture_output=True, text=True,
+                          input=stdin, timeout=120)
+
+
+@contextlib.contextmanager
+def tmpfs(folder: Path, size: str):
+    folder.mkdir(parents=True, exist_ok=True)
+    r = subprocess.run(["mount", "-t", "tmpfs", "-o", f"size={size}", "tmpfs", str(folder)], capture_output=True,
+                       text=True)
+    if r.returncode != 0:
+        pytest.skip(f"cannot mount a tmpfs here ({r.stderr.strip() or 'not root'}); "
+                    "the read-only and full file-system cases need it")
+    try:
+        yield folder
+    finally:
+        subprocess.run(["umount", "-l", str(folder)], check=False)
+
+
+def remount_ro(folder: Path):
+    subprocess.run(["mount", "-o", "remount,ro", str(folder)], check=True)
+
+
+def filled(path: Path, n=3) -> str:
+    db = open_db(path)
+    bid = repo.create_board(db, repo.create_site(db, "Tide Mill"), "DB-7")
+    for _ in range(n):
+        repo.save_reading(db, bid, BAL, technician="T")
+    db.close()
+    return bid
+
+
+def fill_disk(folder: Path):
+    with open(folder / "ballast", "wb") as f, contextlib.suppress(OSError):
+        while True:
+            f.write(b"\0" * 65536)
+            f.flush()
+
+
+# ---- not writable is not damaged ---------------------------------------------------------------------
+
+@pytest.mark.parametrize("shm_left", [False, True], ids=["closed-cleanly", "wal-and-shm-left"])
+def test_read_only_file_system_opens_for_reading_and_says_why(tmp_path, shm_left):
+    with tmpfs(tmp_path / "stick", "4m") as stick:
+        p = stick / "site.db"
+        if shm_left:  # files copied while the app still had the database open: -wal and -shm beside it
+            live = tmp_path / "live.db"
+            bid = filled(live)
+            keeper = open_db(live)
+            repo.save_reading(keeper, bid, BAL)
+            for side in ("", "-wal", "-shm"):
+                (stick / f"site.db{side}").write_bytes(Path(f"{live}{side}").read_bytes())
+            keeper.close()
+        else:
+            bid = filled(p)
+        remount_ro(stick)
+        db = open_db(p)
+        assert db.read_only and "read-only file system" in db.read_only_reason
+        assert len(export_records(db)) == (4 if shm_left else 3)
+        with pytest.raises(WriteError, match="read-only"):
+            repo.save_reading(db, bid, BAL)
+        db.close()
+        chk = cli("db", "check", "--db", str(p))
+        assert chk.returncode == 0, chk.stdout + chk.stderr
+        assert "healthy" in chk.stdout and "cannot be written" in chk.stdout
+        assert "damaged or not" not in chk.stdout and "restore the" not in chk.stdout
+        info = cli("db", "info", "--db", str(p))
+        assert info.returncode == 0 and "writable: no (it is on a read-only file system" in info.stdout
+        exp = cli("export", "--db", str(p), "--format", "csv")
+        assert exp.returncode == 0 and len(exp.stdout.strip().splitlines()) == (5 if shm_left else 4)
+
+
+def test_read_only_folder_is_not_damaged(tmp_path):
+    # A folder where the -shm file cannot be created.  Root ignores permission bits, so the folder is a
+    # read-only bind of a writable one: the same file, seen through a mount that refuses writes.
+    src = tmp_path / "src"
+    src.mkdir()
+    filled(src / "site.db")
+    ro = tmp_path / "ro"
+    ro.mkdir()
+    r = subprocess.run(["mount", "--bind", "-o", "ro", str(src), str(ro)], capture_output=True, text=True)
+    if r.returncode != 0:
+        pytest.skip(f"cannot bind-mount here ({r.stderr.strip()})")
+    try:
+        subprocess.run(["mount", "-o", "remount,bind,ro", str(ro)], check=True)
+        db = open_db(ro / "site.db")
+        assert db.read_only and len(export_records(db)) == 3
+        db.close()
+        assert check_file(ro / "site.db") == []
+    finally:
+        subprocess.run(["umount", "-l", str(ro)], check=False)
+
+
+def test_full_file_system_keeps_what_is_saved_and_says_full(tmp_path):
+    with tmpfs(tmp_path / "full", "2m") as disk:
+        p = disk / "site.db"
+        bid = filled(p, 3)
+        db = open_db(p)
+        fill_disk(disk)
+        with pytest.raises(WriteError, match="full") as err:
+            for _ in range(500):
+                repo.save_reading(db, bid, BAL, note="z" * 4000)
+        assert "NOT SAVED" not in str(err.value)  # the caller says what was not saved, once
+        saved = db["reading"].count
+        db.close()
+        # Reopened on the full disk: readable, never "damaged".
+        again = open_db(p)
+        assert again["reading"].count == saved >= 3
+        again.close()
+        chk = cli("db", "check", "--db", str(p))
+        assert chk.returncode == 0 and "damaged or not" not in chk.stdout, chk.stdout
+        # A backup onto the full disk: refused, nothing under the name, no part file, and a retry says
+        # the same thing (not "already exists").
+        for _ in range(2):
+            b = cli("db", "backup", str(disk / "copy.db"), "--db", str(p))
+            assert b.returncode == 1 and "full" in b.stderr and "already exists" not in b.stderr, b.stderr
+            assert not (disk / "copy.db").exists()
+            assert not [n for n in os.listdir(disk) if n.endswith(".part")]
+        os.unlink(disk / "ballast")
+        assert cli("db", "backup", str(disk / "copy.db"), "--db", str(p)).returncode == 0
+        assert check_file(disk / "copy.db") == []
+
+
+# ---- backups and exports: whole or not at all --------------------------------------------------------
+
+@pytest.mark.parametrize("content", [b"", b"hello, not a database\n" * 10], ids=["empty", "text"])
+def test_db_check_never_calls_an_empty_or_foreign_file_ok(tmp_path, content):
+    p = tmp_path / "backup.db"
+    p.write_bytes(content)
+    r = cli("db", "check", "--db", str(p))
+    assert r.returncode == 1 and "ok" not in r.stdout.split(), r.stdout + r.stderr
+    assert p.read_bytes() == content
+
+
+def test_backup_is_checked_private_and_never_overwrites(tmp_path, db, board):
+    from fieldpad.storage.db import backup
+
+    repo.save_reading(db, board, BAL)
+    dest = backup(db, tmp_path / "copy.db")
+    assert check_file(dest) == [] and dest.stat().st_mode & 0o777 == 0o600
+    with pytest.raises(StorageError, match="already exists"):
+        backup(db, dest)
+    assert not [n for n in os.listdir(tmp_path) if n.endswith(".part")]
+
+
+def test_export_names_the_real_file_cleans_stale_parts_and_refuses_special_files(tmp_path, db, board):
+    repo.save_reading(db, board, BAL)
+    dbp = tmp_path / "field.db"
+    stale = tmp_path / ".fp-999999999-dead.part"  # left by a killed run (no such process)
+    stale.write_text("half")
+    long_name = "e" * 245 + ".json"  # 250 bytes: a valid name, with room for no long temporary prefix
+    r = cli("export", "--db", str(dbp), "--format", "json", "-o", str(tmp_path / long_name))
+    assert r.returncode == 0, r.stderr
+    assert len(json.loads((tmp_path / long_name).read_text())["readings"]) == 1
+    assert not stale.exists()
+    fifo = tmp_path / "pipe"
+    os.mkfifo(fifo)
+    r = cli("export", "--db", str(dbp), "--format", "csv", "-o", str(fifo))
+    assert r.returncode == 1 and "not a regular file" in r.stderr and str(fifo) in r.stderr
+    assert Path(fifo).is_fifo()
+    r = cli("export", "--db", str(dbp), "--format", "csv", "-o", str(tmp_path / "no-such-dir" / "x.csv"))
+    assert r.returncode == 1 and ".part" not in r.stderr and "x.csv" in r.stderr
+
+
+def test_export_to_a_full_disk_names_the_final_file(tmp_path, db, board):
+    repo.save_reading(db, board, BAL)
+    with tmpfs(tmp_path / "full", "1m") as disk:
+        fill_disk(disk)
+        r = cli("export", "--db", str(tmp_path / "field.db"), "--format", "html", "-o", str(disk / "day.html"))
+        assert r.returncode == 1 and "day.html" in r.stderr and ".part" not in r.stderr and "full" in r.stderr
+        assert not os.path.exists(disk / "day.html")
+        assert not [n for n in os.listdir(disk) if n.endswith(".part")]
+
+
+# ---- commands do not invent a database; messages name the file and are terminal-safe -----------------
+
+@pytest.mark.parametrize("args", [["export", "--format", "csv"], ["db", "info"], ["db", "backup", "b.db"],
+                                  ["db", "check"]])
+def test_reading_commands_refuse_a_path_with_no_database(tmp_path, args):
+    typo = tmp_path / "no" / "such" / "fieldpd.db"
+    r = cli(*args, "--db", str(typo))
+    assert r.returncode == 1 and "no database at" in r.stderr and str(typo) in r.stderr
+    assert not (tmp_path / "no").exists()
+
+
+def test_export_of_a_site_that_does_not_exist_is_an_error(tmp_path, db, board):
+    repo.save_reading(db, board, BAL)
+    r = cli("export", "--db", str(tmp_path / "field.db"), "--format", "csv", "--site", "North Cold Stor")
+    assert r.returncode == 2 and r.stdout == ""
+    assert "no site named 'North Cold Stor'" in r.stderr and "North Cold Store" in r.stderr
+
+
+def test_compute_into_a_closed_pipe_is_quiet(tmp_path):
+    recs = [dict(BAL) for _ in range(20000)]
+    (tmp_path / "big.json").write_text(json.dumps(recs))
+    r = subprocess.run(f"{sys.executable} -m fieldpad compute {tmp_path / 'big.json'} | head -c 10",
+                       shell=True, capture_output=True, text=True, timeout=120, executable="/bin/bash")
+    assert "Traceback" not in r.stderr and "Broken pipe" not in r.stderr, r.stderr[-500:]
+    r = subprocess.run(f"set -o pipefail; {sys.executable} -m fieldpad compute {tmp_path / 'big.json'} | head -c 10"
+                       " >/dev/null", shell=True, capture_output=True, text=True, timeout=120,
+                       executable="/bin/bash")
+    assert r.returncode == 0, r.stderr[-500:]
+
+
+def test_merge_warnings_and_messages_are_terminal_safe(tmp_path):
+    evil = "MDB\x1b]52;c;cm0gLXJmIH4=\x07-1\u202e\x9b31m"
+    a, b = tmp_path / "a.db", tmp_path / "b.db"
+    for p in (a, b):
+        d = open_db(p)
+        repo.create_board(d, repo.create_site(d, "Quay"), evil)
+        d.close()
+    r = cli("merge", str(b), "--db", str(a))
+    assert r.returncode == 0, r.stderr
+    for ch in ("\x1b", "\x07", "\u202e", "\x9b"):
+        assert ch not in r.stderr and ch not in r.stdout
+    assert "warning: board" in r.stderr
+    bad = tmp_path / "bad.csv"
+    bad.write_text("site,board,taken_at,v\x1b[2Ja\n")
+    r = cli("import", str(bad), "--db", str(a))
+    assert r.returncode == 2 and "\x1b" not in r.stderr
+
+
+def test_open_does_not_create_a_stray_file_for_a_missing_folder_with_create_false(tmp_path):
+    with pytest.raises(StorageError, match="no database at"):
+        open_db(tmp_path / f"{uuid.uuid4()}" / "x.db", create=False)
+    assert os.listdir(tmp_path) == []
