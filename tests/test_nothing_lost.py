@@ -246,3 +246,27 @@ def test_open_does_not_create_a_stray_file_for_a_missing_folder_with_create_fals
     with pytest.raises(StorageError, match="no database at"):
         open_db(tmp_path / f"{uuid.uuid4()}" / "x.db", create=False)
     assert os.listdir(tmp_path) == []
+
+
+@pytest.mark.parametrize("name", ["laptop #2.db", "what?.db", "100%25.db"])
+def test_merge_reads_the_other_file_only_and_takes_any_name(tmp_path, name):
+    main, other = tmp_path / "main.db", tmp_path / name
+    filled(main, 1)
+    filled(other, 2)
+    keeper = open_db(other)  # the other laptop's app still has it open: its -wal exists
+    repo.save_reading(keeper, repo.list_boards(keeper, repo.list_sites(keeper)[0]["id"])[0]["id"], BAL)
+    before = {side: Path(f"{other}{side}").read_bytes() for side in ("", "-wal")}
+    r = cli("merge", str(other), "--db", str(main))
+    assert r.returncode == 0, r.stderr
+    assert "added" in r.stdout and "3 reading(s)" in r.stdout
+    after = {side: Path(f"{other}{side}").read_bytes() for side in ("", "-wal")}
+    assert after == before  # not checkpointed, not grown: merge wrote nothing to it
+    keeper.close()
+    assert sorted(os.listdir(tmp_path)) == sorted(["main.db", name])
+
+
+def test_merge_into_itself_is_refused_at_once(tmp_path):
+    p = tmp_path / "self.db"
+    filled(p, 1)
+    r = cli("merge", str(p), "--db", str(p))
+    assert r.returncode == 1 and "the database being merged into" in r.stderr

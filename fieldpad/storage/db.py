@@ -85,7 +85,10 @@ def schema_version_names() -> list[str]:
 
 
 def connect(path: Path) -> sqlite3.Connection:
-    conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_MS / 1000, isolation_level=None,
+    """A read-write connection with fieldpad's settings.  Opened by URI (``as_uri`` quotes ``#``, ``?`` and
+    ``%`` in names), so that ATTACH on it takes URIs too (merge attaches the other file read-only)."""
+    name, uri = (":memory:", False) if str(path) == ":memory:" else (path.resolve().as_uri(), True)
+    conn = sqlite3.connect(name, uri=uri, timeout=BUSY_TIMEOUT_MS / 1000, isolation_level=None,
                            check_same_thread=False)
     try:
         _settings(conn, path)
@@ -104,7 +107,7 @@ def _settings(conn: sqlite3.Connection, path: Path) -> None:
     conn.execute("PRAGMA synchronous=FULL")
 
 
-def _uri(path: Path, *, immutable: bool = False) -> str:
+def read_only_uri(path: Path, *, immutable: bool = False) -> str:
     """A read-only SQLite URI for ``path`` (``as_uri`` quotes ``#``, ``?`` and ``%`` in names)."""
     return path.resolve().as_uri() + ("?immutable=1" if immutable else "?mode=ro")
 
@@ -172,7 +175,7 @@ def connect_read_only(path: Path) -> tuple[sqlite3.Connection, str | None]:
     """
     last = None
     for immutable in (False, True):
-        conn = sqlite3.connect(_uri(path, immutable=immutable), uri=True, isolation_level=None,
+        conn = sqlite3.connect(read_only_uri(path, immutable=immutable), uri=True, isolation_level=None,
                                check_same_thread=False, timeout=BUSY_TIMEOUT_MS / 1000)
         try:
             conn.execute("SELECT COUNT(*) FROM sqlite_master").fetchone()

@@ -11,11 +11,11 @@ reported, not silently doubled or joined.
 from __future__ import annotations
 
 import json
-import sqlite3
+import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .db import StorageError, schema_version_names, write
+from .db import StorageError, connect_read_only, read_only_uri, schema_version_names, write
 
 TABLES = ("site", "board", "round", "reading")
 EDITABLE = {"site": "updated_at", "board": "updated_at", "round": None}
@@ -29,13 +29,14 @@ class MergeReport:
     same_name_sites: list = field(default_factory=list)
 
 
-def _check_other(path: Path) -> None:
+def _check_other(db, path: Path) -> None:
+    """Read the other file through SQLite only (never a plain open: see ``db.open_db``), read-only."""
     if not path.exists():
         raise StorageError(f"{path}: no such file")
-    with open(path, "rb") as f:
-        if f.read(16) != b"SQLite format 3\x00":
-            raise StorageError(f"{path} is not a fieldpad database (not an SQLite file)")
-    conn = sqlite3.connect(f"file:{path}?mode=ro", uri=True)
+    main_file = db.conn.execute("PRAGMA database_list").fetchone()[2]
+    if main_file and os.path.exists(main_file) and os.path.samefile(main_file, path):
+        raise StorageError(f"{path} is the database being merged into: nothing to bring in")
+    conn, _ = connect_read_only(path)
     try:
         names = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type='table'")}
         if not {"site", "board", "round", "reading", "_sqlite_migrations"} <= names:
@@ -54,10 +55,11 @@ def _key(row: dict, stamp: str | None):
 
 def merge_file(db, other: str | Path) -> MergeReport:
     other = Path(other)
-    _check_other(other)
+    _check_other(db, other)
     report = MergeReport()
     conn = db.conn
-    conn.execute("ATTACH DATABASE ? AS other", [str(other)])
+    # Read-only: merging never writes to (or checkpoints) the other laptop's file.
+    conn.execute("ATTACH DATABASE ? AS other", [read_only_uri(other)])
     try:
         with write(db):
             for table in TABLES:
