@@ -10,7 +10,7 @@ import json
 
 from .core.readings import validate_record
 from .core.results import RESULT_FIELDS, analyze_records
-from .records_io import extra_columns_problem, parse_records, write_csv
+from .records_io import PROBLEMS_KEY, parse_records, record_problems, write_csv
 
 BLOCK = 20_000
 
@@ -23,10 +23,11 @@ def check_input(data: bytes):
     parsed = parse_records(data)
     problems, clean = [], []
     for where, rec in parsed.records:
-        extra = extra_columns_problem(rec)
-        if extra:
-            problems.append(f"{where}: {extra[0]}: {extra[1]}")
+        early = record_problems(rec)
+        problems.extend(f"{where}: {f}: {r}" for f, r in early)
+        if early and "__extra__" in rec:
             continue
+        rec.pop(PROBLEMS_KEY, None)
         c, probs = validate_record(rec)
         problems.extend(f"{where}: {field}: {reason}" for field, reason in probs)
         clean.append(c)

@@ -13,6 +13,10 @@ import json
 from dataclasses import dataclass
 
 
+#: The ``format`` of the document that ``fieldpad export --format json`` writes.
+EXPORT_FORMAT = "fieldpad-export"
+
+
 class InputError(ValueError):
     """The input as a whole cannot be read; ``str()`` says why."""
 
@@ -42,14 +46,20 @@ def parse_records(data: bytes) -> ParsedInput:
         raise InputError("the input is empty: no readings")
     if stripped[0] in "[{":
         try:
-            obj = json.loads(text, parse_constant=_reject_constant)
+            obj = json.loads(text, parse_constant=_Constant, object_pairs_hook=_object)
         except json.JSONDecodeError as e:
             raise InputError(f"line {e.lineno} column {e.colno}: malformed JSON ({e.msg})") from None
         except ValueError as e:
             raise InputError(f"malformed JSON: {e}") from None
         except RecursionError:
             raise InputError("malformed JSON: nested too deeply to be readings") from None
-        if isinstance(obj, dict):
+        if isinstance(obj, dict) and obj.get("format") == EXPORT_FORMAT and isinstance(obj.get("readings"), list):
+            # A file written by `fieldpad export --format json`: its readings, inputs beside the meta fields
+            # (results and findings are computed again; import reads past them as for CSV).
+            obj = [_flat_export_record(r) for r in obj["readings"]]
+            if not obj:
+                raise InputError("the export holds no readings")
+        elif isinstance(obj, dict):
             return ParsedInput([("record 1", obj)], "json-object")
         if not obj:
             raise InputError("the JSON array is empty: no readings")
@@ -62,8 +72,33 @@ def parse_records(data: bytes) -> ParsedInput:
     return ParsedInput(_parse_csv(text), "csv")
 
 
-def _reject_constant(name):
-    raise ValueError(f"{name} is not allowed in JSON readings (not a finite number)")
+def _flat_export_record(rec):
+    if not isinstance(rec, dict):
+        return rec
+    inputs = rec.get("inputs") if isinstance(rec.get("inputs"), dict) else {}
+    flat = {k: v for k, v in rec.items() if k not in ("inputs", "results", "findings", "board_id")}
+    return {**flat, **inputs}
+
+
+class _Constant(str):
+    """A JSON ``NaN``/``Infinity``/``-Infinity`` met while parsing: reported with its record and field."""
+
+
+def _object(pairs):
+    """A JSON object; a field given twice or given NaN/Infinity is kept as a problem of its record
+    (reported as ``record N: field: reason``), never silently last-wins."""
+    obj, problems = {}, []
+    for key, value in pairs:
+        if key in obj or any(f == key for f, _ in problems):
+            problems.append((key, "is given twice in this record; give it once"))
+            continue
+        if isinstance(value, _Constant):
+            problems.append((key, f"{value} is not allowed in JSON readings (not a finite number)"))
+            value = None
+        obj[key] = value
+    if problems:
+        obj[PROBLEMS_KEY] = problems
+    return obj
 
 
 def _parse_csv(text: str):
@@ -97,11 +132,15 @@ def _parse_csv(text: str):
     return recs
 
 
-def extra_columns_problem(record: dict):
-    """The problem for a CSV row with more values than header columns, if any."""
+PROBLEMS_KEY = "__problems__"
+
+
+def record_problems(record: dict) -> list[tuple[str, str]]:
+    """Problems found while reading a record, as (field, reason): a CSV row with more values than the
+    header has columns, a JSON field given twice or given NaN/Infinity."""
     if "__extra__" in record:
-        return ("(row)", f"{record['__extra__']} more value(s) than the header has columns")
-    return None
+        return [("(row)", f"{record['__extra__']} more value(s) than the header has columns")]
+    return list(record.get(PROBLEMS_KEY, ()))
 
 
 def csv_cell(value):

@@ -270,3 +270,54 @@ def test_merge_into_itself_is_refused_at_once(tmp_path):
     filled(p, 1)
     r = cli("merge", str(p), "--db", str(p))
     assert r.returncode == 1 and "the database being merged into" in r.stderr
+
+
+@pytest.mark.parametrize("fmt", ["csv", "json"])
+def test_every_note_the_app_stores_imports_back_from_its_export(tmp_path, fmt):
+    from test_robustness import HOSTILE
+
+    src = tmp_path / "src.db"
+    d = open_db(src)
+    bid = repo.create_board(d, repo.create_site(d, "Hostile\x1b[2J Yard"), "DB\u202e-1")
+    for note in HOSTILE + ["line one\nline two", "\x9b31m C1", "\ttab first", "'quoted' by hand?"]:
+        repo.save_reading(d, bid, BAL, note=note, technician="T\x07")
+    notes = sorted(r["note"] for r in d.query("SELECT note FROM reading"))
+    d.close()
+    out = tmp_path / f"day.{fmt}"
+    assert cli("export", "--db", str(src), "--format", fmt, "-o", str(out)).returncode == 0
+    dst = tmp_path / "dst.db"
+    r = cli("import", str(out), "--db", str(dst))
+    assert r.returncode == 0, r.stderr
+    d = open_db(dst)
+    assert sorted(r["note"] for r in d.query("SELECT note FROM reading")) == notes
+    assert {r["name"] for r in d.query("SELECT name FROM site")} == {"Hostile\x1b[2J Yard"}
+    d.close()
+
+
+def test_json_constants_and_duplicate_keys_name_the_record_and_field(tmp_path):
+    data = '[{"va": 277, "vb": 277, "vc": 277}, {"va": NaN, "vb": 277, "vb": 270, "vc": -Infinity}]'
+    r = cli("compute", stdin=data)
+    assert r.returncode == 2 and r.stdout == ""
+    lines = r.stderr.splitlines()
+    assert "record 2: va: NaN is not allowed in JSON readings (not a finite number)" in lines
+    assert "record 2: vb: is given twice in this record; give it once" in lines
+    assert "record 2: vc: -Infinity is not allowed in JSON readings (not a finite number)" in lines
+    assert not any(line.startswith("record 1") for line in lines)
+
+
+@pytest.mark.parametrize("taken_at, why", [("2026-03-29T02:30:00", "does not exist"),
+                                           ("2026-10-25T02:30:00", "happened twice")])
+def test_local_times_that_a_clock_change_makes_unclear_are_refused(tmp_path, taken_at, why):
+    # Europe/Berlin: clocks forward 2026-03-29 02:00 -> 03:00, back 2026-10-25 03:00 -> 02:00 (EU summer-time
+    # rule, Directive 2000/84/EC art. 2-3: last Sunday of March and of October at 01:00 UTC).
+    f = tmp_path / "r.csv"
+    f.write_text(f"site,board,taken_at,va,vb,vc\nS,B,{taken_at},277,277,277\n")
+    db = tmp_path / "x.db"
+    r = subprocess.run([sys.executable, "-m", "fieldpad", "import", str(f), "--db", str(db)], capture_output=True,
+                       text=True, timeout=120, env={**os.environ, "TZ": "Europe/Berlin"})
+    assert r.returncode == 2 and f"line 2: taken_at: '{taken_at}' {why}" in r.stderr, r.stderr
+    ok = f.read_text().replace(taken_at, taken_at + "+01:00")
+    f.write_text(ok)
+    r = subprocess.run([sys.executable, "-m", "fieldpad", "import", str(f), "--db", str(db)], capture_output=True,
+                       text=True, timeout=120, env={**os.environ, "TZ": "Europe/Berlin"})
+    assert r.returncode == 0, r.stderr

@@ -237,3 +237,22 @@ def records_to_columns(clean_records: list[dict]):
     system = np.array([SYSTEMS[r.get("system") or "wye"] for r in clean_records], dtype=np.int8).reshape(n)
     standard = np.array([STANDARDS[r.get("standard") or ANSI] for r in clean_records], dtype=np.int8).reshape(n)
     return cols, system, standard
+
+
+def stored_text(value, limit: int = 10_000) -> tuple[str | None, str | None]:
+    """The one rule for text a person gave (site, board, technician, round, instrument, note), whether
+    typed in the app, imported or merged: surrounding white space is dropped, an empty text is None,
+    at most ``limit`` characters, no NUL.  Anything else is kept exactly as given (control characters
+    too: they are made visible where text is shown, and neutralised in exports), so every export
+    imports back.  Returns ``(text, None)`` or ``(None, reason)``.
+    """
+    if value is None:
+        return None, None
+    text = str(value).strip()
+    if not text:
+        return None, None
+    if "\x00" in text:
+        return None, "contains a NUL character"
+    if len(text) > limit:
+        return None, f"is {len(text)} characters; at most {limit}"
+    return text, None

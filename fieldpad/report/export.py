@@ -13,7 +13,7 @@ from datetime import date, datetime, time, timedelta
 from ..core.analysis import NUMERIC_FIELDS
 from ..core.results import RESULT_FIELDS, analyze_records
 from ..core.thresholds import Thresholds
-from ..records_io import findings_cell
+from ..records_io import EXPORT_FORMAT, findings_cell
 from ..storage import repo
 from ..storage.ids import local_text, to_utc_text, utc_now
 
@@ -102,6 +102,6 @@ def to_csv(records: list[dict]) -> str:
 
 
 def to_json(records: list[dict], *, day=None, site=None) -> str:
-    doc = {"format": "fieldpad-export", "format_version": FORMAT_VERSION, "generated_at": utc_now(),
+    doc = {"format": EXPORT_FORMAT, "format_version": FORMAT_VERSION, "generated_at": utc_now(),
            "filters": {"day": day, "site": site}, "readings": records}
     return json.dumps(doc, ensure_ascii=False, indent=2) + "\n"

@@ -49,7 +49,22 @@ def parse_time(text: str) -> str:
         raise ValueError(f"{text!r} is not an ISO 8601 date and time (e.g. 2026-03-14T09:30:00+01:00)") from None
     if not 1990 <= dt.year <= 2200:
         raise ValueError(f"{text!r}: year {dt.year} is not plausible for a reading")
+    if dt.tzinfo is None:
+        _check_local_time(text, dt)
     return to_utc_text(dt)
+
+
+def _check_local_time(text: str, dt: datetime) -> None:
+    """A time without an offset is this laptop's local time: refuse one that does not exist (the clocks
+    went forward over it) or that happened twice (the clocks went back), since either would be stored
+    as a guess."""
+    early, late = dt.replace(fold=0).astimezone(timezone.utc), dt.replace(fold=1).astimezone(timezone.utc)
+    if early != late:
+        if early.astimezone().replace(tzinfo=None) != dt and late.astimezone().replace(tzinfo=None) != dt:
+            raise ValueError(f"{text!r} does not exist in this laptop's time zone (the clocks went forward "
+                             "over it): give the time with its UTC offset, e.g. 2026-03-29T03:30:00+02:00")
+        raise ValueError(f"{text!r} happened twice in this laptop's time zone (the clocks went back): give "
+                         "the time with its UTC offset, e.g. 2026-10-25T02:30:00+01:00")
 
 
 def local_text(utc_text: str | None, fmt: str = "%Y-%m-%d %H:%M") -> str:

@@ -12,9 +12,9 @@ import json
 from dataclasses import dataclass, field
 
 from ..core.analysis import NUMERIC_FIELDS
-from ..core.readings import validate_record
+from ..core.readings import stored_text, validate_record
 from ..core.results import RESULT_FIELDS
-from ..records_io import extra_columns_problem, parse_records
+from ..records_io import PROBLEMS_KEY, parse_records, record_problems
 from . import repo
 from .db import write
 from .ids import parse_time, utc_now, uuid7
@@ -51,18 +51,17 @@ def import_bytes(db, data: bytes, progress=None) -> ImportReport:
     report = ImportReport()
     prepared = []
     for where, rec in parsed.records:
-        extra = extra_columns_problem(rec)
-        if extra:
-            report.problems.append(f"{where}: {extra[0]}: {extra[1]}")
+        early = record_problems(rec)
+        report.problems.extend(f"{where}: {f}: {r}" for f, r in early)
+        if early and "__extra__" in rec:
             continue
+        rec.pop(PROBLEMS_KEY, None)
         rec = {k: v for k, v in rec.items() if k not in EXPORT_ONLY}
         clean, problems = validate_record(rec, extra_fields=META)
         for name in META:
-            value = _unquote(clean.get(name))
-            if value is not None and len(value) > TEXT_LIMITS.get(name, 10_000):
-                problems.append((name, f"is {len(value)} characters; at most {TEXT_LIMITS[name]}"))
-            if value is not None and any(ord(c) < 32 and c not in "\t\n" for c in value):
-                problems.append((name, "contains control characters"))
+            value, why = stored_text(_unquote(rec.get(name)), TEXT_LIMITS.get(name, 10_000))
+            if why:
+                problems.append((name, why))
             clean[name] = value
         for name in ("site", "board", "taken_at"):
             if not clean.get(name):

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import sqlite_utils
 
 from ..core.analysis import NUMERIC_FIELDS
-from ..core.readings import validate_record
+from ..core.readings import stored_text, validate_record
 from ..core.thresholds import Thresholds
 from ..phase_colours import COLOUR_SETS
 from .db import StorageError, write
@@ -34,13 +34,11 @@ class ValidationError(StorageError):
 
 
 def _clean_text(value, field, problems, required=False, limit=10_000):
-    if value is None or (isinstance(value, str) and not value.strip()):
-        if required:
-            problems.append((field, "is required"))
-        return None
-    text = str(value).strip()
-    if len(text) > limit:
-        problems.append((field, f"is {len(text)} characters; at most {limit}"))
+    text, why = stored_text(value, limit)
+    if why:
+        problems.append((field, why))
+    elif text is None and required:
+        problems.append((field, "is required"))
     return text
 
 
