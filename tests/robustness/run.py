@@ -23,6 +23,7 @@ from hypothesis import strategies as st
 
 sys.path.insert(0, str(Path(__file__).parent))
 from crash import WRITER, kill_test, setup  # noqa: E402
+from second_open import second_open_test  # noqa: E402
 
 from fieldpad.compute_cmd import check_input, write_results  # noqa: E402
 from fieldpad.core.readings import FIELD_KIND, ReadingError, parse_value  # noqa: E402
@@ -201,6 +202,20 @@ def run_crash(tmp, kills):
     figure("integrity check after the kills", 1, len(problems))
 
 
+def run_second_open(tmp, tries):
+    """The lost-WAL scenario: a second open of the same file in one process, other processes coming and
+    going, then saves and SIGKILL (tests/robustness/second_open.py)."""
+    reported = lost = integrity = 0
+    for k in range(tries):
+        folder = Path(tmp) / f"second-open-{k}"
+        folder.mkdir()
+        n, gone, problems = second_open_test(folder, n=5)
+        reported, lost, integrity = reported + n, lost + gone, integrity + bool(problems)
+    figure(f"second open in one process + another process's command + SIGKILL ({reported} readings reported "
+           "saved)", tries, lost, extra="readings lost")
+    figure("integrity failures after those kills", tries, integrity)
+
+
 # ---- 3. concurrent use ---------------------------------------------------------------------
 
 EXPORTER = r"""
@@ -240,14 +255,26 @@ def run_concurrent(tmp, seconds):
 
 # ---- 4-7. the rest, as pytest cases ----------------------------------------------------------
 
+CASES = [
+    ("damaged/foreign/newer files, size-limit full, hostile text, safe files", ["tests/test_robustness.py"]),
+    ("real read-only and full file systems (tmpfs), backups and exports whole or not at all, missing databases, "
+     "terminal-safe messages, export imports back", ["tests/test_nothing_lost.py"]),
+    ("app: drafts through Esc, Ctrl+Q, SIGHUP and a full disk; writes on a read-only database",
+     ["tests/test_ui_nothing_lost.py"]),
+]
+
+
 def run_cases():
-    r = subprocess.run([sys.executable, "-m", "pytest", "-o", "addopts=", "-q", "-p", "no:cacheprovider",
-                        "tests/test_robustness.py"],
-                       capture_output=True, text=True)
-    m = re.search(r"(\d+) passed", r.stdout)
-    f = re.search(r"(\d+) failed", r.stdout)
-    figure("full disk, read-only, damaged/foreign/newer files, hostile text, safe files (test cases)",
-           int(m.group(1) if m else 0) + int(f.group(1) if f else 0), int(f.group(1)) if f else 0)
+    for name, files in CASES:
+        r = subprocess.run([sys.executable, "-m", "pytest", "-o", "addopts=", "-q", "-rs", "-p", "no:cacheprovider",
+                            *files], capture_output=True, text=True, cwd=Path(__file__).parents[2])
+        counts = {k: int(m.group(1)) if (m := re.search(rf"(\d+) {k}", r.stdout)) else 0
+                  for k in ("passed", "failed", "skipped", "error")}
+        skipped = [line for line in r.stdout.splitlines() if line.startswith("SKIPPED")]
+        figure(f"{name} (test cases)", sum(counts.values()), counts["failed"] + counts["error"],
+               extra=f"{counts['skipped']} skipped" + (f": {skipped[0][:150]}" if skipped else ""))
+        if counts["failed"] or counts["error"]:
+            print(r.stdout[-3000:], file=sys.stderr)
 
 
 def main():
@@ -264,6 +291,7 @@ def main():
                      f"{c['unnamed']} rejections not naming the record, field and reason")
         run_cli_cases(tmp)
         run_crash(tmp, 10 if QUICK else 50)
+        run_second_open(tmp, 3 if QUICK else 10)
         run_concurrent(tmp, 8 if QUICK else 30)
     run_cases()
     print(f"robustness run took {time.perf_counter() - t0:.0f} s; figures that must be 0 and are not: "
