@@ -12,7 +12,6 @@ import io
 import json
 from dataclasses import dataclass
 
-
 #: The ``format`` of the document that ``fieldpad export --format json`` writes.
 EXPORT_FORMAT = "fieldpad-export"
 

@@ -1,12 +1,12 @@
 import pytest
 from hypothesis import settings
 
+from fieldpad.storage import repo
+from fieldpad.storage.db import open_db
+
 # Property tests check values, not speed: no per-example deadline (a slow CI machine must not fail them).
 settings.register_profile("fieldpad", deadline=None)
 settings.load_profile("fieldpad")
-
-from fieldpad.storage import repo
-from fieldpad.storage.db import open_db
 
 BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120",
        "ia": "100", "ib": "100", "ic": "100", "ia_deg": "-30", "ib_deg": "-150", "ic_deg": "90"}

@@ -11,10 +11,10 @@ import pytest
 from conftest import BAL
 
 from fieldpad.report.export import export_records, to_csv
-from fieldpad.storage.files import atomic_write_text
 from fieldpad.report.html import to_html
 from fieldpad.storage import repo
 from fieldpad.storage.db import StorageError, open_db
+from fieldpad.storage.files import atomic_write_text
 from fieldpad.ui.safe import printable
 
 

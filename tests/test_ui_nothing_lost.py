@@ -5,7 +5,6 @@ import shutil
 import time
 
 import pytest
-from conftest import BAL
 from test_nothing_lost import fill_disk, filled, remount_ro, tmpfs
 from test_ui import Terminal, seeded
 

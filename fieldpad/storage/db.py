@@ -13,7 +13,7 @@ from __future__ import annotations
 import contextlib
 import os
 import sqlite3
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from importlib import resources
 from pathlib import Path
 
@@ -308,7 +308,7 @@ def _migrate(db: sqlite_utils.Database, path: Path, read_only: bool = False) -> 
         raise StorageError(f"{path} needs an upgrade to this fieldpad's schema but the file is read-only. "
                            "Nothing was changed: make it writable, or use the fieldpad that wrote it.")
     if applied and str(path) != ":memory:":
-        stamp = datetime.now(timezone.utc).strftime("%Y%m%dT%H%M%SZ")
+        stamp = datetime.now(UTC).strftime("%Y%m%dT%H%M%SZ")
         backup(db, path.with_name(f"{path.name}.before-{pending[0].name}-{stamp}.bak"))
     # Under the write lock, so two processes opening a new file do not both migrate it.
     with write(db):

@@ -9,7 +9,7 @@ from __future__ import annotations
 import os
 import time
 import uuid
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 
 
 def uuid7() -> str:
@@ -25,14 +25,14 @@ def uuid7() -> str:
 
 
 def utc_now() -> str:
-    return to_utc_text(datetime.now(timezone.utc))
+    return to_utc_text(datetime.now(UTC))
 
 
 def to_utc_text(dt: datetime) -> str:
     """UTC ISO 8601 text; a naive datetime is taken as the machine's local time."""
     if dt.tzinfo is None:
         dt = dt.astimezone()  # local time zone of this machine
-    return dt.astimezone(timezone.utc).strftime("%Y-%m-%dT%H:%M:%S.%fZ")
+    return dt.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%S.%fZ")
 
 
 def parse_time(text: str) -> str:
@@ -58,7 +58,7 @@ def _check_local_time(text: str, dt: datetime) -> None:
     """A time without an offset is this laptop's local time: refuse one that does not exist (the clocks
     went forward over it) or that happened twice (the clocks went back), since either would be stored
     as a guess."""
-    early, late = dt.replace(fold=0).astimezone(timezone.utc), dt.replace(fold=1).astimezone(timezone.utc)
+    early, late = dt.replace(fold=0).astimezone(UTC), dt.replace(fold=1).astimezone(UTC)
     if early != late:
         if early.astimezone().replace(tzinfo=None) != dt and late.astimezone().replace(tzinfo=None) != dt:
             raise ValueError(f"{text!r} does not exist in this laptop's time zone (the clocks went forward "

@@ -18,7 +18,7 @@ import statistics
 import sys
 import tempfile
 import time
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 from fieldpad.report.export import export_records
@@ -42,7 +42,7 @@ def build(path: Path, n: int):
     boards = [repo.create_board(db, sid, f"B{k:03d}", nominal_v=480) for k in range(500)]
     cols = [r[1] for r in db.execute("PRAGMA table_info(reading)").fetchall()]
     rng = random.Random(5)
-    t0 = datetime(2026, 1, 1, tzinfo=timezone.utc)
+    t0 = datetime(2026, 1, 1, tzinfo=UTC)
     inputs = json.dumps(BAL)
     t = time.perf_counter()
     db.conn.execute("PRAGMA synchronous=OFF")  # building the fixture only

@@ -170,8 +170,8 @@ def main():
         build_demo(db)
         own, trip, shown = asyncio.run(keystrokes(db))
         print(f"keystrokes measured: {len(trip)}")
-        print(f"sheet update per keystroke (parse, analysis, results, drawing): median {statistics.median(own):.2f} ms, "
-              f"p95 {pct(own, 0.95):.2f} ms")
+        print("sheet update per keystroke (parse, analysis, results, drawing): "
+              f"median {statistics.median(own):.2f} ms, p95 {pct(own, 0.95):.2f} ms")
         print(f"key press to the screen update rendered, at Textual's 60 frames/s ({len(shown)} updates): "
               f"median {statistics.median(shown):.2f} ms, p95 {pct(shown, 0.95):.2f} ms")
         print(f"key press to idle (pilot round trip): median {statistics.median(trip):.2f} ms, "
