@@ -15,6 +15,7 @@ from pathlib import Path
 from .textsafe import printable
 
 MAX_PROBLEMS = 20
+_OPENED: list = []  # databases a command opened: main() closes them, so the WAL is folded back and removed
 
 
 def _report_problems(problems: list[str]) -> int:
@@ -57,6 +58,7 @@ def _open(args, *, create: bool = False):
     path = resolve_path(args.db)
     new = create and not path.exists()
     db = open_db(path, create=create)
+    _OPENED.append(db)  # closed by main() when the command ends
     if new:
         print(f"created a new database at {path}", file=sys.stderr)
     return db
@@ -276,7 +278,7 @@ def main(argv=None) -> int:
     if not hasattr(args, "technician"):
         args.technician = None
     try:
-        return args.func(args)
+        return _run(args)
     except BrokenPipeError:
         # The reader of our output went away (``fieldpad compute big.json | head -1``): not an error.
         # Point stdout at /dev/null so Python's own flush at exit does not complain again.
@@ -295,6 +297,15 @@ def main(argv=None) -> int:
         return 1
     except KeyboardInterrupt:
         return 130
+
+
+def _run(args) -> int:
+    try:
+        return args.func(args)
+    finally:
+        while _OPENED:
+            with contextlib.suppress(Exception):
+                _OPENED.pop().close()
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,4 +1,5 @@
-"""`fieldpad compute` end to end, through a subprocess."""
+"""`fieldpad compute` end to end: the command line in process (tests/cli_runner.py), and once as the installed
+program in a process of its own."""
 import csv
 import io
 import json
@@ -6,14 +7,14 @@ import subprocess
 import sys
 
 import pytest
+from cli_runner import run_cli
 
 BAL = {"va": 277, "vb": 277, "vc": 277, "va_deg": 0, "vb_deg": -120, "vc_deg": 120,
        "ia": 100, "ib": 100, "ic": 100, "ia_deg": -30, "ib_deg": -150, "ic_deg": 90}
 
 
 def compute(stdin: bytes, *args):
-    return subprocess.run([sys.executable, "-m", "fieldpad", "compute", *args], input=stdin,
-                          capture_output=True, timeout=60)
+    return run_cli("compute", *args, stdin=stdin, text=False)
 
 
 def test_json_object_in_object_out():
@@ -28,6 +29,7 @@ def test_json_array_and_file_argument(tmp_path):
     f = tmp_path / "r.json"
     f.write_text(json.dumps([BAL, {"system": "delta", "vab": 460, "vbc": 467, "vca": 450}]))
     p = subprocess.run([sys.executable, "-m", "fieldpad", "compute", str(f)], capture_output=True, timeout=60)
+    assert p.returncode == 0 and p.stderr == b""  # the installed program, in its own process
     out = json.loads(p.stdout)
     assert [r["rotation"] for r in out] == ["ABC", "unknown"]
     assert out[1]["lvur_pct"] == pytest.approx(1.9608, abs=1e-4)

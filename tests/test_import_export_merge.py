@@ -2,10 +2,9 @@
 import csv
 import io
 import json
-import subprocess
-import sys
 
 import pytest
+from cli_runner import run_cli
 from conftest import BAL
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -22,9 +21,6 @@ GOOD = ("site,board,taken_at,technician,round,system,vab,vbc,vca,note\n"
         "Plant 7,LP-1,2026-12-01T09:10:00Z,Ana,AM,wye,,,,\n")
 
 
-def run_cli(*args, stdin=None):
-    return subprocess.run([sys.executable, "-m", "fieldpad", *args], capture_output=True, text=True,
-                          input=stdin, timeout=120)
 
 
 class TestImport:

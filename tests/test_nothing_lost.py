@@ -13,6 +13,7 @@ import uuid
 from pathlib import Path
 
 import pytest
+from cli_runner import run_cli
 from conftest import BAL
 
 from fieldpad.report.export import export_records
@@ -21,8 +22,7 @@ from fieldpad.storage.db import StorageError, WriteError, check_file, open_db
 
 
 def cli(*args, stdin=None):
-    return subprocess.run([sys.executable, "-m", "fieldpad", *args], capture_output=True, text=True,
-                          input=stdin, timeout=120)
+    return run_cli(*args, stdin=stdin)
 
 
 @contextlib.contextmanager
