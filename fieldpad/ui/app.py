@@ -14,6 +14,7 @@ from textual.app import App, SystemCommand
 
 from ..storage import repo
 from ..storage.db import open_db
+from .messages import OpenDayReview, OpenHistory, OpenSheet
 
 
 class FieldpadApp(App):
@@ -68,6 +69,20 @@ class FieldpadApp(App):
         open_rounds = [r for r in repo.list_rounds(self.db, site_id) if not r["finished_at"]]
         self.round_id = open_rounds[0]["id"] if open_rounds else None
         self.push_screen(BoardList())
+
+    # ---- screens ask for screens (ui/messages.py); only the app knows them all --------------
+    def on_open_sheet(self, message: OpenSheet) -> None:
+        from .sheet import ReadingSheet
+        self.push_screen(ReadingSheet(message.board_id, round_id=None if message.correcting else self.round_id,
+                                      correcting=message.correcting, technician=self.technician))
+
+    def on_open_history(self, message: OpenHistory) -> None:
+        from .history import BoardHistory
+        self.push_screen(BoardHistory(message.board_id))
+
+    def on_open_day_review(self, message: OpenDayReview) -> None:
+        from .review import DayReview
+        self.push_screen(DayReview())
 
     def get_system_commands(self, screen):
         yield from super().get_system_commands(screen)

@@ -16,6 +16,7 @@ from ..storage.db import StorageError
 from ..storage.ids import local_text
 from .field_input import FieldInput
 from .key_strip import KeyStrip
+from .messages import OpenDayReview, OpenHistory, OpenSheet
 from .safe import markup_safe, printable
 from .tables import selected_key
 
@@ -271,8 +272,7 @@ class BoardList(Screen):
         if bid is None:
             self.notify("No board selected: press n to create one.")
             return
-        from .sheet import ReadingSheet
-        self.app.push_screen(ReadingSheet(bid, round_id=self.app.round_id, technician=self.app.technician))
+        self.post_message(OpenSheet(bid))
 
     def action_new_board(self) -> None:
         self.app.push_screen(BoardForm(self.app.site_id), lambda bid: self.reload())
@@ -285,8 +285,7 @@ class BoardList(Screen):
     def action_history(self) -> None:
         bid = self._selected()
         if bid:
-            from .history import BoardHistory
-            self.app.push_screen(BoardHistory(bid))
+            self.post_message(OpenHistory(bid))
 
     def action_round(self) -> None:
         app = self.app
@@ -313,8 +312,7 @@ class BoardList(Screen):
         self.app.push_screen(SitePicker(), chosen)
 
     def action_review(self) -> None:
-        from .review import DayReview
-        self.app.push_screen(DayReview())
+        self.post_message(OpenDayReview())
 
     def action_help(self) -> None:
         from .dialogs import help_page

@@ -13,6 +13,7 @@ from ..storage.db import StorageError
 from ..storage.ids import local_text
 from .dialogs import AskReason, TextPage
 from .key_strip import KeyStrip
+from .messages import OpenSheet
 from .safe import printable
 from .tables import selected_key
 
@@ -81,8 +82,7 @@ class BoardHistory(Screen):
     def action_correct(self) -> None:
         rid = self._selected()
         if rid:
-            from .sheet import ReadingSheet
-            self.app.push_screen(ReadingSheet(self.board_id, correcting=rid, technician=self.app.technician))
+            self.post_message(OpenSheet(self.board_id, correcting=rid))
 
     def action_void(self) -> None:
         rid = self._selected()

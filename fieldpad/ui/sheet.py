@@ -20,6 +20,7 @@ from . import phasor_art
 from .dialogs import Ask, AskReason, help_page
 from .entry_grid import EntryGrid
 from .key_strip import KeyStrip
+from .messages import OpenHistory
 from .results_view import findings_text, per_phase_text, results_text
 from .safe import markup_safe
 from .sheet_model import (
@@ -352,8 +353,7 @@ class ReadingSheet(Screen):
                         else "Previous reading hidden.")
 
     def action_history(self) -> None:
-        from .history import BoardHistory
-        self.app.push_screen(BoardHistory(self.board_id))
+        self.post_message(OpenHistory(self.board_id))
 
     def action_mode(self) -> None:
         modes = modes_for(self.board["system"])
