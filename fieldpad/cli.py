@@ -12,7 +12,7 @@ import sqlite3
 import sys
 from pathlib import Path
 
-from .textsafe import printable
+from .formats.text import printable
 
 MAX_PROBLEMS = 20
 _OPENED: list = []  # databases a command opened: main() closes them, so the WAL is folded back and removed
@@ -34,9 +34,9 @@ def _read_input(path: str) -> bytes:
 
 
 def cmd_compute(args) -> int:
-    from .batch_memory import keep_freed_memory
-    from .compute_cmd import check_input, write_results
-    from .records_io import InputError
+    from .commands.batch_memory import keep_freed_memory
+    from .commands.compute import check_input, write_results
+    from .formats.records import InputError
 
     keep_freed_memory()
 
@@ -65,7 +65,7 @@ def _open(args, *, create: bool = False):
 
 
 def cmd_import(args) -> int:
-    from .records_io import InputError
+    from .formats.records import InputError
     from .storage.importer import import_bytes
 
     try:
@@ -104,7 +104,7 @@ def cmd_import(args) -> int:
 
 
 def cmd_export(args) -> int:
-    from .batch_memory import keep_freed_memory
+    from .commands.batch_memory import keep_freed_memory
     from .report.export import export_records, to_csv, to_json
     from .storage import repo
     from .storage.db import resolve_path

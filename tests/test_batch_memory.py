@@ -1,4 +1,4 @@
-"""The allocator setting the batch commands use (fieldpad.batch_memory)."""
+"""The allocator setting the batch commands use (fieldpad.commands.batch_memory)."""
 import ctypes.util
 import subprocess
 import sys
@@ -12,7 +12,7 @@ def test_setting_is_taken_on_glibc_and_results_do_not_change():
     # Run in a child process: the setting is process-wide and must not leak into other tests.
     code = (
         "import numpy as np\n"
-        "from fieldpad.batch_memory import keep_freed_memory\n"
+        "from fieldpad.commands.batch_memory import keep_freed_memory\n"
         "from fieldpad.core.analysis import analyze\n"
         "rng = np.random.default_rng(5); n = 70_000\n"
         "cols = {p: 277 * (1 + 0.02 * rng.standard_normal(n)) for p in ('va', 'vb', 'vc')}\n"

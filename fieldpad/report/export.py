@@ -13,7 +13,7 @@ from datetime import date, datetime, time, timedelta
 from ..core.analysis import NUMERIC_FIELDS
 from ..core.results import RESULT_FIELDS, analyze_records
 from ..core.thresholds import Thresholds
-from ..records_io import EXPORT_FORMAT, findings_cell
+from ..formats.records import EXPORT_FORMAT, findings_cell, formula_guard
 from ..storage import repo
 from ..storage.ids import local_text, to_utc_text, utc_now
 
@@ -24,7 +24,6 @@ INPUT_FIELDS = ("system", "standard") + NUMERIC_FIELDS
 RESULT_COLUMNS = tuple(f for f in RESULT_FIELDS if f != "findings")
 CSV_FIELDS = META_FIELDS + INPUT_FIELDS + RESULT_COLUMNS + ("findings",)
 #: Text that a spreadsheet would run as a formula starts with one of these.
-FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 USER_TEXT = ("site", "board", "technician", "instrument", "round", "note", "reason")
 
 
@@ -80,20 +79,12 @@ def export_records(db, *, day=None, site=None, round_id=None) -> list[dict]:
     return out
 
 
-def neutralise(text):
-    """Text typed by a user, made safe for a spreadsheet: a leading formula
-    character gets a ``'`` in front (OWASP "CSV injection" advice)."""
-    if isinstance(text, str) and text.startswith(FORMULA_STARTS):
-        return "'" + text
-    return text
-
-
 def to_csv(records: list[dict]) -> str:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\r\n")
     w.writerow(CSV_FIELDS)
     for rec in records:
-        meta = [neutralise(rec[f]) if f in USER_TEXT else rec[f] for f in META_FIELDS]
+        meta = [formula_guard(rec[f]) if f in USER_TEXT else rec[f] for f in META_FIELDS]
         inputs, results = rec["inputs"], rec["results"]
         row = meta + [inputs[f] for f in INPUT_FIELDS] + [results[f] for f in RESULT_COLUMNS]
         row.append(findings_cell(rec["findings"]))

@@ -9,11 +9,12 @@ from collections import defaultdict
 from jinja2 import Environment, PackageLoader, select_autoescape
 from markupsafe import Markup
 
-from .. import __version__, phase_colours
+from .. import __version__
+from ..core import phase_colours
 from ..core.thresholds import SOURCES
+from ..formats.text import printable
 from ..storage import repo
 from ..storage.ids import local_text, utc_now
-from ..textsafe import printable
 from .svg import phasor_svg
 
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 from html import escape as _html_escape
 
-from ..textsafe import printable
+from ..formats.text import printable
 
 
 def escape(text) -> str:

@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 from ..core.analysis import NUMERIC_FIELDS
 from ..core.readings import stored_text, validate_record
 from ..core.results import RESULT_FIELDS
-from ..records_io import PROBLEMS_KEY, parse_records, record_problems
+from ..formats.records import PROBLEMS_KEY, formula_unguard, parse_records, record_problems
 from . import repo
 from .db import write
 from .ids import parse_time, utc_now, uuid7
@@ -23,7 +23,6 @@ META = ("site", "board", "taken_at", "technician", "round", "instrument", "note"
 #: Export-only columns, read past on import.
 EXPORT_ONLY = ("reading_id", "version", "reason", "recorded_at", "taken_at_local") + tuple(RESULT_FIELDS)
 TEXT_LIMITS = {"site": 200, "board": 200, "technician": 200, "round": 200, "instrument": 200, "note": 10_000}
-_QUOTED = ("'=", "'+", "'-", "'@", "'\t", "'\r")
 
 
 @dataclass
@@ -34,18 +33,11 @@ class ImportReport:
     problems: list = field(default_factory=list)  # "where: field: reason"
 
 
-def _unquote(text):
-    """Undo the spreadsheet-formula guard that ``fieldpad export`` adds."""
-    if isinstance(text, str) and text.startswith(_QUOTED):
-        return text[1:]
-    return text
-
-
 def import_bytes(db, data: bytes, progress=None) -> ImportReport:
     """Validate every record, then store them all in one transaction.
 
     ``progress(done, total)`` is called while storing.  Raises
-    :class:`fieldpad.records_io.InputError` for a file that cannot be read.
+    :class:`fieldpad.formats.records.InputError` for a file that cannot be read.
     """
     parsed = parse_records(data)
     report = ImportReport()
@@ -59,7 +51,7 @@ def import_bytes(db, data: bytes, progress=None) -> ImportReport:
         rec = {k: v for k, v in rec.items() if k not in EXPORT_ONLY}
         clean, problems = validate_record(rec, extra_fields=META)
         for name in META:
-            value, why = stored_text(_unquote(rec.get(name)), TEXT_LIMITS.get(name, 10_000))
+            value, why = stored_text(formula_unguard(rec.get(name)), TEXT_LIMITS.get(name, 10_000))
             if why:
                 problems.append((name, why))
             clean[name] = value

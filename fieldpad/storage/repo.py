@@ -15,9 +15,9 @@ from dataclasses import dataclass
 import sqlite_utils
 
 from ..core.analysis import NUMERIC_FIELDS
+from ..core.phase_colours import COLOUR_SETS
 from ..core.readings import stored_text, validate_record
 from ..core.thresholds import Thresholds
-from ..phase_colours import COLOUR_SETS
 from .db import StorageError, write
 from .ids import utc_now, uuid7
 

@@ -1,7 +1,7 @@
 """Stored text on the terminal: control characters never reach the terminal raw."""
 from __future__ import annotations
 
-from ..textsafe import printable
+from ..formats.text import printable
 
 
 def markup_safe(text) -> str:

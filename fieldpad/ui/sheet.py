@@ -10,7 +10,7 @@ from textual.containers import Horizontal, Vertical
 from textual.screen import Screen
 from textual.widgets import Static
 
-from .. import phase_colours
+from ..core import phase_colours
 from ..core.readings import validate_record
 from ..core.results import analyze_records
 from ..storage import repo

@@ -8,7 +8,7 @@ the same run:
 * against the bare numpy Fortescue matrix product on the same voltage and current phasor arrays
   (target: the whole analysis within 3x of it).
 
-The process is set up as the batch commands set it up (fieldpad.batch_memory: glibc keeps freed memory for
+The process is set up as the batch commands set it up (fieldpad.commands.batch_memory: glibc keeps freed memory for
 reuse).  The full analysis is timed on one thread and on the default number of threads.
 
 Usage: python tests/bench/bench_core.py [N]     (default N = 1,000,000)
@@ -21,7 +21,7 @@ from pathlib import Path
 
 import numpy as np
 
-from fieldpad.batch_memory import keep_freed_memory
+from fieldpad.commands.batch_memory import keep_freed_memory
 from fieldpad.core.analysis import analyze, analyze_block, default_workers
 from fieldpad.core.phasors import polar
 from fieldpad.core.sequence import FORTESCUE

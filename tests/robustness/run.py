@@ -25,9 +25,9 @@ sys.path.insert(0, str(Path(__file__).parent))
 from crash import WRITER, kill_test, setup  # noqa: E402
 from second_open import second_open_test  # noqa: E402
 
-from fieldpad.compute_cmd import check_input, write_results  # noqa: E402
+from fieldpad.commands.compute import check_input, write_results  # noqa: E402
 from fieldpad.core.readings import FIELD_KIND, ReadingError, parse_value  # noqa: E402
-from fieldpad.records_io import InputError  # noqa: E402
+from fieldpad.formats.records import InputError  # noqa: E402
 from fieldpad.storage.db import open_db  # noqa: E402
 from fieldpad.storage.importer import import_bytes  # noqa: E402
 

@@ -8,9 +8,9 @@ from __future__ import annotations
 
 import json
 
-from .core.readings import validate_record
-from .core.results import RESULT_FIELDS, analyze_records
-from .records_io import PROBLEMS_KEY, parse_records, record_problems, write_csv
+from ..core.readings import validate_record
+from ..core.results import RESULT_FIELDS, analyze_records
+from ..formats.records import PROBLEMS_KEY, parse_records, record_problems, write_csv
 
 BLOCK = 20_000
 
@@ -18,7 +18,7 @@ BLOCK = 20_000
 def check_input(data: bytes):
     """Parse and validate; returns (kind, clean records, problem lines).
 
-    Raises :class:`fieldpad.records_io.InputError` for input that cannot be read at all.
+    Raises :class:`fieldpad.formats.records.InputError` for input that cannot be read at all.
     """
     parsed = parse_records(data)
     problems, clean = [], []

@@ -142,6 +142,24 @@ def record_problems(record: dict) -> list[tuple[str, str]]:
     return list(record.get(PROBLEMS_KEY, ()))
 
 
+#: A cell starting with one of these is run as a formula by spreadsheets (OWASP "CSV injection").
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def formula_guard(text):
+    """Text typed by a person, made safe for a spreadsheet: a leading formula character gets a ``'``."""
+    if isinstance(text, str) and text.startswith(FORMULA_STARTS):
+        return "'" + text
+    return text
+
+
+def formula_unguard(text):
+    """Undo :func:`formula_guard` (import reads back what export wrote)."""
+    if isinstance(text, str) and text.startswith("'") and text[1:].startswith(FORMULA_STARTS):
+        return text[1:]
+    return text
+
+
 def csv_cell(value):
     """A CSV cell for a value: numbers stay numbers, None is empty."""
     if value is None:
