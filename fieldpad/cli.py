@@ -196,9 +196,9 @@ def cmd_db(args) -> int:
             return _report_problems(["db backup: DEST is required"])
         print(f"backup written to {backup(db, args.dest)}")
         return 0
-    from .storage.db import schema_version_names
+    from .storage.db import applied_versions, schema_version_names
 
-    applied = [r["name"] for r in db.query("SELECT name FROM _sqlite_migrations ORDER BY rowid")]
+    applied = applied_versions(db)
     print(f"database: {resolve_path(args.db)}")
     print(f"schema: {applied[-1] if applied else 'none'} (this fieldpad knows up to {schema_version_names()[-1]})")
     if db.read_only:

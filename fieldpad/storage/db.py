@@ -80,6 +80,11 @@ def _migrations() -> sqlite_utils.Migrations:
     return m
 
 
+def applied_versions(db: sqlite_utils.Database) -> list[str]:
+    """The schema versions applied to this database, oldest first."""
+    return [r["name"] for r in db.query("SELECT name FROM _sqlite_migrations ORDER BY rowid")]
+
+
 def schema_version_names() -> list[str]:
     return [name for name, _ in _schema_files()]
 

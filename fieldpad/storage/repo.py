@@ -1,4 +1,5 @@
-"""Sites, boards, rounds, readings and drafts: every read and write of the data.
+"""Sites, boards, rounds, readings and drafts: the reads and writes that the app, the report and the
+commands make (bulk import is ``importer.py``, merge of other databases ``merge.py``).
 
 Writes run in one transaction each (:func:`fieldpad.storage.db.write`) and are
 committed before the function returns.  Readings are never updated or
@@ -242,6 +243,12 @@ def finish_round(db, round_id, note=None) -> None:
 
 def list_rounds(db, site_id) -> list[dict]:
     return list(db.query("SELECT * FROM round WHERE site_id = ? ORDER BY started_at DESC", [site_id]))
+
+
+def boards_read_in_round(db, round_id) -> set[str]:
+    """Ids of the boards with a current (not void) reading in this round."""
+    return {r["board_id"] for r in db.query(
+        "SELECT DISTINCT board_id FROM reading_current WHERE round_id = ? AND void = 0", [round_id])}
 
 
 def round_progress(db, round_id) -> tuple[int, int]:

@@ -249,8 +249,7 @@ class BoardList(Screen):
         t.clear()
         read_in_round = set()
         if rnd:
-            read_in_round = {r["board_id"] for r in app.db.query(
-                "SELECT DISTINCT board_id FROM reading_current WHERE round_id = ? AND void = 0", [rnd])}
+            read_in_round = repo.boards_read_in_round(app.db, rnd)
         for b in repo.list_boards(app.db, app.site_id):
             last = repo.previous_reading(app.db, b["id"])
             t.add_row(printable(b["name"]), printable(b["location"]), b["system"],

@@ -88,7 +88,6 @@ class ReadingSheet(Screen):
         self.show_previous = False
         self.panel = "drawing"
         self._draft_timer = None
-        self.last_compute_ms = 0.0
 
     # ---- layout -------------------------------------------------------------
     def compose(self) -> ComposeResult:
@@ -110,7 +109,6 @@ class ReadingSheet(Screen):
         self.board = repo.get_board(db, self.board_id)
         self.site = repo.get_site(db, self.board["site_id"])
         self.labels = repo.site_labels(self.site)
-        self.colour_names = phase_colours.names(self.site["colour_set"])
         self.colours = phase_colours.colours(self.site["colour_set"], "terminal")
         self.mode = modes_for(self.board["system"])[0]
         values = None
@@ -194,7 +192,6 @@ class ReadingSheet(Screen):
         self.query_one("#understood", TextPanel).update(Text(msg, "#9ecbff" if ok else "bold #ff5050"))
 
     def recompute(self) -> None:
-        t0 = time.perf_counter()
         grid = self.query_one(EntryGrid)
         self.result = live_result(grid.entered(), self.board, self.site)
         if self.result is None and self.show_previous and self.previous is not None:
@@ -206,7 +203,6 @@ class ReadingSheet(Screen):
         self._draw_panel()
         self.query_one("#findings", TextPanel).update(
             findings_text(self.result["findings"] if self.result else [], detail=False))
-        self.last_compute_ms = (time.perf_counter() - t0) * 1e3
 
     def _draw_panel(self) -> None:
         panel = self.query_one("#panel", TextPanel)
