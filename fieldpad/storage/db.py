@@ -135,7 +135,7 @@ def unwritable_reason(path: Path, error: Exception | None = None) -> str | None:
     folder = path.resolve().parent
     try:
         if os.statvfs(folder).f_flag & os.ST_RDONLY:
-            return "it is on a read-only file system (for example a write-protected USB stick)"
+            return "it is on a read-only file system (e.g. a write-protected USB stick)"
     except OSError:
         pass
     if path.exists() and not os.access(path, os.W_OK):
@@ -376,9 +376,7 @@ def write(db: sqlite_utils.Database):
     """
     conn = db.conn
     if getattr(db, "read_only", False):
-        raise WriteError(f"the database is open read-only because {db.read_only_reason}. Nothing already "
-                         "saved was harmed; make it writable, or copy it somewhere writable "
-                         "('fieldpad db backup DEST') and open the copy")
+        raise WriteError(f"the database is read-only ({db.read_only_reason})")
     if conn.in_transaction:
         with db.atomic():
             yield db

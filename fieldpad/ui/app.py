@@ -47,7 +47,7 @@ class FieldpadApp(App):
         if self.db.read_only:
             self.notify(f"READ-ONLY: this database cannot be written because {self.db.read_only_reason}. "
                         "Everything can be looked at and exported; nothing new can be saved here.",
-                        severity="warning", timeout=20)
+                        severity="warning", timeout=10)
         sites = repo.list_sites(self.db)
         if sites:
             self._open_site(sites[0]["id"])

@@ -244,6 +244,8 @@ class BoardList(Screen):
             title += f" · round: {done}/{total} boards read"
         else:
             title += " · no round (r: start one)"
+        if app.db.read_only:
+            title = "[b #ffb000]READ-ONLY[/] · " + title
         self.query_one("#home-title", Static).update(title)
         t = self.query_one(DataTable)
         t.clear()

@@ -167,7 +167,9 @@ class ReadingSheet(Screen):
             done, total = repo.round_progress(self.app.db, self.round_id)
             parts.append(f"round {done}/{total} boards")
         if self.correcting:
-            parts.append("[b #ffb000]CORRECTING[/]")
+            parts.insert(0, "[b #ffb000]CORRECTING[/]")
+        if self.app.db.read_only:
+            parts.insert(0, "[b #ffb000]READ-ONLY[/]")
         self.query_one("#sheet-title", Static).update(" · ".join(parts))
 
     def _update_caution(self) -> None:
@@ -263,6 +265,10 @@ class ReadingSheet(Screen):
             self._draft_timer = None
         if self.correcting or not self.dirty:
             return True
+        if self.app.db.read_only:
+            self.set_status("READ-ONLY database: what you type cannot be kept, neither as a reading nor as a "
+                            "draft. Write the values down.", error=True)
+            return False
         grid = self.query_one(EntryGrid)
         try:
             if grid.entered():
@@ -303,6 +309,10 @@ class ReadingSheet(Screen):
             self.set_status(f"NOT SAVED: {e}. Nothing was lost.", error=True)
             return
         except StorageError as e:  # the disk, permissions: say so, keep the typing (and the draft)
+            if self.app.db.read_only:
+                self.set_status(f"NOT SAVED: {e}. Write the values down, or open a database that can be "
+                                "written.", error=True)
+                return
             kept = self.flush_draft()
             self.set_status(f"NOT SAVED: {e}. What you typed is still here" + (
                 "." if kept else ", but it could not be kept as a draft either: do not leave this sheet "
