@@ -83,10 +83,14 @@ class TestMagnitudeOnly:
         assert np.all(np.isnan(sequence_magnitudes_from_ll(100.0, 100.0, 300.0)))
 
     def test_flat_triangle_is_a_collapsed_phase(self):
-        # Vab = 480, Vbc = 0, Vca = 480: fully collapsed, |V1| = |V2|, 100 % unbalance.
-        assert vuf_from_ll_magnitudes(480.0, 0.0, 480.0) is not None
+        # A flat triangle (480 = 240 + 240: B midway between A and C) is a fully collapsed set: |V1| = |V2|.
+        # IEC 61000-4-30 Ed.3 clause 5.7.1: beta = (480^4 + 2*240^4) / (480^2 + 2*240^2)^2 = 18/36 = 0.5,
+        # so sqrt(3 - 6*beta) = 0 and u2 = 100 %.
+        assert float(vuf_from_ll_magnitudes(480.0, 240.0, 240.0)) == pytest.approx(100.0)
         v1, v2 = sequence_magnitudes_from_ll(480.0, 240.0, 240.0)
         assert v1 == pytest.approx(v2)
+        # A zero side is a missing voltage, not a triangle: no unbalance is made up for it (NaN, shown as null).
+        assert np.isnan(vuf_from_ll_magnitudes(480.0, 0.0, 480.0))
 
     @settings(max_examples=400)
     @given(mags, mags, mags, angles, angles, angles)
