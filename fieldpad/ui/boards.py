@@ -17,6 +17,7 @@ from ..storage.ids import local_text
 from .field_input import FieldInput
 from .key_strip import KeyStrip
 from .messages import OpenDayReview, OpenHistory, OpenSheet
+from .palette import ALARM, WARN
 from .safe import markup_safe, printable
 from .tables import selected_key
 
@@ -37,7 +38,7 @@ class SettingsForm(ModalScreen[str | None]):
         problems = getattr(error, "problems", None)
         text = "NOT SAVED: " + ("; ".join(f"{f}: {r}" for f, r in problems) if problems else str(error))
         box = self.query_one("#form-error", Static)
-        box.update(Text(text, "bold #ff5050"))
+        box.update(Text(text, f"bold {ALARM}"))
         box.scroll_visible()  # the form is taller than an 80x24 screen: bring the reason into view
 
     def action_cancel(self) -> None:
@@ -245,7 +246,7 @@ class BoardList(Screen):
         else:
             title += " · no round (r: start one)"
         if app.db.read_only:
-            title = "[b #ffb000]READ-ONLY[/] · " + title
+            title = f"[b {WARN}]READ-ONLY[/] · " + title
         self.query_one("#home-title", Static).update(title)
         t = self.query_one(DataTable)
         t.clear()

@@ -9,6 +9,7 @@ from textual.widgets import Input, Static
 
 from .field_input import FieldInput
 from .key_strip import KeyStrip
+from .palette import ALARM
 
 HELP = """\
 [b]fieldpad — keys[/b] (everything works from the keyboard)
@@ -98,7 +99,7 @@ class AskText(ModalScreen[str | None]):
     def on_input_submitted(self, event: Input.Submitted) -> None:
         text = event.value.strip()
         if self.required and not text:
-            self.query_one("#answer-hint", Static).update("[b #ff5050]An answer is required.[/] Esc to cancel.")
+            self.query_one("#answer-hint", Static).update(f"[b {ALARM}]An answer is required.[/] Esc to cancel.")
             return
         self.dismiss(text)
 

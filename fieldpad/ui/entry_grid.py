@@ -13,6 +13,7 @@ from textual.reactive import reactive
 from textual.widget import Widget
 
 from ..core.readings import FIELD_KIND, ReadingError, parse_value
+from .palette import ON_ALARM
 from .sheet_model import COLUMNS, Cell
 
 MAX_CELL = 16
@@ -148,7 +149,7 @@ class EntryGrid(Widget, can_focus=True):
                 shown = text if len(text) <= CELL_W - 1 else "…" + text[-(CELL_W - 2):]
                 style = ""
                 if c.field in problems:
-                    style = "bold #ffffff on #b00020"
+                    style = ON_ALARM
                     shown = (shown or " ") + "!"
                 if k == self.cursor and self.has_focus:
                     style = (style + " reverse").strip()

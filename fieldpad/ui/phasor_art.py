@@ -14,6 +14,8 @@ from dataclasses import dataclass
 
 from rich.text import Text
 
+from .palette import MUTED
+
 _DOT = {(0, 0): 0x01, (0, 1): 0x02, (0, 2): 0x04, (1, 0): 0x08, (1, 1): 0x10, (1, 2): 0x20, (0, 3): 0x40,
         (1, 3): 0x80}
 
@@ -101,12 +103,12 @@ def draw(arrows: list[Arrow], width: int, height: int, rotation: str | None = No
         cx = int(round(lx - (len(a.label) - 1) / 2 if math.cos(ang) >= 0 else lx - len(a.label) + 1))
         c.put(max(0, min(c.w - len(a.label), cx)), max(0, min(c.h - 1, int(round(ly)))), a.label,
               f"bold {a.colour}")
-    c.put(c.w - 4, c.h // 2 if c.h > 2 else 0, "0°", "#8a8a8a")
+    c.put(c.w - 4, c.h // 2 if c.h > 2 else 0, "0°", MUTED)
     body = c.render()
     legend = Text(no_wrap=True, overflow="crop")
     if rotation:
         legend.append(f"rotation {rotation}  ", "bold")
-    legend.append("V solid, I dotted; own scales", "#8a8a8a")
+    legend.append("V solid, I dotted; own scales", MUTED)
     legend.truncate(c.w)
     body.append("\n")
     body.append_text(legend)

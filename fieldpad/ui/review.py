@@ -17,6 +17,7 @@ from ..storage import repo
 from ..storage.ids import local_text
 from .dialogs import AskText, TextPage
 from .key_strip import KeyStrip
+from .palette import ALARM, INFO, WARN
 from .results_view import findings_text, results_text
 from .safe import printable
 from .tables import selected_key
@@ -93,8 +94,8 @@ class DayReview(Screen):
             t.add_row(local_text(r["taken_at"], "%H:%M"), printable(r["board"]), printable(r["technician"])[:14],
                       printable(r["round"]), _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
                       _f(_neutral(r), "{:.0f}"),
-                      Text(f"{w['severity'].upper()} {w['code']}", "bold #ff5050" if w["severity"] == "alarm"
-                           else "#ffb000" if w["severity"] == "warning" else "#9ecbff") if w else "",
+                      Text(f"{w['severity'].upper()} {w['code']}", f"bold {ALARM}" if w["severity"] == "alarm"
+                           else WARN if w["severity"] == "warning" else INFO) if w else "",
                       key=r["reading_id"])
         filters = []
         if self.findings_only:
@@ -220,23 +221,23 @@ class RoundCompare(Screen):
                 vb = b["results"][key] if b else None
                 d = va is not None and vb is not None and abs(vb - va) > DRIFT_PP
                 drift |= d
-                cells.append(Text(_pair(_f(va), _f(vb)) + (" ▲" if d else ""), "bold #ffb000" if d else ""))
+                cells.append(Text(_pair(_f(va), _f(vb)) + (" ▲" if d else ""), f"bold {WARN}" if d else ""))
             na = _neutral(a)
             nb = _neutral(b)
             d = na is not None and nb is not None and abs(nb - na) > max(DRIFT_NEUTRAL_RATIO * max(na, nb),
                                                                          DRIFT_NEUTRAL_MIN_A)
             drift |= d
             cells.append(Text(_pair(_f(na, '{:.0f}'), _f(nb, '{:.0f}')) + (" ▲" if d else ""),
-                              "bold #ffb000" if d else ""))
+                              f"bold {WARN}" if d else ""))
             rot_a = a["results"]["rotation"] if a else None
             rot_b = b["results"]["rotation"] if b else None
             d = bool(rot_a and rot_b and rot_a != rot_b)
-            cells.append(Text(f"{rot_a or '—'}→{rot_b or '—'}" + (" ▲" if d else ""), "bold #ff5050" if d else ""))
+            cells.append(Text(f"{rot_a or '—'}→{rot_b or '—'}" + (" ▲" if d else ""), f"bold {ALARM}" if d else ""))
             alarms_a = {f["code"] for f in a["findings"] if f["severity"] == "alarm"} if a else set()
             alarms_b = {f["code"] for f in b["findings"] if f["severity"] == "alarm"} if b else set()
             new = alarms_b - alarms_a
             cells.append(Text(", ".join(sorted(new)) + " NEW ▲" if new else
-                              (worst(b) or "") if b else "not read", "bold #ff5050" if new else ""))
+                              (worst(b) or "") if b else "not read", f"bold {ALARM}" if new else ""))
             t.add_row(Text(printable(board) + (" ▲" if drift or new else ""), "bold" if drift or new else ""),
                       *cells)
 

@@ -21,6 +21,7 @@ from .dialogs import Ask, AskReason, help_page
 from .entry_grid import EntryGrid
 from .key_strip import KeyStrip
 from .messages import OpenHistory
+from .palette import ALARM, INFO, PREVIOUS, WARN
 from .results_view import findings_text, per_phase_text, results_text
 from .safe import markup_safe
 from .sheet_model import (
@@ -167,9 +168,9 @@ class ReadingSheet(Screen):
             done, total = repo.round_progress(self.app.db, self.round_id)
             parts.append(f"round {done}/{total} boards")
         if self.correcting:
-            parts.insert(0, "[b #ffb000]CORRECTING[/]")
+            parts.insert(0, f"[b {WARN}]CORRECTING[/]")
         if self.app.db.read_only:
-            parts.insert(0, "[b #ffb000]READ-ONLY[/]")
+            parts.insert(0, f"[b {WARN}]READ-ONLY[/]")
         self.query_one("#sheet-title", Static).update(" · ".join(parts))
 
     def _update_caution(self) -> None:
@@ -191,13 +192,13 @@ class ReadingSheet(Screen):
     def _show_understood(self, field: str) -> None:
         grid = self.query_one(EntryGrid)
         msg, ok = understood(field, grid.values.get(field, ""))
-        self.query_one("#understood", TextPanel).update(Text(msg, "#9ecbff" if ok else "bold #ff5050"))
+        self.query_one("#understood", TextPanel).update(Text(msg, INFO if ok else f"bold {ALARM}"))
 
     def recompute(self) -> None:
         grid = self.query_one(EntryGrid)
         self.result = live_result(grid.entered(), self.board, self.site)
         if self.result is None and self.show_previous and self.previous is not None:
-            shown = Text("Previous reading (F3 hides it):\n", "bold #b0a0ff")
+            shown = Text("Previous reading (F3 hides it):\n", f"bold {PREVIOUS}")
             shown.append_text(results_text(self.previous))
         else:
             shown = results_text(self.result, self.previous if self.show_previous else None)
