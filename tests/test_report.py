@@ -115,3 +115,26 @@ def test_html_renders_in_headless_chromium(report_db, tmp_path):
                     f"--screenshot={png}", page.as_uri()], capture_output=True, timeout=120)
     data = png.read_bytes()
     assert data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 20_000
+
+
+def test_report_states_a_missing_or_out_of_date_arc_flash_label_and_lists_correction_values(tmp_path):
+    # NFPA 70E 130.5(G): the study reviewed at least every five years (from memory); the site's interval here 5.
+    from conftest import BAL
+
+    from fieldpad.report.export import export_records
+    from fieldpad.report.html import to_html
+    from fieldpad.storage import repo
+    from fieldpad.storage.db import open_db
+
+    db = open_db(tmp_path / "r.db")
+    sid = repo.create_site(db, "Label Yard", label_review_years=5)
+    old = repo.create_board(db, sid, "OLD-1", af_incident_energy_cal_cm2=8, af_ppe="2", af_label_date="2019-03-01")
+    none = repo.create_board(db, sid, "NONE-1")
+    for b in (old, none):
+        s = repo.save_reading(db, b, BAL, taken_at="2026-12-01T10:00:00.000000Z")
+    repo.correct_reading(db, s.reading_id, {**BAL, "ia": "101"}, reason="misread clamp")
+    html = to_html(db, export_records(db, day="2026-12-01"), day="2026-12-01")
+    assert "8 cal/cm², PPE 2, dated 2019-03-01, ⚠ OLDER THAN 5 YEARS: have it reviewed" in html
+    assert "⚠ NONE RECORDED — hazard unknown, check the board" in html
+    assert "built-in method" not in html and "ia=101" in html
+    db.close()

@@ -9,6 +9,12 @@ darker on paper, so every line stays visible; the letters always name the phase.
 """
 from __future__ import annotations
 
+
+def phase_labels(setting: str | None) -> tuple[str, str, str]:
+    """The three phase names a site uses: ``"L123"`` gives L1, L2, L3 (IEC 60445 terminal marking), anything
+    else A, B, C (the North American letters)."""
+    return ("L1", "L2", "L3") if setting == "L123" else ("A", "B", "C")
+
 #: set -> ((name, terminal hex, print hex) for A, B, C, N)
 COLOUR_SETS = {
     "iec60445": (("brown", "#c07030", "#8b4513"), ("black", "#d8d8d8", "#000000"),

@@ -31,7 +31,7 @@ class Thresholds:
     #: One sequence must be this many times the other to call the rotation.
     dominance: float = 2.0
 
-    def with_overrides(self, overrides: dict | None) -> "Thresholds":
+    def with_overrides(self, overrides: dict | None) -> Thresholds:
         """A copy with the given fields replaced; unknown names raise ``KeyError``."""
         if not overrides:
             return self

@@ -11,6 +11,7 @@ import json
 from datetime import date, datetime, time, timedelta
 
 from ..core.analysis import NUMERIC_FIELDS
+from ..core.phase_colours import phase_labels
 from ..core.results import RESULT_FIELDS, analyze_records
 from ..core.thresholds import Thresholds
 from ..formats.records import EXPORT_FORMAT, findings_cell, formula_guard
@@ -43,7 +44,7 @@ def analyze_rows(rows: list[dict]) -> list[dict]:
         groups.setdefault((r.get("thresholds_json") or "{}", r.get("phase_labels") or "ABC"), []).append(k)
     for (th_json, labels), idx in groups.items():
         th = Thresholds().with_overrides(json.loads(th_json))
-        lab = ("L1", "L2", "L3") if labels == "L123" else ("A", "B", "C")
+        lab = phase_labels(labels)
         recs = [{**{f: rows[k][f] for f in NUMERIC_FIELDS}, "system": rows[k]["system"],
                  "standard": rows[k]["standard"]} for k in idx]
         for k, res in zip(idx, analyze_records(recs, th, lab)):

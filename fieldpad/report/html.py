@@ -5,12 +5,14 @@ user typed is escaped by Jinja2's autoescaping.
 from __future__ import annotations
 
 from collections import defaultdict
+from datetime import date
 
 from jinja2 import Environment, PackageLoader, select_autoescape
 from markupsafe import Markup
 
 from .. import __version__
 from ..core import phase_colours
+from ..core.arc_flash import label_summary
 from ..core.thresholds import SOURCES
 from ..formats.text import printable
 from ..storage import repo
@@ -50,19 +52,15 @@ def _entered(inputs: dict, keys) -> str:
     return ", ".join(parts)
 
 
-def _label(board: dict) -> str:
-    e = board.get("af_incident_energy_cal_cm2")
-    if e is None and not board.get("af_ppe"):
-        return "NONE RECORDED — hazard unknown, check the board"
-    parts = []
-    if e is not None:
-        parts.append(f"{e:g} cal/cm²" + (f" at {board['af_working_distance_mm']:g} mm"
-                                          if board.get("af_working_distance_mm") else ""))
-    if board.get("af_boundary_mm"):
-        parts.append(f"boundary {board['af_boundary_mm']:g} mm")
-    parts.append(f"PPE {board['af_ppe']}" if board.get("af_ppe") else "PPE not posted")
-    parts.append(f"dated {board['af_label_date']}" if board.get("af_label_date") else "label date not recorded")
-    return ", ".join(parts)
+def _label(board: dict, review_years: float, on: date) -> str:
+    label = label_summary(board, review_years, on)
+    if label.status == "missing":
+        return "⚠ NONE RECORDED — hazard unknown, check the board"
+    tail = {"undated": "⚠ label date not recorded",
+            "unreadable date": f"⚠ label date {label.dated!r} unreadable",
+            "older than review interval": f"dated {label.dated}, ⚠ OLDER THAN {review_years:g} YEARS: have it reviewed",
+            "current": f"dated {label.dated}"}[label.status]
+    return ", ".join((*label.parts, tail))
 
 
 def _arrows(inputs: dict, labels, colours):
@@ -82,7 +80,9 @@ def _arrows(inputs: dict, labels, colours):
     return arrows
 
 
-def to_html(db, records: list[dict], *, day=None, site=None) -> str:
+def to_html(db, records: list[dict], *, day=None, site=None, today: date | None = None) -> str:
+    # Labels are judged on the day reported (or today for an undated report): the same report, the same words.
+    on = date.fromisoformat(day) if day else (today or date.today())
     sites = {}
     by_board: dict = defaultdict(list)
     for rec in records:
@@ -129,7 +129,8 @@ def to_html(db, records: list[dict], *, day=None, site=None) -> str:
         boards.append({
             "name": title, "location": b["location"] if b else None, "system": b["system"] if b else "",
             "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
-            "label": _label(b) if b else "—", "findings": latest["findings"], "readings": rows,
+            "label": _label(b, s["label_review_years"], on) if b else "—",
+            "findings": latest["findings"], "readings": rows,
             "corrections": corrections,
             "svg": phasor_svg(_arrows(latest["inputs"], labels, colours), 220, latest["results"]["rotation"],
                               f"phasor diagram of {title}"),

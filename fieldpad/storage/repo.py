@@ -15,8 +15,8 @@ from dataclasses import dataclass
 
 import sqlite_utils
 
-from ..core.analysis import NUMERIC_FIELDS
-from ..core.phase_colours import COLOUR_SETS
+from ..core.analysis import NUMERIC_FIELDS, SYSTEMS
+from ..core.phase_colours import COLOUR_SETS, phase_labels
 from ..core.readings import stored_text, validate_record
 from ..core.thresholds import Thresholds
 from .db import StorageError, write
@@ -156,7 +156,7 @@ def site_thresholds(site: dict) -> Thresholds:
 
 
 def site_labels(site: dict) -> tuple[str, str, str]:
-    return ("L1", "L2", "L3") if site.get("phase_labels") == "L123" else ("A", "B", "C")
+    return phase_labels(site.get("phase_labels"))
 
 
 # ---- boards ----------------------------------------------------------------
@@ -172,7 +172,7 @@ def _board_values(fields: dict, problems: list) -> dict:
             if x is not _NO_NUMBER:
                 out[k] = x
         elif k == "system":
-            if v not in ("wye", "delta", "high-leg-delta", "split-phase"):
+            if v not in SYSTEMS:
                 problems.append(("system", f"unknown system {v!r}"))
             out[k] = v
         elif k == "af_label_date":

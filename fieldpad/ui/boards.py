@@ -10,6 +10,7 @@ from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen, Screen
 from textual.widgets import DataTable, Input, Label, Select, Static
 
+from ..core.analysis import SYSTEMS
 from ..core.thresholds import Thresholds
 from ..storage import repo
 from ..storage.db import StorageError
@@ -21,8 +22,10 @@ from .palette import ALARM, WARN
 from .safe import markup_safe, printable
 from .tables import selected_key
 
-SYSTEMS = [("3-phase 4-wire wye", "wye"), ("3-phase 3-wire delta (line-to-line only)", "delta"),
-           ("4-wire high-leg delta", "high-leg-delta"), ("120/240 V split-phase", "split-phase")]
+#: How each system type of the core (``core.analysis.SYSTEMS``) is offered in the board form.
+SYSTEM_LABELS = {"wye": "3-phase 4-wire wye", "delta": "3-phase 3-wire delta (line-to-line only)",
+                 "high-leg-delta": "4-wire high-leg delta", "split-phase": "120/240 V split-phase"}
+SYSTEM_CHOICES = [(SYSTEM_LABELS[code], code) for code in SYSTEMS]
 
 
 class SettingsForm(ModalScreen[str | None]):
@@ -66,7 +69,7 @@ class BoardForm(SettingsForm):
         with VerticalScroll(classes="form"):
             yield Static("[b]Edit board[/b]" if self.board_id else "[b]New board[/b]")
             yield Label("System")
-            yield Select(SYSTEMS, value=board.get("system", "wye"), allow_blank=False, id="system", compact=True)
+            yield Select(SYSTEM_CHOICES, value=board.get("system", "wye"), allow_blank=False, id="system", compact=True)
             for field, label in self.FIELDS:
                 yield Label(label)
                 v = board.get(field)

@@ -7,6 +7,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import date
 
+from ..core.arc_flash import label_summary
 from ..core.readings import FIELD_KIND, ReadingError, parse_value
 
 LN, LL, LL_MAG = "ln", "ll", "ll-mag"
@@ -85,33 +86,17 @@ def caution_lines(board: dict, review_years: float, today: date | None = None) -
     The banner is always shown; the second line carries the board's arc-flash
     label data, or a warning that there is none or that it is out of date.
     """
-    today = today or date.today()
     first = "⚠ LIVE: shock & arc flash. Qualified persons, permit, PPE. Local codes govern."
-    e = board.get("af_incident_energy_cal_cm2")
-    ppe = board.get("af_ppe")
-    dated = board.get("af_label_date")
-    if e is None and not ppe:
+    label = label_summary(board, review_years, today or date.today())
+    if label.status == "missing":
         return first, "⚠ NO ARC-FLASH LABEL recorded for this board: hazard unknown; check the board.", True
-    parts = []
-    if e is not None:
-        wd = board.get("af_working_distance_mm")
-        parts.append(f"{e:g} cal/cm²" + (f" at {wd:g} mm" if wd else ""))
-    if board.get("af_boundary_mm"):
-        parts.append(f"boundary {board['af_boundary_mm']:g} mm")
-    parts.append(f"PPE {ppe}" if ppe else "PPE not posted")
-    problem = False
-    if dated:
-        try:
-            d = date.fromisoformat(dated)
-            age = (today - d).days / 365.25
-            parts.append(f"label {dated}")
-            if age > review_years:
-                parts.append(f"⚠ OLDER THAN {review_years:g} YEARS: have it reviewed")
-                problem = True
-        except ValueError:
-            parts.append(f"label date {dated!r} unreadable")
-            problem = True
-    else:
+    parts = list(label.parts)
+    if label.status == "undated":
         parts.append("⚠ label date not recorded")
-        problem = True
-    return first, "Label: " + ", ".join(parts), problem
+    elif label.status == "unreadable date":
+        parts.append(f"label date {label.dated!r} unreadable")
+    else:
+        parts.append(f"label {label.dated}")
+        if label.status == "older than review interval":
+            parts.append(f"⚠ OLDER THAN {review_years:g} YEARS: have it reviewed")
+    return first, "Label: " + ", ".join(parts), label.problem
