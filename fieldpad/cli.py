@@ -171,7 +171,8 @@ def cmd_db(args) -> int:
     from .storage.db import backup, resolve_path
 
     if args.action == "check":
-        from .storage.db import check_file, unwritable_reason
+        from .storage.access import unwritable_reason
+        from .storage.db import check_file
 
         path = resolve_path(args.db)
         problems = check_file(path)

@@ -15,7 +15,8 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from .db import StorageError, connect_read_only, read_only_uri, schema_version_names, write
+from .access import connect_read_only, read_only_uri
+from .db import StorageError, schema_version_names, write
 
 TABLES = ("site", "board", "round", "reading")
 EDITABLE = {"site": "updated_at", "board": "updated_at", "round": None}
