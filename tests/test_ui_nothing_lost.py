@@ -17,6 +17,18 @@ needs_tmux = pytest.mark.skipif(shutil.which("tmux") is None,
                                 reason="tmux is not installed (the .ci/run script installs it)")
 
 
+def record_notifications(app) -> list[str]:
+    """Every message the app shows as a notification, in order (through its public ``notify``)."""
+    shown, notify = [], app.notify
+
+    def recording(message, *args, **kwargs):
+        shown.append(str(message))
+        return notify(message, *args, **kwargs)
+
+    app.notify = recording
+    return shown
+
+
 def draft_values(path):
     d = open_db(path)
     bid = repo.list_boards(d, repo.list_sites(d)[0]["id"])[0]["id"]
@@ -68,11 +80,12 @@ async def test_writes_on_a_read_only_database_say_so_and_the_app_goes_on(tmp_pat
         filled(p, 2)
         remount_ro(stick)
         app = FieldpadApp(p, technician="T")
+        notes = record_notifications(app)
         async with app.run_test(size=(80, 24)) as pilot:
             await pilot.pause()
             await pilot.press("r")  # start a round
             await pilot.pause()
-            shown = " ".join(str(n.message) for n in app._notifications)
+            shown = " ".join(notes)
             assert "NOT SAVED: the round was not started" in shown and "read-only file system" in shown
             await pilot.press("h")  # history, then void the reading
             await pilot.pause()
@@ -80,7 +93,7 @@ async def test_writes_on_a_read_only_database_say_so_and_the_app_goes_on(tmp_pat
             await pilot.pause()
             await pilot.press(*"wrong board", "enter")
             await pilot.pause()
-            shown = " ".join(str(n.message) for n in app._notifications)
+            shown = " ".join(notes)
             assert "NOT SAVED: the reading was not voided" in shown
             await pilot.press("escape", "enter")  # back to the list, open the sheet, type, save
             await pilot.pause()
