@@ -15,7 +15,7 @@ from ..core.thresholds import Thresholds
 from ..storage import repo
 from ..storage.db import StorageError
 from ..storage.ids import local_text
-from .field_input import FieldInput
+from .field_input import FieldInput, TypingTargetScreen
 from .key_strip import KeyStrip
 from .messages import OpenDayReview, OpenHistory, OpenSheet
 from .palette import ALARM, WARN
@@ -28,7 +28,7 @@ SYSTEM_LABELS = {"wye": "3-phase 4-wire wye", "delta": "3-phase 3-wire delta (li
 SYSTEM_CHOICES = [(SYSTEM_LABELS[code], code) for code in SYSTEMS]
 
 
-class SettingsForm(ModalScreen[str | None]):
+class SettingsForm(TypingTargetScreen, ModalScreen[str | None]):
     """A form that saves with F2 and says, in place, what stopped the save."""
 
     AUTO_FOCUS = "#name"

@@ -7,7 +7,7 @@ from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Input, Static
 
-from .field_input import FieldInput
+from .field_input import FieldInput, TypingTargetScreen
 from .key_strip import KeyStrip
 from .palette import ALARM
 
@@ -75,7 +75,7 @@ class Ask(ModalScreen[bool]):
         self.dismiss(value)
 
 
-class AskText(ModalScreen[str | None]):
+class AskText(TypingTargetScreen, ModalScreen[str | None]):
     """Ask for a line of text (a reason, a filter); Esc cancels."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel")]

@@ -4,12 +4,23 @@ Characters typed in the same burst as Tab can reach the field being left,
 because Textual moves focus after the Tab key is handled.  Here Tab and
 Shift+Tab pick the next field at once and record it on the screen as the
 "typing target"; a character that still arrives at the old field is passed on
-to the target instead (or dropped if the target is not a text field).
+to the target instead (or dropped if the target is not a text field).  Screens
+with such fields keep that target by being a :class:`TypingTargetScreen`.
+
+Only Textual's public handlers are used: ``on_key`` here runs before the
+``Input``'s own key handling, which ``prevent_default()`` skips.
 """
 from __future__ import annotations
 
 from textual import events
+from textual.widget import Widget
 from textual.widgets import Input
+
+
+class TypingTargetScreen:
+    """Mixed into a screen whose fields are FieldInputs: the field that typed characters belong to."""
+
+    typing_target: Widget | None = None
 
 
 class FieldInput(Input):
@@ -19,9 +30,11 @@ class FieldInput(Input):
         kwargs.setdefault("select_on_focus", False)
         super().__init__(*args, **kwargs)
 
-    async def _on_key(self, event: events.Key) -> None:
+    def on_key(self, event: events.Key) -> None:
         screen = self.screen
-        target = getattr(screen, "typing_target", None)
+        if not isinstance(screen, TypingTargetScreen):
+            return  # Input's own handling follows
+        target = screen.typing_target
         pending = target is not None and target is not self and target.is_attached
         if pending and event.is_printable and event.character:
             if isinstance(target, Input):
@@ -40,8 +53,8 @@ class FieldInput(Input):
                 event.stop()
                 event.prevent_default()
                 return
-        await super()._on_key(event)
+        # Otherwise Input's own key handling follows.
 
-    def _on_focus(self, event: events.Focus) -> None:
-        self.screen.typing_target = self
-        super()._on_focus(event)
+    def on_focus(self, event: events.Focus) -> None:
+        if isinstance(self.screen, TypingTargetScreen):
+            self.screen.typing_target = self
