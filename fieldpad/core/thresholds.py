@@ -58,6 +58,7 @@ SOURCES = {
     "voltage_ansi": "ANSI C84.1-2020 Table 1 (Range A 95-105 %, Range B 91.7-105.8 % of nominal, service voltage)",
     "voltage_iec": "IEC 60038:2009 clause 4 (nominal ±10 %)",
     "rotation": "common practice (ABC = B lags A by 120°)",
-    "high_leg": "NFPA 70 (NEC) 110.15 and 408.3(E): high leg marked orange and on phase B (from memory; local code governs)",
+    "high_leg": ("NFPA 70 (NEC) 110.15 and 408.3(E): high leg marked orange and on phase B "
+                 "(from memory; local code governs)"),
     "ct_reversed": "common practice",
 }
