@@ -124,11 +124,12 @@ def cmd_export(args) -> int:
         from .storage.files import check_target
 
         out_path = args.output
-        check_target(Path(out_path), overwrite=True)  # refuse a FIFO, device or folder before any work
+        # Before any work: refuse a FIFO, device or folder, and the database itself or any of its files.
+        check_target(Path(out_path), overwrite=True, protect=(resolve_path(args.db),), stdout_hint=True)
     db = _open(args)
     if args.site and not any(s_["name"] == args.site for s_ in repo.list_sites(db)):
         names = ", ".join(printable(s_["name"]) for s_ in repo.list_sites(db)) or "none"
-        return _report_problems([f"--site: no site named {printable(args.site)!r} in {resolve_path(args.db)} "
+        return _report_problems([f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
                                  f"(sites: {names}); nothing was written"])
     records = export_records(db, day=args.day, site=args.site)
     if args.format == "csv":
@@ -140,7 +141,7 @@ def cmd_export(args) -> int:
 
         text = to_html(db, records, day=args.day, site=args.site)
     if out_path:
-        atomic_write_text(out_path, text)
+        atomic_write_text(out_path, text, protect=(resolve_path(args.db),))
         print(f"wrote {len(records)} reading(s) to {out_path}", file=sys.stderr)
     else:
         sys.stdout.write(text)

@@ -321,3 +321,34 @@ def test_local_times_that_a_clock_change_makes_unclear_are_refused(tmp_path, tak
     r = subprocess.run([sys.executable, "-m", "fieldpad", "import", str(f), "--db", str(db)], capture_output=True,
                        text=True, timeout=120, env={**os.environ, "TZ": "Europe/Berlin"})
     assert r.returncode == 0, r.stderr
+
+
+def test_export_and_backup_never_write_over_a_database_or_its_files(tmp_path):
+    p = tmp_path / "y.db"
+    filled(p, 3)
+    other = tmp_path / "other.db"
+    filled(other, 1)
+    before = p.read_bytes()
+    for target in (p, Path(f"{p}-wal"), Path(f"{p}-shm"), Path(f"{p}-journal"), other):
+        r = cli("export", "--format", "csv", "-o", target, "--db", p)
+        assert r.returncode == 1 and str(target) in r.stderr, (target, r.stderr)
+        assert "database" in r.stderr or "SQLite" in r.stderr
+    for target in (Path(f"{p}-journal"), Path(f"{p}-wal"), p):
+        r = cli("db", "backup", target, "--db", p)
+        assert r.returncode == 1 and "backup not written" in r.stderr, (target, r.stderr)
+    assert p.read_bytes() == before and check_file(other) == []
+    assert not Path(f"{p}-journal").exists()
+    d = open_db(p)
+    assert d["reading"].count == 3
+    d.close()
+    fifo = tmp_path / "fifo"
+    os.mkfifo(fifo)
+    r = cli("db", "backup", fifo, "--db", p)
+    assert r.returncode == 1 and "not a regular file" in r.stderr and "'-'" not in r.stderr
+
+
+def test_messages_show_control_characters_as_visible_escapes(tmp_path, db, board):
+    repo.save_reading(db, board, BAL)
+    r = cli("export", "--db", tmp_path / "field.db", "--format", "csv", "--site", "Yard\x1b]52;c;eA==\x07\u202e")
+    assert r.returncode == 2
+    assert "\x1b" not in r.stderr and "\\x1b]52;c;eA==\\x07\\u202e" in r.stderr

@@ -238,6 +238,11 @@ def _migrate(db: sqlite_utils.Database, path: Path, read_only: bool = False) -> 
         migrations.apply(db)
 
 
+def _files_of(db: sqlite_utils.Database) -> list[Path]:
+    """The files of the databases this connection has open (main and attached)."""
+    return [Path(r[2]) for r in db.conn.execute("PRAGMA database_list").fetchall() if r[2]]
+
+
 def backup(db: sqlite_utils.Database, dest: str | os.PathLike) -> Path:
     """Online copy of the database through SQLite's backup API, whole or not at all.
 
@@ -249,7 +254,7 @@ def backup(db: sqlite_utils.Database, dest: str | os.PathLike) -> Path:
 
     dest = Path(dest).expanduser()
     try:
-        check_target(dest, overwrite=False)
+        check_target(dest, overwrite=False, protect=_files_of(db))
     except FileWriteError as e:
         raise StorageError(f"backup not written: {e}") from None
     clean_stale_parts(dest.parent)

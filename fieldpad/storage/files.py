@@ -74,8 +74,24 @@ def part_path(final: Path) -> Path:
     return final.parent / f"{PART_PREFIX}{os.getpid()}-{secrets.token_hex(4)}{PART_SUFFIX}"
 
 
-def check_target(final: Path, *, overwrite: bool) -> None:
-    """Refuse a target that is not a regular file, or that exists when it must not."""
+SIDE_FILES = ("-wal", "-shm", "-journal")
+SQLITE_HEADER = b"SQLite format 3\x00"
+
+
+def check_target(final: Path, *, overwrite: bool, protect=(), stdout_hint: bool = False) -> None:
+    """Refuse a target that is not a regular file, or that exists when it must not; and never write over a
+    database: one of ``protect`` (the databases this process has open), the ``-wal``, ``-shm`` or
+    ``-journal`` file beside any database, or an existing SQLite file."""
+    for db in protect:
+        db = Path(db)
+        names = [db] + [db.with_name(db.name + side) for side in SIDE_FILES]
+        if any(final.absolute() == n.absolute() or (final.exists() and n.exists() and os.path.samefile(final, n))
+               for n in names):
+            raise FileWriteError(errno.EINVAL, "is the database itself (or one of its files): choose another "
+                                 "name", str(final))
+    if final.name.endswith(SIDE_FILES) and final.with_name(final.name.rsplit("-", 1)[0]).exists():
+        raise FileWriteError(errno.EINVAL, "is a name SQLite keeps for the database beside it: choose "
+                             "another name", str(final))
     try:
         st = os.stat(final)
     except FileNotFoundError:
@@ -83,10 +99,16 @@ def check_target(final: Path, *, overwrite: bool) -> None:
             raise FileWriteError(errno.ENOENT, "no such folder", str(final)) from None
         return
     if not stat.S_ISREG(st.st_mode):
-        raise FileWriteError(errno.EINVAL, "not a regular file (a folder, FIFO or device); give a file name, "
-                             "or '-' for standard output", str(final))
+        raise FileWriteError(errno.EINVAL, "not a regular file (a folder, FIFO or device); give a file name"
+                             + (", or '-' for standard output" if stdout_hint else ""), str(final))
     if not overwrite:
         raise FileWriteError(errno.EEXIST, "already exists: choose a new name", str(final))
+    # Not one of this process's open databases (checked above), so reading its first bytes cannot drop a
+    # lock that SQLite holds here.
+    with open(final, "rb") as f:
+        if f.read(16) == SQLITE_HEADER:
+            raise FileWriteError(errno.EEXIST, "is an SQLite database: an export never replaces one; choose "
+                                 "another name", str(final))
 
 
 def fsync_folder(folder: Path) -> None:
@@ -116,10 +138,11 @@ def publish(part: Path, final: Path, *, overwrite: bool) -> None:
     fsync_folder(final.parent)
 
 
-def atomic_write_text(path: str | os.PathLike, text: str, *, encoding: str = "utf-8") -> Path:
-    """Write ``text`` to ``path`` whole or not at all (private permissions); replaces a regular file."""
+def atomic_write_text(path: str | os.PathLike, text: str, *, encoding: str = "utf-8", protect=()) -> Path:
+    """Write ``text`` to ``path`` whole or not at all (private permissions); replaces a regular file that is
+    not a database (``protect``: the databases this process has open, see :func:`check_target`)."""
     final = Path(path)
-    check_target(final, overwrite=True)
+    check_target(final, overwrite=True, protect=protect)
     clean_stale_parts(final.parent)
     part = part_path(final)
     try:

@@ -1,6 +1,7 @@
 """The supervisor's screens: the day review, round comparison and export from the app."""
 from __future__ import annotations
 
+import time
 from datetime import date, timedelta
 from pathlib import Path
 
@@ -307,16 +308,28 @@ class ExportDialog(ModalScreen[None]):
             self.app.call_from_thread(bar.update, progress=2)
             folder = export_folder()
             safe_name = "".join(ch if ch.isalnum() or ch in "-_" else "-" for ch in site["name"])[:40]
-            path = folder / f"fieldpad-{safe_name}-{self.day}.{fmt}"
-            atomic_write_text(path, text)
+            # Made at a time of its own: a second export of the same day never replaces the first.
+            stamp = time.strftime("%H%M%S")
+            path = folder / f"fieldpad-{safe_name}-{self.day}-{stamp}.{fmt}"
+            atomic_write_text(path, text, protect=(self.app.db_path,))
             self.app.call_from_thread(bar.update, progress=3)
-            msg = f"Wrote {len(records)} reading(s) to {path}"
+            msg = f"Wrote {len(records)} reading(s) to\n{_home_short(path)}"
         except Exception as e:  # disk full, permissions: say so, nothing else is touched
             msg = f"Export failed: {e}"
-        self.app.call_from_thread(self.query_one("#export-status", Static).update, Text(msg))
+        # A long path is folded onto the next lines, never cut at the dialog's edge.
+        self.app.call_from_thread(self.query_one("#export-status", Static).update, Text(msg, overflow="fold"))
 
     def action_close(self) -> None:
         self.dismiss(None)
+
+
+def _home_short(path: Path) -> str:
+    """A path as a person reads it: the home folder as ``~``."""
+    home = Path.home()
+    try:
+        return "~/" + str(path.relative_to(home))
+    except ValueError:
+        return str(path)
 
 
 def export_folder() -> Path:
