@@ -133,3 +133,29 @@ async def test_leaving_when_the_draft_cannot_be_written_asks_before_losing_anyth
             await pilot.press("y")
             await pilot.pause()
         assert draft_values(p) == {"va": "277"}
+
+
+async def test_the_draft_holds_every_field_at_every_keystroke_and_a_busy_database_does_not_stop_typing(tmp_path):
+    import sqlite3
+
+    p = tmp_path / "k.db"
+    seeded(p)
+    app = FieldpadApp(p, technician="T")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.press("2", "7", "7", "tab", "tab", "1", "2")
+        # Read by another connection straight after the keys: no timer, no way out was needed.
+        assert draft_values(p) == {"va": "277", "ia": "12"}
+        other = sqlite3.connect(p, isolation_level=None)
+        other.execute("BEGIN IMMEDIATE")  # another process holds the write lock (as a long import would)
+        t = time.perf_counter()
+        await pilot.press("3")
+        waited = time.perf_counter() - t
+        assert app.screen.query_one("EntryGrid").values["ia"] == "123"
+        assert waited < 2.0  # a keystroke does not wait out the 30 s busy timeout
+        other.execute("COMMIT")
+        other.close()
+        await pilot.press("4")
+        assert draft_values(p) == {"va": "277", "ia": "1234"}

@@ -33,6 +33,10 @@ class WriteError(StorageError):
     """A write that did not happen (read-only, full, busy): the message says why and what to do."""
 
 
+class BusyError(WriteError):
+    """A write that did not wait its turn (``write(..., wait_ms=...)``): another process holds the lock."""
+
+
 def default_path() -> Path:
     """``$FIELDPAD_DB`` if set, else ``fieldpad.db`` in the user's data folder."""
     env = os.environ.get(ENV_VAR)
@@ -289,13 +293,16 @@ def backup(db: sqlite_utils.Database, dest: str | os.PathLike) -> Path:
 
 
 @contextlib.contextmanager
-def write(db: sqlite_utils.Database):
+def write(db: sqlite_utils.Database, *, durable: bool = True, wait_ms: int | None = None):
     """One write transaction, committed at the end or rolled back on any error.
 
     ``BEGIN IMMEDIATE`` takes the write lock up front, so a transaction that
     reads before it writes waits for another writer (busy timeout) instead of
     failing with "database is locked" when it tries to write.  Nested calls
-    use a savepoint (sqlite-utils' ``atomic``).
+    use a savepoint (sqlite-utils' ``atomic``).  ``durable=False`` (drafts only)
+    commits without waiting for the disk: it survives the process being killed,
+    not a power cut.  ``wait_ms`` waits that long (instead of the busy timeout)
+    for another process's write lock, then raises a ``BusyError``.
     """
     conn = db.conn
     if getattr(db, "read_only", False):
@@ -304,6 +311,10 @@ def write(db: sqlite_utils.Database):
         with db.atomic():
             yield db
         return
+    if not durable:  # committed to the WAL in the OS, not waited for on the disk (drafts only)
+        conn.execute("PRAGMA synchronous=NORMAL")
+    if wait_ms is not None:
+        conn.execute(f"PRAGMA busy_timeout={int(wait_ms)}")
     try:
         conn.execute("BEGIN IMMEDIATE")
         try:
@@ -315,7 +326,14 @@ def write(db: sqlite_utils.Database):
         else:
             conn.execute("COMMIT")
     except sqlite3.OperationalError as e:
+        if wait_ms is not None and ("locked" in str(e) or "busy" in str(e)):
+            raise BusyError("another fieldpad is writing to the database") from e
         raise WriteError(_write_failure(db, e)) from e
+    finally:
+        if not durable:
+            conn.execute("PRAGMA synchronous=FULL")
+        if wait_ms is not None:
+            conn.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
 
 
 def _write_failure(db: sqlite_utils.Database, e: sqlite3.OperationalError) -> str:

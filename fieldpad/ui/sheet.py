@@ -14,7 +14,7 @@ from ..core import phase_colours
 from ..core.readings import validate_record
 from ..core.results import analyze_records
 from ..storage import repo
-from ..storage.db import StorageError
+from ..storage.db import BusyError, StorageError
 from ..storage.ids import local_text
 from . import phasor_art
 from .dialogs import Ask, AskReason, help_page
@@ -37,7 +37,8 @@ from .sheet_model import (
 )
 from .text_panel import TextPanel
 
-DRAFT_DELAY_S = 0.4
+#: How long a keystroke's draft waits for another process's write lock before leaving it to the next key.
+KEYSTROKE_WAIT_MS = 50
 PANELS = ("drawing", "power", "findings")
 
 
@@ -88,7 +89,6 @@ class ReadingSheet(Screen):
         self.previous = None
         self.show_previous = False
         self.panel = "drawing"
-        self._draft_timer = None
 
     # ---- layout -------------------------------------------------------------
     def compose(self) -> ComposeResult:
@@ -185,9 +185,7 @@ class ReadingSheet(Screen):
         self.dirty = True
         self._show_understood(field)
         self.recompute()
-        if self._draft_timer is not None:
-            self._draft_timer.stop()
-        self._draft_timer = self.set_timer(DRAFT_DELAY_S, self._save_draft)
+        self.flush_draft(wait_ms=KEYSTROKE_WAIT_MS)  # the draft holds every field at every keystroke
 
     def _show_understood(self, field: str) -> None:
         grid = self.query_one(EntryGrid)
@@ -251,19 +249,15 @@ class ReadingSheet(Screen):
     def on_resize(self) -> None:
         self._draw_panel()
 
-    def _save_draft(self) -> None:
-        self.flush_draft()
-
     def has_unsaved(self) -> bool:
         """Values typed on this sheet that are not saved as a reading."""
         return bool(self.dirty and self.query_one(EntryGrid).entered())
 
-    def flush_draft(self) -> bool:
+    def flush_draft(self, wait_ms: int | None = None) -> bool:
         """Store what is typed as this board's draft now.  True if it is stored (or there is nothing to
-        store); False if the draft could not be written, which the status line then says."""
-        if self._draft_timer is not None:
-            self._draft_timer.stop()
-            self._draft_timer = None
+        store); False if the draft could not be written, which the status line then says.  ``wait_ms``:
+        at a keystroke, another process's long write (an import) is not waited for; the draft stays due
+        and is stored at the next key or on the way out, which waits."""
         if self.correcting or not self.dirty:
             return True
         if self.app.db.read_only:
@@ -273,9 +267,13 @@ class ReadingSheet(Screen):
         grid = self.query_one(EntryGrid)
         try:
             if grid.entered():
-                repo.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": grid.entered()})
+                repo.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": grid.entered()},
+                                wait_ms=wait_ms)
             else:
-                repo.clear_draft(self.app.db, self.board_id)  # emptied by hand or cleared after a save
+                # Emptied by hand or cleared after a save.
+                repo.clear_draft(self.app.db, self.board_id, wait_ms=wait_ms)
+        except BusyError:
+            return False  # not now: the next key or the way out keeps it
         except StorageError as e:  # a draft that cannot be kept must not stop the typing
             self.set_status(f"DRAFT NOT KEPT: {e}. Your typing is still on the screen: save it (F2) "
                             "once the database can be written, or write the values down.", error=True)
@@ -342,9 +340,6 @@ class ReadingSheet(Screen):
         self.previous_row = repo.previous_reading(self.app.db, self.board_id)
         self.previous = self.result
         grid.clear()  # through _changed: the results are recomputed for the empty sheet
-        if self._draft_timer is not None:
-            self._draft_timer.stop()
-            self._draft_timer = None
         self.dirty = False
         self._update_title()
         self.set_status(message, ok=True)
