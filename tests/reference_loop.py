@@ -56,11 +56,14 @@ def analyse_one(r: dict) -> dict:
     out["pvur_pct"] = _maxdev(vm)
     lowest = min(vm) / max(vm)
     lost = lowest < 0.5
+    in_phase = False
     if lost:
         rot = "unknown"
-    elif abs(v1) >= 2 * abs(v2):
+    elif max(abs(v1), abs(v2)) < 0.1 * abs(v0):  # the three in phase: nothing rotates
+        rot, in_phase = "unknown", True
+    elif abs(v1) >= 2 * abs(v2) and abs(v1) > 0:
         rot = "ABC"
-    elif abs(v2) >= 2 * abs(v1):
+    elif abs(v2) >= 2 * abs(v1) and abs(v2) > 0:
         rot = "ACB"
     else:
         rot = "unknown"
@@ -89,7 +92,9 @@ def analyse_one(r: dict) -> dict:
         codes.add("PHASE_LOST")
     if rot == "ACB":
         codes.add("ROTATION_REVERSED")
-    if rot == "unknown" and not lost:
+    if in_phase:
+        codes.add("VOLTAGES_IN_PHASE")
+    elif rot == "unknown" and not lost:
         codes.add("ROTATION_UNKNOWN")
     if max(statuses) == 2:
         codes.add("VOLTAGE_OUT_OF_RANGE")
@@ -123,7 +128,8 @@ def analyse_one(r: dict) -> dict:
         if biggest > 0 and abs(diff) > 0.2 * biggest and abs(diff) >= 1.0:
             codes.add("NEUTRAL_MISMATCH")
     if rot != "unknown" and not ct_reversed:
-        i_rot = "ABC" if abs(i1) >= 2 * abs(i2) else ("ACB" if abs(i2) >= 2 * abs(i1) else "unknown")
+        i_rot = "ABC" if abs(i1) >= 2 * abs(i2) and abs(i1) > 0 else (
+            "ACB" if abs(i2) >= 2 * abs(i1) and abs(i2) > 0 else "unknown")
         if i_rot != "unknown" and i_rot != rot:
             codes.add("CURRENT_SEQUENCE")
     out["codes"] = codes

@@ -299,10 +299,11 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
         x0 = np.where(use_ll, CNAN, x0)
         x1 = np.where(use_ll, e[:, 1], x1)
         x2 = np.where(use_ll, e[:, 2], x2)
+        r0 = np.where(use_ll, np.abs(l0), np.nan)
         r1 = np.where(use_ll, np.abs(l1), np.nan)  # the line-to-line set decides rotation
         r2 = np.where(use_ll, np.abs(l2), np.nan)
     else:
-        r1 = r2 = None
+        r0 = r1 = r2 = None
     v_ok = use_ln | use_ll
     x0 = _pick(v_ok, x0, CNAN)
     x1 = _pick(v_ok, x1, CNAN)
@@ -337,8 +338,9 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     # ---- rotation --------------------------------------------------------
     rot_1 = v1a if r1 is None else np.where(use_ll, r1, v1a)
     rot_2 = v2a if r2 is None else np.where(use_ll, r2, v2a)
+    rot_0 = v0a if r0 is None else np.where(use_ll, r0, v0a)
     rcode, rreason = rot.rotation_from(rot_1, rot_2, low_rel, v_ok,
-                                       th.collapse_ratio, th.dominance)
+                                       th.collapse_ratio, th.dominance, rot_0, th.in_phase_ratio)
     if split.any():
         rreason = np.where(split, rot.REASON_NOT_3PH, rreason).astype(np.int8)
         rcode = np.where(split, rot.UNKNOWN, rcode).astype(np.int8)
@@ -425,8 +427,10 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
         high_leg_ix = np.where(hl, np.where((ma >= mb) & (ma >= mc), 0, np.where(mb >= mc, 1, 2)), -1)
 
     # Current sequence against voltage sequence: a lead on the wrong phase.
-    i_rot = np.where(i1a >= th.dominance * i2a, rot.ABC, np.where(i2a >= th.dominance * i1a, rot.ACB, rot.UNKNOWN))
-    i_rot = np.where(i3a, i_rot, rot.UNKNOWN)
+    # The same decision rule as the voltages (rotation.rotation_from), without the collapse rule (uneven
+    # loads are normal) and without the in-phase rule (a large I0 is normal on a 4-wire board); zero
+    # currents rotate neither way.
+    i_rot, _ = rot.rotation_from(i1a, i2a, 1.0, i3a, th.collapse_ratio, th.dominance)
 
     values = {
         "v0": v0a, "v1": v1a, "v2": v2a, "v0_deg": v0_deg, "v1_deg": v1_deg, "v2_deg": v2_deg,
@@ -447,7 +451,10 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     nan1, ph_none = np.nan, -1
     F.append(("PHASE_LOST", "alarm", lost, 100.0 * low_rel, 100.0 * th.collapse_ratio, "% of highest", low_ix))
     F.append(("ROTATION_REVERSED", "alarm", rcode == rot.ACB, nan1, nan1, "", ph_none))
-    F.append(("ROTATION_UNKNOWN", "info", is3 & (rcode == rot.UNKNOWN) & ~lost, nan1, nan1, "", ph_none))
+    in_phase = is3 & (rreason == rot.REASON_IN_PHASE) & ~lost
+    F.append(("VOLTAGES_IN_PHASE", "alarm", in_phase, nan1, nan1, "", ph_none))
+    F.append(("ROTATION_UNKNOWN", "info", is3 & (rcode == rot.UNKNOWN) & ~lost & ~in_phase, nan1, nan1, "",
+              ph_none))
     F.append(("VOLTAGE_OUT_OF_RANGE", "alarm", vstat_worst == 2, "v_dev_max_pct", nan1, "% of nominal", worst_ph))
     F.append(("VOLTAGE_RANGE_B", "warning", (vstat_worst == 1) & ~iec, "v_dev_max_pct", nan1, "% of nominal", worst_ph))
     F.append(("VUF_HIGH", "warning", vuf_pct > th.vuf_pct, "vuf_pct", th.vuf_pct, "%", ph_none))

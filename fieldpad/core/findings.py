@@ -25,6 +25,9 @@ MESSAGES = {
     "ROTATION_REVERSED": "Phase rotation is A-C-B (reverse). Motors will run backwards: check for two swapped "
                          "supply leads or meter leads before energising.",
     "ROTATION_UNKNOWN": "Phase rotation not determined: {reason}.",
+    "VOLTAGES_IN_PHASE": "The three voltages are in phase (no rotating component), which no three-phase supply "
+                         "gives: check that each voltage lead is on its own phase and that every angle was read "
+                         "against the same reference. Rotation not determined.",
     "VOLTAGE_OUT_OF_RANGE": "Voltage on {ph} is {value:+.1f} % from nominal, outside the {std} limits: check the "
                             "nominal entered, the transformer tap and the supply.",
     "VOLTAGE_RANGE_B": "Voltage on {ph} is {value:+.1f} % from nominal: outside ANSI Range A, inside Range B. "
@@ -56,6 +59,7 @@ MESSAGES = {
 
 SOURCE_KEY = {
     "PHASE_LOST": "collapse_ratio", "ROTATION_REVERSED": "rotation", "ROTATION_UNKNOWN": "rotation",
+    "VOLTAGES_IN_PHASE": "in_phase_ratio",
     "VUF_HIGH": "vuf_pct", "LVUR_EXCESSIVE": "lvur_max_pct", "LVUR_DERATE": "lvur_pct",
     "CURRENT_UNBALANCE": "iur_pct", "NEUTRAL_OVERLOAD": "neutral_overload_ratio",
     "NEUTRAL_HIGH": "neutral_ratio", "NEUTRAL_MISMATCH": "neutral_mismatch_ratio",

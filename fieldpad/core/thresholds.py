@@ -30,6 +30,8 @@ class Thresholds:
     collapse_ratio: float = 0.5
     #: One sequence must be this many times the other to call the rotation.
     dominance: float = 2.0
+    #: Rotating components below this fraction of the zero sequence: the three are in phase.
+    in_phase_ratio: float = 0.1
 
     def with_overrides(self, overrides: dict | None) -> "Thresholds":
         """A copy with the given fields replaced; unknown names raise ``KeyError``."""
@@ -55,6 +57,8 @@ SOURCES = {
     "neutral_mismatch_ratio": "common practice",
     "collapse_ratio": "common practice",
     "dominance": "common practice",
+    "in_phase_ratio": "fieldpad's own margin (no standard gives one): |V1| and |V2| both under 10 % of |V0| "
+                      "means the three voltages are nearly in phase, which no three-phase supply gives",
     "voltage_ansi": "ANSI C84.1-2020 Table 1 (Range A 95-105 %, Range B 91.7-105.8 % of nominal, service voltage)",
     "voltage_iec": "IEC 60038:2009 clause 4 (nominal ±10 %)",
     "rotation": "common practice (ABC = B lags A by 120°)",
