@@ -55,7 +55,7 @@ def analyse_one(r: dict) -> dict:
     out["lvur_pct"] = _maxdev(ll)
     out["pvur_pct"] = _maxdev(vm)
     lowest = min(vm) / max(vm)
-    lost = lowest < 0.5
+    lost = lowest <= 0.5
     in_phase = False
     if lost:
         rot = "unknown"

@@ -38,3 +38,53 @@ def test_zero_currents_rotate_neither_way():
     assert "CURRENT_SEQUENCE" not in codes(r)
     (r,) = run({**BAL, "ia": 0, "ib": 0, "ic": 0})
     assert "CURRENT_SEQUENCE" not in codes(r)
+
+
+# ---- 2. neutral equal to the highest phase ------------------------------------------------------
+
+def test_neutral_phasor_sum_equal_to_highest_phase_does_not_exceed():
+    # Issue 12 item 2: one phase loaded, the others at 0 A: the neutral is that phase's current, and
+    # |polar(12.7, θ)| may come out a hair above 12.7. Equal is not "exceeds" (common practice).
+    for deg in (-30.0, -37.0, 12.3, 100.0, -171.0):
+        (r,) = run({**BAL, "ia": 12.7, "ib": 0, "ic": 0, "ia_deg": deg, "ib_deg": -150, "ic_deg": 90})
+        assert r["i_n_calc"] == pytest.approx(12.7, rel=1e-12)
+        assert "NEUTRAL_OVERLOAD" not in codes(r), deg
+
+
+# ---- 7. open phase at exactly one half ----------------------------------------------------------
+
+def test_open_phase_on_three_wire_feed_at_exactly_half_is_lost():
+    # Issue 12 item 7: 480/240/240 (C open: Vab whole, Vbc and Vca in series across it). Collapse
+    # ratio 0.5 (common practice), "at or below".
+    (r,) = run({"system": "delta", "vab": 480, "vbc": 240, "vca": 240, "nominal_v": 480})
+    f = finding(r, "PHASE_LOST")
+    assert f["severity"] == "alarm" and f["phase"] == "C"
+
+
+# ---- 8. delta with the Vab angle left blank -----------------------------------------------------
+
+def test_delta_with_blank_vab_angle_takes_it_as_zero_like_va():
+    # Issue 12 item 8: a meter showing angles against Vab shows none for Vab itself.
+    rec = {"system": "delta", "vab": 480, "vbc": 480, "vca": 480, "vbc_deg": -120, "vca_deg": 120, "nominal_v": 480}
+    (r,) = run(rec)
+    (full,) = run({**rec, "vab_deg": 0})
+    assert r["basis"] == "line-to-line phasors (line-to-neutral equivalent)"
+    assert r["rotation"] == "ABC" == full["rotation"]
+    assert "MAGNITUDE_ONLY" not in codes(r)
+    assert r["v1"] == pytest.approx(full["v1"]) and r["v1"] == pytest.approx(480 / 3 ** 0.5)
+
+
+# ---- 11. a dead phase shows no angle ------------------------------------------------------------
+
+def test_dead_phase_without_angle_keeps_the_other_current_results():
+    # Issue 12 item 11: Ic = 0 A and no angle (the meter shows none at 0 A): the zero phasor needs none.
+    rec = {**BAL, "ic": 0}
+    del rec["ic_deg"]
+    (r,) = run(rec)
+    (with_angle,) = run({**BAL, "ic": 0, "ic_deg": 0})
+    for k in ("i1", "i2", "iuf_pct", "i_n_calc", "p_w", "q_var", "pf", "p_a_w", "p_b_w"):
+        assert r[k] is not None, k
+        assert r[k] == pytest.approx(with_angle[k]), k
+    # Two phases of 100 A at 120° apart: the neutral carries 100 A (Kirchhoff's current law).
+    assert r["i_n_calc"] == pytest.approx(100.0)
+    assert r["p_c_w"] == pytest.approx(0.0, abs=1e-9)

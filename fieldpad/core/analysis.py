@@ -267,11 +267,21 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
         ic_m = np.where(split, np.nan, ic_m)
     has_i = np.isfinite(ia_m) & np.isfinite(ib_m) & (np.isfinite(ic_m) | split)
     has_i_ang = has_i & _fin(col["ia_deg"], col["ib_deg"]) & (np.isfinite(col["ic_deg"]) | split)
+    # A dead phase: a meter shows no angle for 0 A, and the zero phasor needs none (its angle is taken as 0).
+    for f, m in (("ia_deg", ia_m), ("ib_deg", ib_m), ("ic_deg", ic_m)):
+        dead = (m == 0.0) & np.isnan(col[f])
+        if dead.any():
+            col[f] = np.where(dead, 0.0, col[f])
+    has_i_ang = has_i & _fin(col["ia_deg"], col["ib_deg"]) & (np.isfinite(col["ic_deg"]) | split)
     Ia, Ib = polar(ia_m, col["ia_deg"]), polar(ib_m, col["ib_deg"])
     Ic = polar(ic_m, col["ic_deg"])
 
     # Line-to-line phasors: measured (with angles) or derived from line-to-neutral phasors.
     lab, lbc, lca = col["vab"], col["vbc"], col["vca"]
+    # As for VA: a meter showing line-to-line angles relative to Vab often shows none for Vab itself.
+    ll_ref_missing = np.isfinite(lab) & np.isnan(col["vab_deg"]) & np.isfinite(col["vbc_deg"])
+    if ll_ref_missing.any():
+        col["vab_deg"] = np.where(ll_ref_missing, 0.0, col["vab_deg"])
     ll_given_ang = _fin(lab, lbc, lca, col["vab_deg"], col["vbc_deg"], col["vca_deg"]) & is3
     ll_from_ln = has_ln_ang & is3 & ~ll_given_ang
     Vab, Vbc, Vca = Va - Vb, Vb - Vc, Vc - Va
@@ -327,7 +337,9 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     lo = np.where(ln_based, lo_ln, lo_ll)
     hi = np.where(ln_based, hi_ln, hi_ll)
     low_rel = np.where(hi > 0, lo / np.where(hi > 0, hi, 1.0), np.nan)
-    lost = low_rel < th.collapse_ratio
+    # "At or below" half: an open phase on a 3-wire feed leaves exactly 1/2 (480/240/240); the relative
+    # margin keeps a ratio computed as 0.49999999999 or 0.50000000001 on the same side.
+    lost = low_rel <= th.collapse_ratio * (1.0 + 1e-9)
     low_ix = np.where(ma == lo_ln, 0, np.where(mb == lo_ln, 1, 2))
     if not ln_based.all():
         # Measured line-to-line: the lost phase is the one opposite the highest
@@ -469,9 +481,11 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     # With a reversed CT the phasor sum of the currents is wrong: judge the neutral only
     # on a measured value then.
     i_n_ratio = np.where(one_rev & ~np.isfinite(i_n_meas), np.nan, i_n_ratio)
-    F.append(("NEUTRAL_OVERLOAD", "alarm", i_n_ratio > th.neutral_overload_ratio, i_n_best,
+    # A relative tolerance: |polar(12.7, θ)| can be 12.700000000000001, and equal is not "exceeds".
+    over = i_n_ratio > th.neutral_overload_ratio * (1.0 + 1e-9)
+    F.append(("NEUTRAL_OVERLOAD", "alarm", over, i_n_best,
               th.neutral_overload_ratio * i_max, "A", ph_none))
-    F.append(("NEUTRAL_HIGH", "warning", (i_n_ratio > th.neutral_ratio) & ~(i_n_ratio > th.neutral_overload_ratio),
+    F.append(("NEUTRAL_HIGH", "warning", (i_n_ratio > th.neutral_ratio) & ~over,
               i_n_best, th.neutral_ratio * i_max, "A", ph_none))
     big = np.fmax(i_n_meas, i_n_calc)
     mismatch = np.abs(i_n_diff) > th.neutral_mismatch_ratio * np.where(big > 0, big, np.nan)

@@ -4,7 +4,7 @@ Decision rule (common practice, thresholds adjustable per site)
 ---------------------------------------------------------------
 1. The three angles are needed.  From magnitudes alone the rotation is
    ``unknown`` (a rotation tester or a meter showing angles is needed).
-2. If any phase magnitude is below ``collapse_ratio`` (default 0.5) of the
+2. If any phase magnitude is at or below ``collapse_ratio`` (default 0.5) of the
    largest, that phase is missing or collapsed and the rotation is ``unknown``.
 3. Otherwise ``ABC`` if ``|X1| ≥ dominance·|X2|``, ``ACB`` if
    ``|X2| ≥ dominance·|X1|`` (default dominance 2, i.e. one sequence at least
@@ -78,7 +78,8 @@ def rotation_from(x1_abs, x2_abs, lowest_ratio, has_angles, collapse_ratio=0.5, 
     """
     v1 = np.asarray(x1_abs, dtype=float)
     v2 = np.asarray(x2_abs, dtype=float)
-    collapsed = ~(np.asarray(lowest_ratio, dtype=float) >= collapse_ratio)
+    # At exactly the ratio is collapsed (an open phase on a 3-wire feed leaves 1/2), with a relative margin.
+    collapsed = ~(np.asarray(lowest_ratio, dtype=float) > collapse_ratio * (1.0 + 1e-9))
     code = np.where((v1 >= dominance * v2) & (v1 > 0), ABC,
                     np.where((v2 >= dominance * v1) & (v2 > 0), ACB, UNKNOWN))
     reason = np.where(code == UNKNOWN, REASON_NO_DOMINANCE, REASON_NONE)
