@@ -88,3 +88,26 @@ def test_dead_phase_without_angle_keeps_the_other_current_results():
     # Two phases of 100 A at 120° apart: the neutral carries 100 A (Kirchhoff's current law).
     assert r["i_n_calc"] == pytest.approx(100.0)
     assert r["p_c_w"] == pytest.approx(0.0, abs=1e-9)
+
+
+# ---- 3. line-to-line quantities named by their pair ---------------------------------------------
+
+def test_line_to_line_voltage_finding_names_the_pair():
+    # Issue 12 item 3: on a delta the voltage compared with nominal is line-to-line: Vca 430 V on
+    # 480 V nominal is -10.4 %, outside ANSI C84.1 Range B (-8.3 %); it is "C-A", not "C".
+    (r,) = run({"system": "delta", "vab": 480, "vbc": 480, "vca": 430, "nominal_v": 480})
+    f = finding(r, "VOLTAGE_OUT_OF_RANGE")
+    assert f["phase"] == "C-A" and "on C-A is -10.4 %" in f["message"]
+
+
+# ---- 10. arithmetic or vector apparent power ----------------------------------------------------
+
+def test_s_va_says_whether_arithmetic_or_vector():
+    # Issue 12 item 10. IEEE 1459-2010: arithmetic S = ΣV·I per phase; vector S = |P + jQ|.
+    (wye,) = run(BAL)
+    (delta,) = run({"system": "delta", "vab": 480, "vbc": 480, "vca": 480, "vab_deg": 30, "vbc_deg": -90,
+                    "vca_deg": 150, "ia": 100, "ib": 100, "ic": 100, "ia_deg": -30, "ib_deg": -150, "ic_deg": 90})
+    (none,) = run({"system": "delta", "vab": 480, "vbc": 480, "vca": 480})
+    assert wye["s_va_method"] == "arithmetic" and wye["s_va"] == pytest.approx(3 * 277 * 100)
+    assert delta["s_va_method"] == "vector" and delta["s_va"] == pytest.approx(delta["s_vector_va"])
+    assert none["s_va"] is None and none["s_va_method"] is None

@@ -407,6 +407,9 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     s_arith = ma * ia_m + mb * ib_m + (np.where(split, 0.0, mc * ic_m) if split.any() else mc * ic_m)
     s_arith = _pick(has_ln & has_i & four_wire, s_arith, np.nan)
     s_va = _pick(delta, s_vector, s_arith)
+    # 1 where s_va (and pf) is the vector |P + jQ| (3-wire delta, two-wattmeter), 0 where it is the
+    # arithmetic sum of the phases' V·I (4-wire and split-phase); -1 where s_va is unknown.
+    s_va_vector = np.where(np.isfinite(s_va), np.where(delta, 1, 0), -1).astype(np.int8)
     pf = power_factor(p_w, s_va)
     pa, pb, pc = Sa.real, Sb.real, Sc.real
     pf_a, pf_b, pf_c = power_factor(pa, np.abs(Sa)), power_factor(pb, np.abs(Sb)), power_factor(pc, np.abs(Sc))
@@ -430,6 +433,8 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     k0, k1, k2 = keys
     first_worst, second_worst = (k0 >= k1) & (k0 >= k2), k1 >= k2
     worst_ph = np.where(first_worst, 0, np.where(second_worst, 1, 2)).astype(np.int8)
+    # Line-to-line comparisons name the pair: 3, 4, 5 = A-B, B-C, C-A (see findings.phase_label).
+    worst_ph = np.where(ln_based, worst_ph, worst_ph + 3).astype(np.int8)
     dev_worst = np.where(first_worst, devs[0], np.where(second_worst, devs[1], devs[2]))
     vstat_worst = stats.max(axis=0)
 
@@ -451,7 +456,7 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
         "i0": i0a, "i1": i1a, "i2": i2a, "i0_deg": i0_deg, "i1_deg": i1_deg, "i2_deg": i2_deg,
         "iuf_pct": iuf_pct, "iur_pct": iur,
         "i_n_calc": i_n_calc, "i_n_calc_deg": i_n_calc_deg, "i_n_est": i_n_est, "i_n_diff": i_n_diff,
-        "p_w": p_w, "q_var": q_var, "s_va": s_va, "s_vector_va": s_vector, "pf": pf,
+        "p_w": p_w, "q_var": q_var, "s_va": s_va, "s_va_vector": s_va_vector, "s_vector_va": s_vector, "pf": pf,
         "p_a_w": pa, "p_b_w": pb, "p_c_w": pc, "q_a_var": Sa.imag, "q_b_var": Sb.imag, "q_c_var": Sc.imag,
         "pf_a": pf_a, "pf_b": pf_b, "pf_c": pf_c,
         "derating": derate, "temp_rise_pct": temp_rise,

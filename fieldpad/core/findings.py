@@ -68,6 +68,15 @@ SOURCE_KEY = {
 }
 
 
+def phase_label(ph: int, labels=("A", "B", "C")):
+    """A finding's phase: 0..2 a phase, 3..5 a line-to-line pair (3 = A-B, 4 = B-C, 5 = C-A), else None."""
+    if 0 <= ph < len(labels):
+        return labels[ph]
+    if 3 <= ph < 6 and len(labels) == 3:
+        return f"{labels[ph - 3]}-{labels[(ph - 2) % 3]}"
+    return None
+
+
 def _num(x):
     x = float(x)
     return None if math.isnan(x) or math.isinf(x) else round(x, 4)
@@ -101,7 +110,7 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
             iec = bool(std[i] == 1)
             src_key = SOURCE_KEY.get(code) or ("voltage_iec" if iec else "voltage_ansi")
             msg = MESSAGES[code].format(
-                ph=labels[ph] if 0 <= ph < len(labels) else "?",
+                ph=phase_label(ph, labels) or "?",
                 value=float(value[i]) if np.isfinite(value[i]) else float("nan"),
                 threshold=float(threshold[i]) if np.isfinite(threshold[i]) else float("nan"),
                 derating=f"{derating[i]:.2f}" if np.isfinite(derating[i]) else "n/a",
@@ -115,7 +124,7 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
                 "value": _num(value[i]),
                 "threshold": _num(threshold[i]),
                 "unit": unit,
-                "phase": labels[ph] if 0 <= ph < len(labels) else None,
+                "phase": phase_label(ph, labels),
                 "source": SOURCES[src_key],
             })
     for lst in out:
