@@ -68,8 +68,13 @@ def analyse_one(r: dict) -> dict:
     else:
         rot = "unknown"
     out["rotation"] = rot
-    out.update(i0=abs(i0), i1=abs(i1), i2=abs(i2))
-    out["iuf_pct"] = 100 * min(abs(i1), abs(i2)) / max(abs(i1), abs(i2)) if max(abs(i1), abs(i2)) > 0 else math.nan
+    # v1 is the sequence turning with the system (the larger), so that v2/v1 is vuf_pct.
+    out["v1"], out["v2"] = big_v, small_v
+    # Currents named against the voltages' rotation; against their own dominant sequence when it is unknown.
+    turn_acb = rot == "ACB" or (rot == "unknown" and abs(i2) > abs(i1))
+    pos_i, neg_i = (abs(i2), abs(i1)) if turn_acb else (abs(i1), abs(i2))
+    out.update(i0=abs(i0), i1=pos_i, i2=neg_i)
+    out["iuf_pct"] = 100 * neg_i / pos_i if pos_i > 0 else math.nan
     out["iur_pct"] = _maxdev(im)
     out["i_n_calc"] = abs(sum(i))
     a, b, c = im

@@ -111,3 +111,26 @@ def test_s_va_says_whether_arithmetic_or_vector():
     assert wye["s_va_method"] == "arithmetic" and wye["s_va"] == pytest.approx(3 * 277 * 100)
     assert delta["s_va_method"] == "vector" and delta["s_va"] == pytest.approx(delta["s_vector_va"])
     assert none["s_va"] is None and none["s_va_method"] is None
+
+
+# ---- 5 and 9. sequence names that never contradict the unbalance -------------------------------
+
+def test_acb_set_names_v1_the_sequence_turning_with_the_system():
+    # Issue 12 item 9: an A-C-B set, slightly unbalanced. vuf_pct = |V2|/|V1| (IEC 61000-4-30 Ed.3 5.7.1)
+    # with V1 the sequence that turns with the system (README "Conventions").
+    (r,) = run({**BAL, "va": 277, "vb": 271, "vc": 280, "vb_deg": 120, "vc_deg": -120,
+                "ib_deg": 90, "ic_deg": -150})
+    assert r["rotation"] == "ACB"
+    assert r["v1"] > 250 and r["v2"] < 5
+    assert r["vuf_pct"] == pytest.approx(100 * r["v2"] / r["v1"], abs=1e-3)
+
+
+def test_current_unbalance_against_the_system_rotation():
+    # Issue 12 item 5: clamps in A-C-B order on an A-B-C supply. Against the system's rotation the
+    # currents are all "negative sequence": i2 = 100 A, i1 = 0, so iuf_pct is no small number.
+    (r,) = run({**BAL, "ib_deg": 90, "ic_deg": -150})
+    assert r["rotation"] == "ABC"
+    assert r["i2"] == pytest.approx(100.0) and r["i1"] == pytest.approx(0.0, abs=1e-9)
+    assert r["iuf_pct"] is None  # |I2|/|I1| with I1 = 0 has no value
+    (ok,) = run({**BAL, "ia": 100, "ib": 90, "ic": 110})
+    assert ok["i1"] > ok["i2"] and ok["iuf_pct"] == pytest.approx(100 * ok["i2"] / ok["i1"], abs=1e-3)

@@ -371,7 +371,6 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     i0a, i1a, i2a = np.abs(y0), np.abs(y1), np.abs(y2)
     iscale = _max3(i0a, i1a, i2a)
     i0_deg, i1_deg, i2_deg = _angle(y0, i0a, iscale), _angle(y1, i1a, iscale), _angle(y2, i2a, iscale)
-    iuf_pct = _ratio(np.fmin(i1a, i2a), np.fmax(i1a, i2a))
     iur = max_deviation_pct_cols(ia_m, ib_m, ic_m)
     if split.any():
         iur = np.where(split, max_deviation_pct_cols(ia_m, ib_m), iur)
@@ -448,6 +447,22 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     # loads are normal) and without the in-phase rule (a large I0 is normal on a 4-wire board); zero
     # currents rotate neither way.
     i_rot, _ = rot.rotation_from(i1a, i2a, 1.0, i3a, th.collapse_ratio, th.dominance)
+
+    # Names that never contradict vuf_pct = min/max: "v1" is the sequence turning with the system (the larger),
+    # "v2" the other; for an A-C-B set they are the Fortescue (A-B-C) negative and positive sequences.
+    vswap = v2a > v1a
+    if vswap.any():
+        v1a, v2a = np.where(vswap, v2a, v1a), np.where(vswap, v1a, v2a)
+        v1_deg, v2_deg = np.where(vswap, v2_deg, v1_deg), np.where(vswap, v1_deg, v2_deg)
+    # Currents against the system's rotation (the voltages'), not their own dominant sequence: with the
+    # clamps in the opposite order, i2 > i1 and iuf_pct > 100 %. Where the rotation is unknown the
+    # currents' dominant sequence is taken as positive, as for the voltages.
+    iswap = np.where(rcode == rot.UNKNOWN, i2a > i1a, rcode == rot.ACB)
+    if iswap.any():
+        i1a, i2a = np.where(iswap, i2a, i1a), np.where(iswap, i1a, i2a)
+        i1_deg, i2_deg = np.where(iswap, i2_deg, i1_deg), np.where(iswap, i1_deg, i2_deg)
+    # No value where I1 is zero to within rounding (1e-9 of the largest component).
+    iuf_pct = _ratio(i2a, np.where(i1a > 1e-9 * iscale, i1a, np.nan))
 
     values = {
         "v0": v0a, "v1": v1a, "v2": v2a, "v0_deg": v0_deg, "v1_deg": v1_deg, "v2_deg": v2_deg,
