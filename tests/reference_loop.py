@@ -90,7 +90,7 @@ def analyse_one(r: dict) -> dict:
         out[f"pf_{p}"] = s[k].real / abs(s[k]) if abs(s[k]) > 0 else math.nan
     out["derating"] = _derate(out["lvur_pct"])
     out["temp_rise_pct"] = 2 * out["lvur_pct"] ** 2
-    nom = r["nominal_v"] / math.sqrt(3)
+    nom = {208.0: 120.0, 480.0: 277.0}[r["nominal_v"]]  # ANSI C84.1-2020 Table 1's own bases (from memory)
     statuses = [_status(x / nom) for x in vm]
     codes = set()
     if lost:

@@ -134,3 +134,34 @@ def test_current_unbalance_against_the_system_rotation():
     assert r["iuf_pct"] is None  # |I2|/|I1| with I1 = 0 has no value
     (ok,) = run({**BAL, "ia": 100, "ib": 90, "ic": 110})
     assert ok["i1"] > ok["i2"] and ok["iuf_pct"] == pytest.approx(100 * ok["i2"] / ok["i1"], abs=1e-3)
+
+
+# ---- 6. ANSI C84.1 on the table's own bases; no low-voltage table on medium voltage ------------
+
+def test_ansi_range_a_on_the_tables_120_v_base():
+    # Issue 12 item 6: 114.05 V on a 208Y/120 board. ANSI C84.1-2020 Table 1 (from memory): Range A
+    # service voltage 114-126 V on the 120 V base, so 114.05 V is inside Range A (on 208/√3 = 120.09 V it
+    # was -5.03 %, "Range B").
+    (r,) = run({**BAL, "nominal_v": 208, "va": 114.05, "vb": 114.05, "vc": 114.05})
+    assert not {"VOLTAGE_RANGE_B", "VOLTAGE_OUT_OF_RANGE"} & codes(r)
+    assert r["v_dev_max_pct"] == pytest.approx(100 * (114.05 - 120) / 120, abs=1e-3)
+    (low,) = run({**BAL, "nominal_v": 208, "va": 113.9, "vb": 114.05, "vc": 114.05})
+    assert finding(low, "VOLTAGE_RANGE_B")["phase"] == "A"
+
+
+def test_medium_voltage_gets_no_low_voltage_range():
+    # Issue 12 item 6: 4160 V is medium voltage (ANSI C84.1 has another table for it, whose values
+    # fieldpad does not carry): "no range known", never the low-voltage limits.
+    (r,) = run({**BAL, "nominal_v": 4160, "va": 2200, "vb": 2400, "vc": 2400})
+    assert not {"VOLTAGE_RANGE_B", "VOLTAGE_OUT_OF_RANGE"} & codes(r)
+    f = finding(r, "VOLTAGE_NO_RANGE")
+    assert f["severity"] == "info" and f["value"] == 4160 and "Check the nominal" in f["message"]
+    assert r["v_dev_max_pct"] is None
+
+
+def test_iec_on_its_table_base():
+    # IEC 60038:2009 Table 1 (from memory): 230/400 V, ±10 % of 230 V: 207 V is the limit.
+    (r,) = run({**BAL, "nominal_v": 400, "standard": "iec", "va": 207.5, "vb": 230, "vc": 230})
+    assert "VOLTAGE_OUT_OF_RANGE" not in codes(r)
+    (r,) = run({**BAL, "nominal_v": 400, "standard": "iec", "va": 206.5, "vb": 230, "vc": 230})
+    assert finding(r, "VOLTAGE_OUT_OF_RANGE")["phase"] == "A"

@@ -420,9 +420,10 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     # Compare line-to-neutral voltages for wye (nominal / √3) and split-phase
     # (nominal / 2), line-to-line voltages for delta and high-leg delta.
     v_nom = col["nominal_v"]
-    cmp_nom = np.where(ln_based, np.where(split, v_nom / 2.0, v_nom / SQRT3), v_nom)
-    inv_nom = np.where(cmp_nom > 0, 1.0 / np.where(cmp_nom > 0, cmp_nom, 1.0), np.nan)
     iec = standard == 1
+    cmp_nom = nominal.comparison_base(v_nom, ln_based, split, iec)
+    no_range = np.isfinite(v_nom) & np.isnan(cmp_nom)
+    inv_nom = np.where(cmp_nom > 0, 1.0 / np.where(cmp_nom > 0, cmp_nom, 1.0), np.nan)
     # The three phases as rows of one (3, N) array: one call per step instead of three.
     ratios = _pick(ln_based, np.stack([ma, mb, mc]), np.stack([uab, ubc, uca])) * inv_nom
     stats = nominal.status_of_ratio(ratios, iec)
@@ -476,7 +477,7 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
         "pf_a": pf_a, "pf_b": pf_b, "pf_c": pf_c,
         "derating": derate, "temp_rise_pct": temp_rise,
         "v_dev_max_pct": dev_worst, "voltage_status": vstat_worst, "high_leg": high_leg_ix,
-        "vab": uab, "vbc": ubc, "vca": uca,
+        "vab": uab, "vbc": ubc, "vca": uca, "nominal_v": v_nom,
     }
 
     F = []  # (code, severity, mask, value, threshold, unit, phase): see Analysis
@@ -489,6 +490,7 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
               ph_none))
     F.append(("VOLTAGE_OUT_OF_RANGE", "alarm", vstat_worst == 2, "v_dev_max_pct", nan1, "% of nominal", worst_ph))
     F.append(("VOLTAGE_RANGE_B", "warning", (vstat_worst == 1) & ~iec, "v_dev_max_pct", nan1, "% of nominal", worst_ph))
+    F.append(("VOLTAGE_NO_RANGE", "info", no_range, "nominal_v", nan1, "V", ph_none))
     F.append(("VUF_HIGH", "warning", vuf_pct > th.vuf_pct, "vuf_pct", th.vuf_pct, "%", ph_none))
     F.append(("LVUR_EXCESSIVE", "alarm", lvur > th.lvur_max_pct, "lvur_pct", th.lvur_max_pct, "%", ph_none))
     F.append(("LVUR_DERATE", "warning", (lvur > th.lvur_pct) & ~(lvur > th.lvur_max_pct), "lvur_pct",

@@ -32,6 +32,9 @@ MESSAGES = {
                             "nominal entered, the transformer tap and the supply.",
     "VOLTAGE_RANGE_B": "Voltage on {ph} is {value:+.1f} % from nominal: outside ANSI Range A, inside Range B. "
                        "Acceptable only occasionally; report to whoever manages the supply.",
+    "VOLTAGE_NO_RANGE": "Nominal {value:g} V is not among the system voltages whose limits fieldpad knows for "
+                        "this standard (ANSI C84.1 Table 1 low voltage; IEC 60038 100-1000 V): voltage not "
+                        "compared with a range. Check the nominal entered, and the supply's own limits.",
     "VUF_HIGH": "Voltage unbalance factor {value:.2f} % exceeds {threshold:g} %: look for unequal single-phase "
                 "loading or a supply problem.",
     "LVUR_EXCESSIVE": "Line-voltage unbalance {value:.2f} % exceeds {threshold:g} %: motor operation not "

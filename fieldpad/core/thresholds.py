@@ -59,8 +59,10 @@ SOURCES = {
     "dominance": "common practice",
     "in_phase_ratio": "fieldpad's own margin (no standard gives one): |V1| and |V2| both under 10 % of |V0| "
                       "means the three voltages are nearly in phase, which no three-phase supply gives",
-    "voltage_ansi": "ANSI C84.1-2020 Table 1 (Range A 95-105 %, Range B 91.7-105.8 % of nominal, service voltage)",
-    "voltage_iec": "IEC 60038:2009 clause 4 (nominal ±10 %)",
+    "voltage_ansi": "ANSI C84.1-2020 Table 1 (Range A 95-105 %, Range B 91.7-105.8 % of nominal, service voltage, "
+                    "on the table's own bases 120, 208, 240, 277, 347, 480, 600 V; from memory)",
+    "voltage_iec": "IEC 60038:2009 clause 4 (nominal ±10 %, systems 100-1000 V, Table 1 bases such as 230 V of "
+                   "230/400 V; from memory)",
     "rotation": "common practice (ABC = B lags A by 120°)",
     "high_leg": "NFPA 70 (NEC) 110.15 and 408.3(E): high leg marked orange and on phase B (from memory; local code governs)",
     "ct_reversed": "common practice",
