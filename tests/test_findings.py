@@ -165,3 +165,22 @@ def test_iec_on_its_table_base():
     assert "VOLTAGE_OUT_OF_RANGE" not in codes(r)
     (r,) = run({**BAL, "nominal_v": 400, "standard": "iec", "va": 206.5, "vb": 230, "vc": 230})
     assert finding(r, "VOLTAGE_OUT_OF_RANGE")["phase"] == "A"
+
+
+# ---- 4. high-leg delta --------------------------------------------------------------------------
+
+def test_plain_120_set_has_no_high_leg():
+    # Issue 12 item 4: 120/120/120 on a "high-leg delta": no leg is √3/2 of line-to-line (208 of 240).
+    (r,) = run({"system": "high-leg-delta", "nominal_v": 240, "vab": 240, "vbc": 240, "vca": 240,
+                "va": 120, "vb": 120, "vc": 120})
+    assert r["high_leg"] is None and "HIGH_LEG_POSITION" not in codes(r)
+    assert finding(r, "HIGH_LEG_NOT_FOUND")["severity"] == "info"
+
+
+def test_high_leg_delta_has_no_120_degree_neutral_estimate():
+    # Issue 12 item 4: the magnitude-only neutral estimate assumes 120° spacing; A and C are 180° apart
+    # about the centre tap, so no estimate is given (NaN -> null), never a made-up number.
+    (r,) = run({"system": "high-leg-delta", "nominal_v": 240, "vab": 240, "vbc": 240, "vca": 240,
+                "va": 120, "vb": 208, "vc": 120, "ia": 30, "ib": 10, "ic": 20})
+    assert r["high_leg"] == "B"
+    assert r["i_n_est"] is None

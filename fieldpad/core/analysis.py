@@ -384,7 +384,9 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     i_n_est = neutral_estimate_3ph(ia_m, ib_m, ic_m)
     if split.any():
         i_n_est = np.where(split, neutral_estimate_split(ia_m, ib_m), i_n_est)
-    i_n_est = _pick(has_i & four_wire, i_n_est, np.nan)
+    # No magnitude-only estimate on a high-leg delta: 120° spacing does not hold there (A and C are 180°
+    # apart about the centre tap, and three-phase load shares the same phase currents).
+    i_n_est = _pick(has_i & four_wire & (system != HIGH_LEG), i_n_est, np.nan)
     i_max = _pick(has_i, i_max, np.nan)
     i_n_meas = col["i_n"]
     i_n_best = np.where(np.isfinite(i_n_meas), i_n_meas, np.where(np.isfinite(i_n_calc), i_n_calc, i_n_est))
@@ -441,7 +443,15 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     hl = (system == HIGH_LEG) & has_ln
     high_leg_ix = np.full(n, -1, np.int8)
     if hl.any():
-        high_leg_ix = np.where(hl, np.where((ma >= mb) & (ma >= mc), 0, np.where(mb >= mc, 1, 2)), -1)
+        cand = np.where((ma >= mb) & (ma >= mc), 0, np.where(mb >= mc, 1, 2))
+        # A high leg is √3/2 of line-to-line, and the two low legs (180° apart about the centre tap) add up
+        # to line-to-line: 208/(120 + 120) = 0.866. A plain 120/120/120 set (0.5) has no high leg.
+        # Tolerance ±0.05 on the ratio: fieldpad's own margin for meter accuracy and supply unbalance.
+        others = ma + mb + mc - hi_ln
+        ratio = np.where(others > 0, hi_ln / np.where(others > 0, others, 1.0), np.nan)
+        is_hl = np.abs(ratio - SQRT3 / 2.0) <= 0.05
+        high_leg_ix = np.where(hl & is_hl, cand, -1).astype(np.int8)
+    no_high_leg = hl & (high_leg_ix < 0)
 
     # Current sequence against voltage sequence: a lead on the wrong phase.
     # The same decision rule as the voltages (rotation.rotation_from), without the collapse rule (uneven
@@ -519,6 +529,7 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     wrong_i_seq = (rcode != rot.UNKNOWN) & (i_rot != rot.UNKNOWN) & (i_rot != rcode)
     F.append(("CURRENT_SEQUENCE", "warning", wrong_i_seq & ~one_rev, "iuf_pct", nan1, "%", ph_none))
     F.append(("HIGH_LEG_POSITION", "warning", (high_leg_ix >= 0) & (high_leg_ix != 1), nan1, nan1, "", "high_leg"))
+    F.append(("HIGH_LEG_NOT_FOUND", "info", no_high_leg, nan1, nan1, "", ph_none))
     F.append(("MAGNITUDE_ONLY", "info", use_mag, nan1, nan1, "", ph_none))
     return Analysis(n=n, values=values, findings=F)
 

@@ -56,6 +56,9 @@ MESSAGES = {
                         "phase; check each clamp against its voltage lead.",
     "HIGH_LEG_POSITION": "The high leg is on {ph}, not on B where North American practice puts it: check the "
                          "marking (orange) and the panel's phase arrangement against the local code.",
+    "HIGH_LEG_NOT_FOUND": "No leg reads about 0.87 of line-to-line with the other two adding up to line-to-line: "
+                          "no high leg found. Check the system type entered (high-leg delta) and the meter leads "
+                          "to the centre-tapped neutral.",
     "MAGNITUDE_ONLY": "No angles entered: unbalance from magnitudes only (IEC 61000-4-30 formula); rotation, "
                       "power and the phasor neutral need angles.",
 }
@@ -66,7 +69,7 @@ SOURCE_KEY = {
     "VUF_HIGH": "vuf_pct", "LVUR_EXCESSIVE": "lvur_max_pct", "LVUR_DERATE": "lvur_pct",
     "CURRENT_UNBALANCE": "iur_pct", "NEUTRAL_OVERLOAD": "neutral_overload_ratio",
     "NEUTRAL_HIGH": "neutral_ratio", "NEUTRAL_MISMATCH": "neutral_mismatch_ratio",
-    "CT_REVERSED": "ct_reversed", "CURRENT_SEQUENCE": "rotation", "HIGH_LEG_POSITION": "high_leg",
+    "CT_REVERSED": "ct_reversed", "CURRENT_SEQUENCE": "rotation", "HIGH_LEG_POSITION": "high_leg", "HIGH_LEG_NOT_FOUND": "high_leg_ratio",
     "MAGNITUDE_ONLY": "rotation",
 }
 

@@ -66,4 +66,6 @@ SOURCES = {
     "rotation": "common practice (ABC = B lags A by 120°)",
     "high_leg": "NFPA 70 (NEC) 110.15 and 408.3(E): high leg marked orange and on phase B (from memory; local code governs)",
     "ct_reversed": "common practice",
+    "high_leg_ratio": "geometry of the 240/120 V centre-tapped delta (high leg = √3/2 of line-to-line, low legs "
+                      "= 1/2 each); ±0.05 on the ratio is fieldpad's own margin",
 }
