@@ -115,7 +115,8 @@ def analyse_one(r: dict) -> dict:
         codes.add("CURRENT_UNBALANCE")
     neg = [x.real < 0 for x in s]
     pos = [x.real > 0 for x in s]
-    ct_reversed = sum(neg) == 1 and sum(pos) == 2
+    pfs = [s[k].real / abs(s[k]) if abs(s[k]) > 0 else math.nan for k in range(3)]
+    ct_reversed = sum(neg) == 1 and sum(pos) == 2 and any(neg[k] and pfs[k] <= -0.25 for k in range(3))
     if ct_reversed:
         codes.add("CT_REVERSED")
     i_n = r.get("i_n")

@@ -184,3 +184,51 @@ def test_high_leg_delta_has_no_120_degree_neutral_estimate():
                 "va": 120, "vb": 208, "vc": 120, "ia": 30, "ib": 10, "ic": 20})
     assert r["high_leg"] == "B"
     assert r["i_n_est"] is None
+
+
+# ---- the worst false alarms ---------------------------------------------------------------------
+
+def severity(r, code):
+    return {f["severity"] for f in r["findings"] if f["code"] == code}
+
+
+def test_healthy_208y120_panel_at_40_34_46_a_is_no_warning():
+    # Issue 12: a healthy 208Y/120 distribution panel, 40/34/46 A (unbalance 15 % > 10 %, common practice):
+    # uneven single-phase loads are normal on a 4-wire board, so an info at most.
+    k = {"va": 120, "vb": 120, "vc": 120, "nominal_v": 208, "ia": 40, "ib": 34, "ic": 46}
+    (r,) = run({**BAL, **k})
+    assert severity(r, "CURRENT_UNBALANCE") == {"info"}
+    assert not {f["severity"] for f in r["findings"]} & {"warning", "alarm"}
+
+
+def test_split_phase_uneven_legs_is_info():
+    (r,) = run({"system": "split-phase", "nominal_v": 240, "va": 120, "vb": 120, "va_deg": 0, "vb_deg": 180,
+                "ia": 50, "ib": 20, "ia_deg": 0, "ib_deg": 180})
+    assert severity(r, "CURRENT_UNBALANCE") == {"info"}
+
+
+def test_current_unbalance_on_loaded_delta_is_a_warning_and_light_delta_an_info():
+    base = {"system": "delta", "vab": 480, "vbc": 480, "vca": 480, "nominal_v": 480}
+    (r,) = run({**base, "ia": 100, "ib": 80, "ic": 100})  # 12.5 % > 10 % (common practice)
+    assert severity(r, "CURRENT_UNBALANCE") == {"warning"}
+    (r,) = run({**base, "ia": 5, "ib": 3, "ic": 5})  # light: below 10 A (fieldpad's own choice)
+    assert severity(r, "CURRENT_UNBALANCE") == {"info"}
+
+
+def test_neutral_above_highest_phase_is_never_an_alarm():
+    # Compared with the phases, not the neutral's rating (none is entered): a warning, an info when light.
+    (r,) = run({**BAL, "ia": 100, "ib": 10, "ic": 10, "i_n": 140})
+    assert severity(r, "NEUTRAL_OVERLOAD") == {"warning"}
+    (r,) = run({**BAL, "ia": 4, "ib": 0.5, "ic": 0.5, "i_n": 5})
+    assert severity(r, "NEUTRAL_OVERLOAD") == {"info"}
+    assert "compare it with the neutral conductor's rating" in finding(r, "NEUTRAL_OVERLOAD")["message"]
+
+
+def test_light_phase_at_pf_minus_0_02_is_not_a_reversed_ct():
+    # Issue 12: PF -0.02 on a light phase is a near-quadrature load, not a reversed CT (margin PF <= -0.25,
+    # fieldpad's own). Current on B at -120 - 91.15° gives PF cos(91.15°) = -0.02.
+    (r,) = run({**BAL, "ib": 2, "ib_deg": -120 - 91.15})
+    assert r["pf_b"] == pytest.approx(-0.02, abs=1e-3)
+    assert "CT_REVERSED" not in codes(r)
+    (r,) = run({**BAL, "ib_deg": 30})  # a reversed CT at PF -0.87 is still found
+    assert severity(r, "CT_REVERSED") == {"alarm"}

@@ -505,19 +505,34 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     F.append(("LVUR_EXCESSIVE", "alarm", lvur > th.lvur_max_pct, "lvur_pct", th.lvur_max_pct, "%", ph_none))
     F.append(("LVUR_DERATE", "warning", (lvur > th.lvur_pct) & ~(lvur > th.lvur_max_pct), "lvur_pct",
               th.lvur_pct, "%", ph_none))
-    F.append(("CURRENT_UNBALANCE", "warning", iur > th.iur_pct, "iur_pct", th.iur_pct, "%", ph_none))
+    # Uneven single-phase loads are normal on a 4-wire or split-phase distribution board, and a light load
+    # says nothing about the board: there current unbalance is an info. A warning only on a 3-wire delta
+    # (three-phase loads, mostly motors) carrying more than a light load (th.light_load_a on the highest phase).
+    light = ~(i_max >= th.light_load_a)
+    iur_high = iur > th.iur_pct
+    iur_warn = iur_high & delta & ~light
+    F.append(("CURRENT_UNBALANCE", "warning", iur_warn, "iur_pct", th.iur_pct, "%", ph_none))
+    F.append(("CURRENT_UNBALANCE", "info", iur_high & ~iur_warn, "iur_pct", th.iur_pct, "%", ph_none))
     # A CT or current lead reversed: one phase's real power negative while the others are positive.
     n_neg = (pa < 0).astype(np.int8) + (pb < 0) + (pc < 0)
     n_pos = (pa > 0).astype(np.int8) + (pb > 0) + (pc > 0)
-    one_rev = per_phase & (n_neg == 1) & (n_pos == n_ph - 1)
+    # A margin: a phase is taken as reversed only at PF <= -th.ct_reversed_pf (PF -0.02 on a light phase is
+    # a near-quadrature load read with the meter's angle error, not a reversed CT).
+    rev_margin = ((pa < 0) & (pf_a <= -th.ct_reversed_pf)) | ((pb < 0) & (pf_b <= -th.ct_reversed_pf)) | (
+        (pc < 0) & (pf_c <= -th.ct_reversed_pf))
+    one_rev = per_phase & (n_neg == 1) & (n_pos == n_ph - 1) & rev_margin
     # With a reversed CT the phasor sum of the currents is wrong: judge the neutral only
     # on a measured value then.
     i_n_ratio = np.where(one_rev & ~np.isfinite(i_n_meas), np.nan, i_n_ratio)
     # A relative tolerance: |polar(12.7, θ)| can be 12.700000000000001, and equal is not "exceeds".
     over = i_n_ratio > th.neutral_overload_ratio * (1.0 + 1e-9)
-    F.append(("NEUTRAL_OVERLOAD", "alarm", over, i_n_best,
+    # Compared with the highest phase only (no neutral rating is entered), so at most a warning, and an
+    # info on a light load.
+    F.append(("NEUTRAL_OVERLOAD", "warning", over & ~light, i_n_best,
               th.neutral_overload_ratio * i_max, "A", ph_none))
-    F.append(("NEUTRAL_HIGH", "warning", (i_n_ratio > th.neutral_ratio) & ~over,
+    F.append(("NEUTRAL_OVERLOAD", "info", over & light, i_n_best,
+              th.neutral_overload_ratio * i_max, "A", ph_none))
+    F.append(("NEUTRAL_HIGH", "info", (i_n_ratio > th.neutral_ratio) & ~over,
               i_n_best, th.neutral_ratio * i_max, "A", ph_none))
     big = np.fmax(i_n_meas, i_n_calc)
     mismatch = np.abs(i_n_diff) > th.neutral_mismatch_ratio * np.where(big > 0, big, np.nan)

@@ -42,9 +42,11 @@ MESSAGES = {
     "LVUR_DERATE": "Line-voltage unbalance {value:.2f} % exceeds {threshold:g} %: three-phase motors on this "
                    "board need derating (factor {derating}).",
     "CURRENT_UNBALANCE": "Current unbalance {value:.1f} % exceeds {threshold:g} %: check the load distribution "
-                         "across phases and for a high-resistance connection.",
-    "NEUTRAL_OVERLOAD": "Neutral current {value:.1f} A exceeds the highest phase current: the neutral may be "
-                        "overloaded (often triplen harmonics). Check the neutral conductor's rating and terminations.",
+                         "across phases and for a high-resistance connection (uneven single-phase loads are "
+                         "normal on a distribution board).",
+    "NEUTRAL_OVERLOAD": "Neutral current {value:.1f} A exceeds the highest phase current: compare it with the "
+                        "neutral conductor's rating (often triplen harmonics add in the neutral) and check the "
+                        "neutral terminations.",
     "NEUTRAL_HIGH": "Neutral current {value:.1f} A is high for the phase currents: check the phase loading "
                     "balance and for harmonic loads.",
     "NEUTRAL_MISMATCH": "Measured neutral differs from the phasor sum of the phases by {value:+.1f} A: triplen "

@@ -32,6 +32,10 @@ class Thresholds:
     dominance: float = 2.0
     #: Rotating components below this fraction of the zero sequence: the three are in phase.
     in_phase_ratio: float = 0.1
+    #: Highest phase current below which a board's load is light (A).
+    light_load_a: float = 10.0
+    #: A phase is a reversed CT only with PF at or below minus this.
+    ct_reversed_pf: float = 0.25
 
     def with_overrides(self, overrides: dict | None) -> "Thresholds":
         """A copy with the given fields replaced; unknown names raise ``KeyError``."""
@@ -50,10 +54,12 @@ SOURCES = {
                "within 0-2 %)",
     "lvur_pct": "NEMA MG 1 Part 14.36 (motor derating above 1 % line-voltage unbalance)",
     "lvur_max_pct": "NEMA MG 1 Part 14.36 (operation above 5 % unbalance not recommended)",
-    "iur_pct": "common practice (current unbalance is typically 6-10 times the voltage unbalance)",
+    "iur_pct": "common practice (current unbalance is typically 6-10 times the voltage unbalance); a warning "
+               "only on a 3-wire delta above a light load, an info on distribution (4-wire, split-phase) boards",
     "neutral_ratio": "common practice",
     "neutral_overload_ratio": "common practice (a neutral sized like the phases carries no more than "
-                              "the highest phase)",
+                              "the highest phase); compared with the phases, not the neutral's rating, so "
+                              "at most a warning",
     "neutral_mismatch_ratio": "common practice",
     "collapse_ratio": "common practice",
     "dominance": "common practice",
@@ -65,7 +71,10 @@ SOURCES = {
                    "230/400 V; from memory)",
     "rotation": "common practice (ABC = B lags A by 120°)",
     "high_leg": "NFPA 70 (NEC) 110.15 and 408.3(E): high leg marked orange and on phase B (from memory; local code governs)",
-    "ct_reversed": "common practice",
+    "ct_reversed": "common practice (one phase's real power negative, the others positive); the margin "
+                   "PF <= -0.25 is fieldpad's own, for a near-quadrature light phase and the meter's angle error",
+    "light_load_a": "fieldpad's own choice (no standard; no rating is entered): below 10 A on the highest "
+                    "phase a board is lightly loaded; set per site",
     "high_leg_ratio": "geometry of the 240/120 V centre-tapped delta (high leg = √3/2 of line-to-line, low legs "
                       "= 1/2 each); ±0.05 on the ratio is fieldpad's own margin",
 }
