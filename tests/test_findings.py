@@ -232,3 +232,17 @@ def test_light_phase_at_pf_minus_0_02_is_not_a_reversed_ct():
     assert "CT_REVERSED" not in codes(r)
     (r,) = run({**BAL, "ib_deg": 30})  # a reversed CT at PF -0.87 is still found
     assert severity(r, "CT_REVERSED") == {"alarm"}
+
+
+# ---- silent wiring faults -----------------------------------------------------------------------
+
+def test_clamps_moved_one_phase_on_are_named():
+    # Issue 12: A's clamp on B, B's on C, C's on A. BAL's loads lag 30°; the clamp on A then reads B's
+    # current (-150°): S_a = Va·Ib* at 150°, PF -0.87 on every phase. The other way round: -90°, PF 0.
+    (r,) = run({**BAL, "ia_deg": -150, "ib_deg": 90, "ic_deg": -30})
+    f = finding(r, "CLAMPS_ROTATED")
+    assert f["severity"] == "warning" and "A's on B" in f["message"]
+    (r,) = run({**BAL, "ia_deg": 90, "ib_deg": -30, "ic_deg": -150})
+    assert "CLAMPS_ROTATED" in codes(r)
+    (ok,) = run(BAL)
+    assert "CLAMPS_ROTATED" not in codes(ok)

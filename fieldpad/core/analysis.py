@@ -541,6 +541,12 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     rev_ix = np.where(pa < 0, 0, np.where(pb < 0, 1, 2))
     rev_pf = np.where(rev_ix == 0, pf_a, np.where(rev_ix == 1, pf_b, pf_c))
     F.append(("CT_REVERSED", "alarm", one_rev, rev_pf, nan1, "PF", rev_ix))
+    # Clamps moved one phase on (A's on B, B's on C, C's on A) shift every phase's V-I angle by 120°: every
+    # phase's power is then negative or near zero (PF <= 0.1 on all three; common practice). So do all CTs
+    # reversed, or a board that exports: the finding names all three and says what to check.
+    pf_max = _max3(pf_a, pf_b, pf_c)
+    none_pos = per_phase & is3 & (pf_max <= 0.1) & np.isfinite(pf_a) & np.isfinite(pf_b) & np.isfinite(pf_c)
+    F.append(("CLAMPS_ROTATED", "warning", none_pos, pf_max, 0.1, "PF", ph_none))
     wrong_i_seq = (rcode != rot.UNKNOWN) & (i_rot != rot.UNKNOWN) & (i_rot != rcode)
     F.append(("CURRENT_SEQUENCE", "warning", wrong_i_seq & ~one_rev, "iuf_pct", nan1, "%", ph_none))
     F.append(("HIGH_LEG_POSITION", "warning", (high_leg_ix >= 0) & (high_leg_ix != 1), nan1, nan1, "", "high_leg"))

@@ -54,6 +54,10 @@ MESSAGES = {
                         "shared neutral or a CT on the wrong conductor.",
     "CT_REVERSED": "Power on {ph} is negative while the other phases are positive: a CT or current lead on {ph} "
                    "is probably reversed.",
+    "CLAMPS_ROTATED": "Power on every phase is negative or near zero (highest PF {value:.2f}): check that each "
+                      "current clamp is on the phase of its voltage lead (clamps moved one phase on: A's on B, "
+                      "B's on C, C's on A), then the clamps' direction (all reversed), and whether the board "
+                      "is fed from this side (a source or exporting board shows the same).",
     "CURRENT_SEQUENCE": "Currents rotate opposite to the voltages: a current clamp or CT is probably on the wrong "
                         "phase; check each clamp against its voltage lead.",
     "HIGH_LEG_POSITION": "The high leg is on {ph}, not on B where North American practice puts it: check the "
@@ -71,7 +75,7 @@ SOURCE_KEY = {
     "VUF_HIGH": "vuf_pct", "LVUR_EXCESSIVE": "lvur_max_pct", "LVUR_DERATE": "lvur_pct",
     "CURRENT_UNBALANCE": "iur_pct", "NEUTRAL_OVERLOAD": "neutral_overload_ratio",
     "NEUTRAL_HIGH": "neutral_ratio", "NEUTRAL_MISMATCH": "neutral_mismatch_ratio",
-    "CT_REVERSED": "ct_reversed", "CURRENT_SEQUENCE": "rotation", "HIGH_LEG_POSITION": "high_leg", "HIGH_LEG_NOT_FOUND": "high_leg_ratio",
+    "CT_REVERSED": "ct_reversed", "CLAMPS_ROTATED": "clamps_rotated", "CURRENT_SEQUENCE": "rotation", "HIGH_LEG_POSITION": "high_leg", "HIGH_LEG_NOT_FOUND": "high_leg_ratio",
     "MAGNITUDE_ONLY": "rotation",
 }
 

@@ -73,6 +73,8 @@ SOURCES = {
     "high_leg": "NFPA 70 (NEC) 110.15 and 408.3(E): high leg marked orange and on phase B (from memory; local code governs)",
     "ct_reversed": "common practice (one phase's real power negative, the others positive); the margin "
                    "PF <= -0.25 is fieldpad's own, for a near-quadrature light phase and the meter's angle error",
+    "clamps_rotated": "common practice (a clamp one phase on shifts the V-I angle by 120°, so no phase's power "
+                      "stays positive); the PF 0.1 line is fieldpad's own",
     "light_load_a": "fieldpad's own choice (no standard; no rating is entered): below 10 A on the highest "
                     "phase a board is lightly loaded; set per site",
     "high_leg_ratio": "geometry of the 240/120 V centre-tapped delta (high leg = √3/2 of line-to-line, low legs "
