@@ -97,6 +97,8 @@ def analyse_one(r: dict) -> dict:
         codes.add("PHASE_LOST")
     if rot == "ACB":
         codes.add("ROTATION_REVERSED")
+    if not lost and (out["v0uf_pct"] > 5.0 or (out["pvur_pct"] > 5.0 and out["lvur_pct"] <= 2.0)):
+        codes.add("NEUTRAL_SHIFT")  # open or floating neutral
     if in_phase:
         codes.add("VOLTAGES_IN_PHASE")
     elif rot == "unknown" and not lost:

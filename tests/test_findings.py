@@ -246,3 +246,13 @@ def test_clamps_moved_one_phase_on_are_named():
     assert "CLAMPS_ROTATED" in codes(r)
     (ok,) = run(BAL)
     assert "CLAMPS_ROTATED" not in codes(ok)
+
+
+def test_open_neutral_from_balanced_line_to_line_and_shifted_line_to_neutral():
+    # Issue 12: line-to-line balanced at 480 V, line-to-neutral 217/311/311 (the star point moved toward A).
+    # Magnitudes only: PVUR 22 % > 5 % with LVUR 0 % <= 2 % (fieldpad's own lines, common practice).
+    (r,) = run({"va": 217, "vb": 311, "vc": 311, "vab": 480, "vbc": 480, "vca": 480, "nominal_v": 480})
+    f = finding(r, "NEUTRAL_SHIFT")
+    assert f["severity"] == "warning" and "open or floating neutral" in f["message"]
+    (ok,) = run(BAL)
+    assert "NEUTRAL_SHIFT" not in codes(ok)

@@ -495,6 +495,11 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     F.append(("PHASE_LOST", "alarm", lost, 100.0 * low_rel, 100.0 * th.collapse_ratio, "% of highest", low_ix))
     F.append(("ROTATION_REVERSED", "alarm", rcode == rot.ACB, nan1, nan1, "", ph_none))
     in_phase = is3 & (rreason == rot.REASON_IN_PHASE) & ~lost
+    # Open or floating neutral: line-to-neutral voltages shifted (zero sequence) over a balanced line-to-line
+    # set. From phasors: V0/V1 above 5 %; from magnitudes: PVUR above 5 % with LVUR at most 2 % (common
+    # practice: the neutral point moves, the line-to-line triangle does not; the 5 % and 2 % are fieldpad's own).
+    shift = wye & ~lost & ((v0uf_pct > 5.0) | ((pvur > 5.0) & (lvur <= 2.0)))
+    F.append(("NEUTRAL_SHIFT", "warning", shift, "pvur_pct", 5.0, "%", ph_none))
     F.append(("VOLTAGES_IN_PHASE", "alarm", in_phase, nan1, nan1, "", ph_none))
     F.append(("ROTATION_UNKNOWN", "info", is3 & (rcode == rot.UNKNOWN) & ~lost & ~in_phase, nan1, nan1, "",
               ph_none))

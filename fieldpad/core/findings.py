@@ -58,6 +58,10 @@ MESSAGES = {
                       "current clamp is on the phase of its voltage lead (clamps moved one phase on: A's on B, "
                       "B's on C, C's on A), then the clamps' direction (all reversed), and whether the board "
                       "is fed from this side (a source or exporting board shows the same).",
+    "NEUTRAL_SHIFT": "Line-to-neutral voltages are unequal ({value:.1f} % from their average) while the "
+                     "line-to-line voltages are balanced: the neutral point has moved. Check for an open or "
+                     "floating neutral (loose or burnt neutral termination, neutral-earth bond) before "
+                     "loading single-phase equipment.",
     "CURRENT_SEQUENCE": "Currents rotate opposite to the voltages: a current clamp or CT is probably on the wrong "
                         "phase; check each clamp against its voltage lead.",
     "HIGH_LEG_POSITION": "The high leg is on {ph}, not on B where North American practice puts it: check the "
@@ -75,7 +79,8 @@ SOURCE_KEY = {
     "VUF_HIGH": "vuf_pct", "LVUR_EXCESSIVE": "lvur_max_pct", "LVUR_DERATE": "lvur_pct",
     "CURRENT_UNBALANCE": "iur_pct", "NEUTRAL_OVERLOAD": "neutral_overload_ratio",
     "NEUTRAL_HIGH": "neutral_ratio", "NEUTRAL_MISMATCH": "neutral_mismatch_ratio",
-    "CT_REVERSED": "ct_reversed", "CLAMPS_ROTATED": "clamps_rotated", "CURRENT_SEQUENCE": "rotation", "HIGH_LEG_POSITION": "high_leg", "HIGH_LEG_NOT_FOUND": "high_leg_ratio",
+    "CT_REVERSED": "ct_reversed", "CLAMPS_ROTATED": "clamps_rotated",
+    "NEUTRAL_SHIFT": "neutral_shift", "CURRENT_SEQUENCE": "rotation", "HIGH_LEG_POSITION": "high_leg", "HIGH_LEG_NOT_FOUND": "high_leg_ratio",
     "MAGNITUDE_ONLY": "rotation",
 }
 

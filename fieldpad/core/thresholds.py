@@ -75,6 +75,8 @@ SOURCES = {
                    "PF <= -0.25 is fieldpad's own, for a near-quadrature light phase and the meter's angle error",
     "clamps_rotated": "common practice (a clamp one phase on shifts the V-I angle by 120°, so no phase's power "
                       "stays positive); the PF 0.1 line is fieldpad's own",
+    "neutral_shift": "common practice (an open neutral moves the star point: V0 appears, line-to-line stays "
+                     "balanced); V0/V1 > 5 %, or PVUR > 5 % with LVUR <= 2 %, are fieldpad's own lines",
     "light_load_a": "fieldpad's own choice (no standard; no rating is entered): below 10 A on the highest "
                     "phase a board is lightly loaded; set per site",
     "high_leg_ratio": "geometry of the 240/120 V centre-tapped delta (high leg = √3/2 of line-to-line, low legs "
