@@ -121,6 +121,8 @@ def analyse_one(r: dict) -> dict:
     ct_reversed = sum(neg) == 1 and sum(pos) == 2 and any(neg[k] and pfs[k] <= -0.25 for k in range(3))
     if ct_reversed:
         codes.add("CT_REVERSED")
+    if sum(neg[k] and pfs[k] <= -0.25 for k in range(3)) == 2 and sum(pos) == 1:
+        codes.add("CT_TWO_REVERSED")
     if all(not math.isnan(x) for x in pfs) and max(pfs) <= 0.1:  # every phase's power negative or near zero
         codes.add("CLAMPS_ROTATED")
     i_n = r.get("i_n")

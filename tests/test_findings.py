@@ -256,3 +256,11 @@ def test_open_neutral_from_balanced_line_to_line_and_shifted_line_to_neutral():
     assert f["severity"] == "warning" and "open or floating neutral" in f["message"]
     (ok,) = run(BAL)
     assert "NEUTRAL_SHIFT" not in codes(ok)
+
+
+def test_two_cts_reversed_say_polarity():
+    # Issue 12: CTs on B and C reversed (their currents turned by 180°), A right: PF -0.87 on B and C.
+    (r,) = run({**BAL, "ib_deg": 30, "ic_deg": -90})
+    f = finding(r, "CT_TWO_REVERSED")
+    assert f["phase"] == "A" and "polarity" in f["message"]
+    assert "CT_REVERSED" not in codes(r)

@@ -546,6 +546,12 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     rev_ix = np.where(pa < 0, 0, np.where(pb < 0, 1, 2))
     rev_pf = np.where(rev_ix == 0, pf_a, np.where(rev_ix == 1, pf_b, pf_c))
     F.append(("CT_REVERSED", "alarm", one_rev, rev_pf, nan1, "PF", rev_ix))
+    # Two CTs reversed: two phases clearly negative (PF <= -ct_reversed_pf), the third positive.
+    n_rev = ((pa < 0) & (pf_a <= -th.ct_reversed_pf)).astype(np.int8) + (
+        (pb < 0) & (pf_b <= -th.ct_reversed_pf)) + ((pc < 0) & (pf_c <= -th.ct_reversed_pf))
+    two_rev = per_phase & is3 & (n_rev == 2) & (n_pos == 1)
+    pos_ix = np.where(pa > 0, 0, np.where(pb > 0, 1, 2)).astype(np.int8)
+    F.append(("CT_TWO_REVERSED", "alarm", two_rev, nan1, nan1, "", pos_ix))
     # Clamps moved one phase on (A's on B, B's on C, C's on A) shift every phase's V-I angle by 120°: every
     # phase's power is then negative or near zero (PF <= 0.1 on all three; common practice). So do all CTs
     # reversed, or a board that exports: the finding names all three and says what to check.

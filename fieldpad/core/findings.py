@@ -54,6 +54,9 @@ MESSAGES = {
                         "shared neutral or a CT on the wrong conductor.",
     "CT_REVERSED": "Power on {ph} is negative while the other phases are positive: a CT or current lead on {ph} "
                    "is probably reversed.",
+    "CT_TWO_REVERSED": "Power is negative on the two phases other than {ph}: two CTs or current leads are "
+                       "probably reversed (polarity). Check the direction of those two clamps or CTs "
+                       "(arrow toward the load).",
     "CLAMPS_ROTATED": "Power on every phase is negative or near zero (highest PF {value:.2f}): check that each "
                       "current clamp is on the phase of its voltage lead (clamps moved one phase on: A's on B, "
                       "B's on C, C's on A), then the clamps' direction (all reversed), and whether the board "
@@ -79,7 +82,7 @@ SOURCE_KEY = {
     "VUF_HIGH": "vuf_pct", "LVUR_EXCESSIVE": "lvur_max_pct", "LVUR_DERATE": "lvur_pct",
     "CURRENT_UNBALANCE": "iur_pct", "NEUTRAL_OVERLOAD": "neutral_overload_ratio",
     "NEUTRAL_HIGH": "neutral_ratio", "NEUTRAL_MISMATCH": "neutral_mismatch_ratio",
-    "CT_REVERSED": "ct_reversed", "CLAMPS_ROTATED": "clamps_rotated",
+    "CT_REVERSED": "ct_reversed", "CLAMPS_ROTATED": "clamps_rotated", "CT_TWO_REVERSED": "ct_reversed",
     "NEUTRAL_SHIFT": "neutral_shift", "CURRENT_SEQUENCE": "rotation", "HIGH_LEG_POSITION": "high_leg", "HIGH_LEG_NOT_FOUND": "high_leg_ratio",
     "MAGNITUDE_ONLY": "rotation",
 }
