@@ -55,18 +55,26 @@ def analyse_one(r: dict) -> dict:
     out["lvur_pct"] = _maxdev(ll)
     out["pvur_pct"] = _maxdev(vm)
     lowest = min(vm) / max(vm)
-    lost = lowest < 0.5
+    lost = lowest <= 0.5
+    in_phase = False
     if lost:
         rot = "unknown"
-    elif abs(v1) >= 2 * abs(v2):
+    elif max(abs(v1), abs(v2)) < 0.1 * abs(v0):  # the three in phase: nothing rotates
+        rot, in_phase = "unknown", True
+    elif abs(v1) >= 2 * abs(v2) and abs(v1) > 0:
         rot = "ABC"
-    elif abs(v2) >= 2 * abs(v1):
+    elif abs(v2) >= 2 * abs(v1) and abs(v2) > 0:
         rot = "ACB"
     else:
         rot = "unknown"
     out["rotation"] = rot
-    out.update(i0=abs(i0), i1=abs(i1), i2=abs(i2))
-    out["iuf_pct"] = 100 * min(abs(i1), abs(i2)) / max(abs(i1), abs(i2)) if max(abs(i1), abs(i2)) > 0 else math.nan
+    # v1 is the sequence turning with the system (the larger), so that v2/v1 is vuf_pct.
+    out["v1"], out["v2"] = big_v, small_v
+    # Currents named against the voltages' rotation; against their own dominant sequence when it is unknown.
+    turn_acb = rot == "ACB" or (rot == "unknown" and abs(i2) > abs(i1))
+    pos_i, neg_i = (abs(i2), abs(i1)) if turn_acb else (abs(i1), abs(i2))
+    out.update(i0=abs(i0), i1=pos_i, i2=neg_i)
+    out["iuf_pct"] = 100 * neg_i / pos_i if pos_i > 0 else math.nan
     out["iur_pct"] = _maxdev(im)
     out["i_n_calc"] = abs(sum(i))
     a, b, c = im
@@ -82,14 +90,18 @@ def analyse_one(r: dict) -> dict:
         out[f"pf_{p}"] = s[k].real / abs(s[k]) if abs(s[k]) > 0 else math.nan
     out["derating"] = _derate(out["lvur_pct"])
     out["temp_rise_pct"] = 2 * out["lvur_pct"] ** 2
-    nom = r["nominal_v"] / math.sqrt(3)
+    nom = {208.0: 120.0, 480.0: 277.0}[r["nominal_v"]]  # ANSI C84.1-2020 Table 1's own bases (from memory)
     statuses = [_status(x / nom) for x in vm]
     codes = set()
     if lost:
         codes.add("PHASE_LOST")
     if rot == "ACB":
         codes.add("ROTATION_REVERSED")
-    if rot == "unknown" and not lost:
+    if not lost and (out["v0uf_pct"] > 5.0 or (out["pvur_pct"] > 5.0 and out["lvur_pct"] <= 2.0)):
+        codes.add("NEUTRAL_SHIFT")  # open or floating neutral
+    if in_phase:
+        codes.add("VOLTAGES_IN_PHASE")
+    elif rot == "unknown" and not lost:
         codes.add("ROTATION_UNKNOWN")
     if max(statuses) == 2:
         codes.add("VOLTAGE_OUT_OF_RANGE")
@@ -105,9 +117,14 @@ def analyse_one(r: dict) -> dict:
         codes.add("CURRENT_UNBALANCE")
     neg = [x.real < 0 for x in s]
     pos = [x.real > 0 for x in s]
-    ct_reversed = sum(neg) == 1 and sum(pos) == 2
+    pfs = [s[k].real / abs(s[k]) if abs(s[k]) > 0 else math.nan for k in range(3)]
+    ct_reversed = sum(neg) == 1 and sum(pos) == 2 and any(neg[k] and pfs[k] <= -0.25 for k in range(3))
     if ct_reversed:
         codes.add("CT_REVERSED")
+    if sum(neg[k] and pfs[k] <= -0.25 for k in range(3)) == 2 and sum(pos) == 1:
+        codes.add("CT_TWO_REVERSED")
+    if all(not math.isnan(x) for x in pfs) and max(pfs) <= 0.1:  # every phase's power negative or near zero
+        codes.add("CLAMPS_ROTATED")
     i_n = r.get("i_n")
     measured = i_n is not None and not math.isnan(i_n)
     best = i_n if measured else out["i_n_calc"]
@@ -123,7 +140,8 @@ def analyse_one(r: dict) -> dict:
         if biggest > 0 and abs(diff) > 0.2 * biggest and abs(diff) >= 1.0:
             codes.add("NEUTRAL_MISMATCH")
     if rot != "unknown" and not ct_reversed:
-        i_rot = "ABC" if abs(i1) >= 2 * abs(i2) else ("ACB" if abs(i2) >= 2 * abs(i1) else "unknown")
+        i_rot = "ABC" if abs(i1) >= 2 * abs(i2) and abs(i1) > 0 else (
+            "ACB" if abs(i2) >= 2 * abs(i1) and abs(i2) > 0 else "unknown")
         if i_rot != "unknown" and i_rot != rot:
             codes.add("CURRENT_SEQUENCE")
     out["codes"] = codes

@@ -22,11 +22,13 @@ RESULT_FIELDS = (
     # additions
     "iur_pct", "i_n_diff", "s_vector_va",
     "p_a_w", "p_b_w", "p_c_w", "q_a_var", "q_b_var", "q_c_var", "pf_a", "pf_b", "pf_c",
-    "temp_rise_pct", "v_dev_max_pct", "high_leg", "rotation_note", "basis",
+    "temp_rise_pct", "v_dev_max_pct", "high_leg", "rotation_note", "basis", "s_va_method",
     "findings",
 )
 _FLOAT_FIELDS = tuple(f for f in RESULT_FIELDS if f not in
-                      ("rotation", "high_leg", "rotation_note", "basis", "findings"))
+                      ("rotation", "high_leg", "rotation_note", "basis", "s_va_method", "findings"))
+#: How ``s_va`` and ``pf`` were formed (analysis value ``s_va_vector``).
+S_VA_METHOD = {-1: None, 0: "arithmetic", 1: "vector"}
 VOLTAGE_STATUS = {-1: None, 0: "within", 1: "range B", 2: "out of range"}
 
 
@@ -45,6 +47,7 @@ def to_records(result: Analysis, labels=("A", "B", "C"), standards=None) -> list
     columns["rotation"] = [ROTATION_NAMES[r] if tp else None for r, tp in zip(v["rotation"].tolist(), three_phase)]
     columns["rotation_note"] = [REASON_TEXT[r] or None for r in v["rotation_reason"].tolist()]
     columns["basis"] = [BASIS_NAMES[b] for b in v["basis"].tolist()]
+    columns["s_va_method"] = [S_VA_METHOD[k] for k in v["s_va_vector"].tolist()]
     columns["high_leg"] = [labels[h] if h >= 0 else None for h in v["high_leg"].tolist()]
     columns["findings"] = findings_lists(result, labels, standards)
     return [dict(zip(RESULT_FIELDS, row)) for row in zip(*(columns[f] for f in RESULT_FIELDS))]

@@ -30,6 +30,12 @@ class Thresholds:
     collapse_ratio: float = 0.5
     #: One sequence must be this many times the other to call the rotation.
     dominance: float = 2.0
+    #: Rotating components below this fraction of the zero sequence: the three are in phase.
+    in_phase_ratio: float = 0.1
+    #: Highest phase current below which a board's load is light (A).
+    light_load_a: float = 10.0
+    #: A phase is a reversed CT only with PF at or below minus this.
+    ct_reversed_pf: float = 0.25
 
     def with_overrides(self, overrides: dict | None) -> Thresholds:
         """A copy with the given fields replaced; unknown names raise ``KeyError``."""
@@ -48,17 +54,32 @@ SOURCES = {
                "within 0-2 %)",
     "lvur_pct": "NEMA MG 1 Part 14.36 (motor derating above 1 % line-voltage unbalance)",
     "lvur_max_pct": "NEMA MG 1 Part 14.36 (operation above 5 % unbalance not recommended)",
-    "iur_pct": "common practice (current unbalance is typically 6-10 times the voltage unbalance)",
+    "iur_pct": "common practice (current unbalance is typically 6-10 times the voltage unbalance); a warning "
+               "only on a 3-wire delta above a light load, an info on distribution (4-wire, split-phase) boards",
     "neutral_ratio": "common practice",
     "neutral_overload_ratio": "common practice (a neutral sized like the phases carries no more than "
-                              "the highest phase)",
+                              "the highest phase); compared with the phases, not the neutral's rating, so "
+                              "at most a warning",
     "neutral_mismatch_ratio": "common practice",
     "collapse_ratio": "common practice",
     "dominance": "common practice",
-    "voltage_ansi": "ANSI C84.1-2020 Table 1 (Range A 95-105 %, Range B 91.7-105.8 % of nominal, service voltage)",
-    "voltage_iec": "IEC 60038:2009 clause 4 (nominal ±10 %)",
+    "in_phase_ratio": "fieldpad's own margin (no standard gives one): |V1| and |V2| both under 10 % of |V0| "
+                      "means the three voltages are nearly in phase, which no three-phase supply gives",
+    "voltage_ansi": "ANSI C84.1-2020 Table 1 (Range A 95-105 %, Range B 91.7-105.8 % of nominal, service voltage, "
+                    "on the table's own bases 120, 208, 240, 277, 347, 480, 600 V; from memory)",
+    "voltage_iec": "IEC 60038:2009 clause 4 (nominal ±10 %, systems 100-1000 V, Table 1 bases such as 230 V of "
+                   "230/400 V; from memory)",
     "rotation": "common practice (ABC = B lags A by 120°)",
     "high_leg": ("NFPA 70 (NEC) 110.15 and 408.3(E): high leg marked orange and on phase B "
                  "(from memory; local code governs)"),
-    "ct_reversed": "common practice",
+    "ct_reversed": "common practice (one phase's real power negative, the others positive); the margin "
+                   "PF <= -0.25 is fieldpad's own, for a near-quadrature light phase and the meter's angle error",
+    "clamps_rotated": "common practice (a clamp one phase on shifts the V-I angle by 120°, so no phase's power "
+                      "stays positive); the PF 0.1 line is fieldpad's own",
+    "neutral_shift": "common practice (an open neutral moves the star point: V0 appears, line-to-line stays "
+                     "balanced); V0/V1 > 5 %, or PVUR > 5 % with LVUR <= 2 %, are fieldpad's own lines",
+    "light_load_a": "fieldpad's own choice (no standard; no rating is entered): below 10 A on the highest "
+                    "phase a board is lightly loaded; set per site",
+    "high_leg_ratio": "geometry of the 240/120 V centre-tapped delta (high leg = √3/2 of line-to-line, low legs "
+                      "= 1/2 each); ±0.05 on the ratio is fieldpad's own margin",
 }
