@@ -140,6 +140,7 @@ async def keystrokes(db_path: Path):
                 if painted:
                     shown.append((painted[-1] - t) * 1e3)
             sheet.dirty = False
+            repo.clear_draft(app.db, bid)  # every keystroke kept a draft: the next round starts clean
             app.pop_screen()
             await pilot.pause()
     return own, trip, shown
