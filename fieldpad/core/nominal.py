@@ -17,7 +17,6 @@ from __future__ import annotations
 import numpy as np
 
 ANSI, IEC = "ansi", "iec"
-STANDARD_NAMES = {ANSI: "ANSI C84.1", IEC: "IEC 60038"}
 
 #: standard -> ((low_a, high_a), (low_b, high_b)) as fractions of nominal.
 LIMITS = {

@@ -9,7 +9,7 @@ import numpy as np
 
 from .analysis import BASIS_NAMES, Analysis
 from .findings import findings_lists
-from .rotation import REASON_TEXT, ROTATION_NAMES
+from .rotation import REASON_NOT_3PH, REASON_TEXT, ROTATION_NAMES
 
 #: Output fields in order.  The first block is the public contract of
 #: ``fieldpad compute``; the rest are additions.
@@ -29,7 +29,6 @@ _FLOAT_FIELDS = tuple(f for f in RESULT_FIELDS if f not in
                       ("rotation", "high_leg", "rotation_note", "basis", "s_va_method", "findings"))
 #: How ``s_va`` and ``pf`` were formed (analysis value ``s_va_vector``).
 S_VA_METHOD = {-1: None, 0: "arithmetic", 1: "vector"}
-VOLTAGE_STATUS = {-1: None, 0: "within", 1: "range B", 2: "out of range"}
 
 
 def _column(values) -> list:
@@ -42,7 +41,7 @@ def _column(values) -> list:
 def to_records(result: Analysis, labels=("A", "B", "C"), standards=None) -> list[dict]:
     """One dict per reading, fields in :data:`RESULT_FIELDS` order."""
     v = result.values
-    three_phase = (np.asarray(v["rotation_reason"]) != 4).tolist()  # REASON_NOT_3PH
+    three_phase = (np.asarray(v["rotation_reason"]) != REASON_NOT_3PH).tolist()
     columns = {f: _column(v[f]) for f in _FLOAT_FIELDS}
     columns["rotation"] = [ROTATION_NAMES[r] if tp else None for r, tp in zip(v["rotation"].tolist(), three_phase)]
     columns["rotation_note"] = [REASON_TEXT[r] or None for r in v["rotation_reason"].tolist()]
