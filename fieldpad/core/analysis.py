@@ -28,6 +28,7 @@ import numpy as np
 
 from . import motor, nominal
 from . import rotation as rot
+from .fields import DELTA, HIGH_LEG, NUMERIC_FIELDS, SPLIT, WYE
 from .neutral import neutral_estimate_3ph, neutral_estimate_split
 from .phasors import SQRT3, polar
 from .power import complex_power, power_factor, two_wattmeter_power
@@ -39,23 +40,7 @@ from .unbalance import (
     vuf_from_ll_magnitudes,
 )
 
-WYE, DELTA, HIGH_LEG, SPLIT = 0, 1, 2, 3
 CNAN = complex(np.nan, np.nan)
-SYSTEMS = {"wye": WYE, "delta": DELTA, "high-leg-delta": HIGH_LEG, "split-phase": SPLIT}
-SYSTEM_NAMES = {v: k for k, v in SYSTEMS.items()}
-STANDARDS = {nominal.ANSI: 0, nominal.IEC: 1}
-
-V_LN = ("va", "vb", "vc")
-V_LL = ("vab", "vbc", "vca")
-I_PH = ("ia", "ib", "ic")
-#: Every numeric reading field.
-NUMERIC_FIELDS = (
-    ("nominal_v",)
-    + V_LN + tuple(f + "_deg" for f in V_LN)
-    + V_LL + tuple(f + "_deg" for f in V_LL)
-    + I_PH + tuple(f + "_deg" for f in I_PH)
-    + ("i_n",)
-)
 
 #: Basis of the voltage sequence results.
 BASIS_NONE, BASIS_LN, BASIS_LL, BASIS_MAG = 0, 1, 2, 3

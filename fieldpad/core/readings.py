@@ -25,7 +25,7 @@ import re
 
 import numpy as np
 
-from .analysis import I_PH, NUMERIC_FIELDS, STANDARDS, SYSTEMS, V_LL, V_LN
+from .fields import I_PH, NUMERIC_FIELDS, STANDARDS, SYSTEMS, V_LL, V_LN
 from .nominal import ANSI, IEC
 
 VOLTS, AMPS, DEGREES = "V", "A", "deg"

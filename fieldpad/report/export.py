@@ -10,7 +10,7 @@ import io
 import json
 from datetime import date, datetime, time, timedelta
 
-from ..core.analysis import NUMERIC_FIELDS
+from ..core.fields import NUMERIC_FIELDS
 from ..core.phase_colours import phase_labels
 from ..core.results import RESULT_FIELDS, analyze_records
 from ..core.thresholds import Thresholds

@@ -11,7 +11,7 @@ from __future__ import annotations
 import json
 from dataclasses import dataclass, field
 
-from ..core.analysis import NUMERIC_FIELDS
+from ..core.fields import NUMERIC_FIELDS
 from ..core.readings import stored_text, validate_record
 from ..core.results import RESULT_FIELDS
 from ..formats.records import PROBLEMS_KEY, formula_unguard, parse_records, record_problems

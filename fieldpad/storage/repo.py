@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import sqlite_utils
 
-from ..core.analysis import NUMERIC_FIELDS, SYSTEMS
+from ..core.fields import NUMERIC_FIELDS, SYSTEMS
 from ..core.phase_colours import COLOUR_SETS, phase_labels
 from ..core.readings import stored_text, validate_record
 from ..core.thresholds import Thresholds

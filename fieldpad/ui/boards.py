@@ -10,7 +10,7 @@ from textual.containers import Vertical, VerticalScroll
 from textual.screen import ModalScreen, Screen
 from textual.widgets import DataTable, Input, Label, Select, Static
 
-from ..core.analysis import SYSTEMS
+from ..core.fields import SYSTEMS
 from ..core.thresholds import Thresholds
 from ..storage import repo
 from ..storage.db import StorageError
@@ -22,7 +22,7 @@ from .palette import ALARM, WARN
 from .safe import markup_safe, printable
 from .tables import selected_key
 
-#: How each system type of the core (``core.analysis.SYSTEMS``) is offered in the board form.
+#: How each system type of the core (``core.fields.SYSTEMS``) is offered in the board form.
 SYSTEM_LABELS = {"wye": "3-phase 4-wire wye", "delta": "3-phase 3-wire delta (line-to-line only)",
                  "high-leg-delta": "4-wire high-leg delta", "split-phase": "120/240 V split-phase"}
 SYSTEM_CHOICES = [(SYSTEM_LABELS[code], code) for code in SYSTEMS]
