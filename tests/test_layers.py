@@ -4,6 +4,7 @@ The computation layer imports no UI, terminal or database module (checked in a f
 module imports only its own layer or lower ones, screens never import each other, and there are no import
 cycles (checked on the source, lazy imports inside functions included)."""
 import ast
+import functools
 import pkgutil
 import subprocess
 import sys
@@ -68,6 +69,7 @@ def _part(module: str) -> str:
     return parts[1] if len(parts) > 1 else "__init__"
 
 
+@functools.cache
 def _graph():
     graph = {}
     for path in ROOT.rglob("*.py"):
@@ -93,7 +95,8 @@ def test_screens_never_import_each_other():
 
 
 def test_no_import_cycles():
-    graph = {m: {t for t in ts if t in _graph_modules()} - {m} for m, ts in _graph().items()}
+    full = _graph()
+    graph = {m: {t for t in ts if t in full} - {m} for m, ts in full.items()}
     seen, stack, cycles = set(), [], []
 
     def visit(m):
@@ -113,6 +116,3 @@ def test_no_import_cycles():
     # A package's __init__ importing nothing of its own is the usual case; a cycle through one is still one.
     assert cycles == []
 
-
-def _graph_modules():
-    return set(_graph())
