@@ -29,6 +29,13 @@ def record_notifications(app) -> list[str]:
     return shown
 
 
+async def open_first_sheet(pilot):
+    """From the board list, open the first board's reading sheet."""
+    await pilot.pause()
+    await pilot.press("enter")
+    await pilot.pause()
+
+
 def draft_values(path):
     d = open_db(path)
     bid = repo.list_boards(d, repo.list_sites(d)[0]["id"])[0]["id"]
@@ -61,11 +68,9 @@ async def test_quit_with_unsaved_values_asks_and_the_draft_holds_every_field(tmp
     seeded(p)
     app = FieldpadApp(p, technician="T")
     async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.pause()
-        await pilot.press("enter")
-        await pilot.pause()
+        await open_first_sheet(pilot)
         assert isinstance(app.screen, ReadingSheet)
-        await pilot.press("2", "7", "7", "tab", "tab", "1", "2", "ctrl+q")  # no pause: before the draft timer
+        await pilot.press("2", "7", "7", "tab", "tab", "1", "2", "ctrl+q")  # no pause before the quit
         await pilot.pause()
         assert "Quit fieldpad?" in str(app.screen.query_one(".question").render())
         await pilot.press("n")
@@ -114,9 +119,7 @@ async def test_leaving_when_the_draft_cannot_be_written_asks_before_losing_anyth
         seeded(p)
         app = FieldpadApp(p, technician="T")
         async with app.run_test(size=(80, 24)) as pilot:
-            await pilot.pause()
-            await pilot.press("enter")
-            await pilot.pause()
+            await open_first_sheet(pilot)
             fill_disk(disk)  # the laptop's disk fills up while the sheet is open
             await pilot.press("2", "7", "7", "escape")
             await pilot.pause()
@@ -142,9 +145,7 @@ async def test_the_draft_holds_every_field_at_every_keystroke_and_a_busy_databas
     seeded(p)
     app = FieldpadApp(p, technician="T")
     async with app.run_test(size=(80, 24)) as pilot:
-        await pilot.pause()
-        await pilot.press("enter")
-        await pilot.pause()
+        await open_first_sheet(pilot)
         await pilot.press("2", "7", "7", "tab", "tab", "1", "2")
         # Read by another connection straight after the keys: no timer, no way out was needed.
         assert draft_values(p) == {"va": "277", "ia": "12"}
