@@ -339,8 +339,8 @@ def write(db: sqlite_utils.Database, *, durable: bool = True, wait_ms: int | Non
 def _write_failure(db: sqlite_utils.Database, e: sqlite3.OperationalError) -> str:
     """Why a write failed, in words, without a "NOT SAVED" prefix (the caller says what was not saved)."""
     text = str(e).lower()
-    path = Path(db.conn.execute("PRAGMA database_list").fetchone()[2] or ":memory:")
-    reason = unwritable_reason(path, e) if str(path) != ":memory:" else None
+    files = _files_of(db)
+    reason = unwritable_reason(files[0], e) if files else None  # no file: an in-memory database
     if "locked" in text or "busy" in text:
         why, todo = "another fieldpad kept the database busy for too long", "try again"
     elif "full" in text or reason == "the disk is full":

@@ -266,9 +266,9 @@ class ReadingSheet(Screen):
             return False
         grid = self.query_one(EntryGrid)
         try:
-            if grid.entered():
-                repo.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": grid.entered()},
-                                wait_ms=wait_ms)
+            values = grid.entered()
+            if values:
+                repo.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": values}, wait_ms=wait_ms)
             else:
                 # Emptied by hand or cleared after a save.
                 repo.clear_draft(self.app.db, self.board_id, wait_ms=wait_ms)
