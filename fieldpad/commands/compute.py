@@ -7,10 +7,12 @@ large file does not hold every result in memory at once.
 from __future__ import annotations
 
 import json
+import sys
 
 from ..core.readings import validate_record
 from ..core.results import RESULT_FIELDS, analyze_records
 from ..formats.records import PROBLEMS_KEY, parse_records, record_problems, write_csv
+from .common import read_input, report_problems
 
 BLOCK = 20_000
 
@@ -51,3 +53,19 @@ def write_results(clean: list[dict], kind: str, fmt: str, out) -> None:
         body = ",\n".join(json.dumps(r, ensure_ascii=False, indent=2) for r in block)
         out.write(("\n" if start == 0 else ",\n") + body)
     out.write("\n]\n")
+
+
+def run(args) -> int:
+    from ..formats.records import InputError
+    from .batch_memory import keep_freed_memory
+
+    keep_freed_memory()
+
+    try:
+        kind, clean, problems = check_input(read_input(args.file))
+    except (InputError, OSError) as e:
+        return report_problems([f"{args.file}: {e.strerror if isinstance(e, OSError) else e}"])
+    if problems:
+        return report_problems(problems)
+    write_results(clean, kind, args.format, sys.stdout)
+    return 0
