@@ -152,7 +152,7 @@ def generate(day: date) -> list[dict]:
 
 def build_demo(path, day: date | None = None) -> None:
     """Create a fresh demo database at ``path`` (must not exist), readings on ``day`` (default today)."""
-    from .storage import repo
+    from .storage import rounds, sites
     from .storage.db import open_db
     from .storage.importer import import_bytes
 
@@ -160,7 +160,7 @@ def build_demo(path, day: date | None = None) -> None:
     if path.exists():
         raise FileExistsError(path)
     db = open_db(path)
-    sid = repo.create_site(db, SITE["name"], description=SITE["description"],
+    sid = sites.create_site(db, SITE["name"], description=SITE["description"],
                            voltage_standard=SITE["voltage_standard"], phase_labels=SITE["phase_labels"],
                            colour_set=SITE["colour_set"])
     for name, loc, kind, system, nominal, label, _problem in BOARDS:
@@ -169,13 +169,13 @@ def build_demo(path, day: date | None = None) -> None:
             e, wd, ab, ppe, dated = label
             af = dict(af_incident_energy_cal_cm2=e, af_working_distance_mm=wd, af_boundary_mm=ab, af_ppe=ppe,
                       af_label_date=dated)
-        repo.create_board(db, sid, name, system=system, nominal_v=nominal, location=loc, kind=kind,
+        sites.create_board(db, sid, name, system=system, nominal_v=nominal, location=loc, kind=kind,
                           frequency_hz=50 if nominal == 400 else 60, **af)
     rep = import_bytes(db, records_csv(generate(day or date.today())).encode())
     if rep.problems:
         raise RuntimeError("demo data does not import: " + "; ".join(rep.problems[:5]))
-    for r in repo.list_rounds(db, sid):
-        repo.finish_round(db, r["id"], note="demo round")
+    for r in rounds.list_rounds(db, sid):
+        rounds.finish_round(db, r["id"], note="demo round")
     db.close()
 
 

@@ -1,7 +1,7 @@
 import pytest
 from hypothesis import settings
 
-from fieldpad.storage import repo
+from fieldpad.storage import sites
 from fieldpad.storage.db import open_db
 
 # Property tests check values, not speed: no per-example deadline (a slow CI machine must not fail them).
@@ -26,5 +26,5 @@ def db(db_path):
 
 @pytest.fixture
 def board(db):
-    sid = repo.create_site(db, "North Cold Store")
-    return repo.create_board(db, sid, "MDB-1", system="wye", nominal_v=480)
+    sid = sites.create_site(db, "North Cold Store")
+    return sites.create_board(db, sid, "MDB-1", system="wye", nominal_v=480)

@@ -10,7 +10,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from fieldpad.report.export import export_records, to_csv, to_json
-from fieldpad.storage import repo
+from fieldpad.storage import rounds, sites, versions
 from fieldpad.storage.db import open_db
 from fieldpad.storage.importer import import_bytes
 from fieldpad.storage.merge import merge_file
@@ -29,8 +29,8 @@ class TestImport:
         assert rep.problems == [] and rep.readings == 3
         assert rep.sites_created == ["Plant 7"]
         assert sorted(rep.boards_created) == ["Plant 7 / LP-1", "Plant 7 / MCC-2"]
-        site = repo.find_site(db, "Plant 7")
-        assert sorted(r["label"] for r in repo.list_rounds(db, site["id"])) == ["AM", "PM"]
+        site = sites.find_site(db, "Plant 7")
+        assert sorted(r["label"] for r in rounds.list_rounds(db, site["id"])) == ["AM", "PM"]
 
     def test_all_or_nothing_and_every_bad_record_named(self, db):
         bad = GOOD + ("Plant 7,MCC-2,not a time,Sam,AM,delta,460,467,450,\n"
@@ -59,37 +59,37 @@ class TestImport:
 
 class TestExport:
     def test_current_version_with_results(self, db, board):
-        s = repo.save_reading(db, board, BAL, taken_at="2026-12-01T10:00:00.000000Z")
-        repo.correct_reading(db, s.reading_id, {**BAL, "ib_deg": "30"}, reason="CT check")
+        s = versions.save_reading(db, board, BAL, taken_at="2026-12-01T10:00:00.000000Z")
+        versions.correct_reading(db, s.reading_id, {**BAL, "ib_deg": "30"}, reason="CT check")
         (rec,) = export_records(db)
         assert rec["version"] == 2 and rec["reason"] == "CT check"
         assert rec["results"]["rotation"] == "ABC"
         assert "CT_REVERSED" in {f["code"] for f in rec["findings"]}
 
     def test_json_has_format_version(self, db, board):
-        repo.save_reading(db, board, BAL)
+        versions.save_reading(db, board, BAL)
         doc = json.loads(to_json(export_records(db)))
         assert doc["format_version"] == 1 and len(doc["readings"]) == 1
 
     def test_csv_neutralises_formulas_numbers_stay_numbers(self, db, board):
-        repo.save_reading(db, board, BAL, technician="=HYPERLINK(\"x\")", note="+1 call me")
+        versions.save_reading(db, board, BAL, technician="=HYPERLINK(\"x\")", note="+1 call me")
         text = to_csv(export_records(db))
         row = next(csv.DictReader(io.StringIO(text.lstrip("\ufeff"))))
         assert row["technician"].startswith("'=") and row["note"] == "'+1 call me"
         assert row["va"] == "277.0" and row["vb_deg"] == "-120.0"  # numbers are not quoted away
 
     def test_day_and_site_filters(self, db, board):
-        repo.save_reading(db, board, BAL, taken_at="2026-12-01T12:00:00.000000Z")
-        repo.save_reading(db, board, BAL, taken_at="2026-11-20T12:00:00.000000Z")
+        versions.save_reading(db, board, BAL, taken_at="2026-12-01T12:00:00.000000Z")
+        versions.save_reading(db, board, BAL, taken_at="2026-11-20T12:00:00.000000Z")
         assert len(export_records(db, day="2026-12-01")) == 1
         assert export_records(db, site="Nowhere") == []
 
     def test_csv_round_trip_through_import(self, tmp_path):
         a = open_db(tmp_path / "a.db")
         import_bytes(a, GOOD.encode())
-        sid = repo.find_site(a, "Plant 7")["id"]
-        b = repo.find_board(a, sid, "LP-1")["id"]
-        repo.save_reading(a, b, BAL, note="=SUM(A1)", technician="Ana", taken_at="2026-12-01T11:00:00.000000Z")
+        sid = sites.find_site(a, "Plant 7")["id"]
+        b = sites.find_board(a, sid, "LP-1")["id"]
+        versions.save_reading(a, b, BAL, note="=SUM(A1)", technician="Ana", taken_at="2026-12-01T11:00:00.000000Z")
         text = to_csv(export_records(a))
         fresh = open_db(tmp_path / "b.db")
         rep = import_bytes(fresh, text.encode())
@@ -119,16 +119,16 @@ def dump(db):
 
 def make_db(path, ops, shared_site=None):
     db = open_db(path)
-    sid = repo.create_site(db, "Shared", site_id=shared_site) if shared_site else repo.create_site(db, "Own")
-    boards = [repo.create_board(db, sid, f"B{k}") for k in range(2)]
+    sid = sites.create_site(db, "Shared", site_id=shared_site) if shared_site else sites.create_site(db, "Own")
+    boards = [sites.create_board(db, sid, f"B{k}") for k in range(2)]
     readings = []
     for op, k in ops:
         if op == "save" or not readings:
-            readings.append(repo.save_reading(db, boards[k % 2], {**BAL, "va": str(250 + k)}).reading_id)
+            readings.append(versions.save_reading(db, boards[k % 2], {**BAL, "va": str(250 + k)}).reading_id)
         elif op == "correct":
-            repo.correct_reading(db, readings[k % len(readings)], {**BAL, "vb": str(260 + k)}, reason="fix")
+            versions.correct_reading(db, readings[k % len(readings)], {**BAL, "vb": str(260 + k)}, reason="fix")
         else:
-            repo.void_reading(db, readings[k % len(readings)], reason="void")
+            versions.void_reading(db, readings[k % len(readings)], reason="void")
     return db
 
 
@@ -165,10 +165,10 @@ def test_merge_idempotent_order_independent_no_duplicates(tmp_path_factory, ops_
 def test_merge_reports_same_named_board(tmp_path):
     a = open_db(tmp_path / "a.db")
     b = open_db(tmp_path / "b.db")
-    sa = repo.create_site(a, "Depot", site_id="01900000-0000-7000-8000-00000000000a")
-    repo.create_site(b, "Depot", site_id="01900000-0000-7000-8000-00000000000a")
-    repo.create_board(a, sa, "MDB")
-    repo.create_board(b, sa, "MDB")
+    sa = sites.create_site(a, "Depot", site_id="01900000-0000-7000-8000-00000000000a")
+    sites.create_site(b, "Depot", site_id="01900000-0000-7000-8000-00000000000a")
+    sites.create_board(a, sa, "MDB")
+    sites.create_board(b, sa, "MDB")
     b.close()
     rep = merge_file(a, tmp_path / "b.db")
     assert rep.same_name_boards == ["Depot / MDB"]

@@ -17,7 +17,7 @@ from cli_runner import run_cli
 from conftest import BAL
 
 from fieldpad.report.export import export_records
-from fieldpad.storage import repo
+from fieldpad.storage import sites, versions
 from fieldpad.storage.db import StorageError, WriteError, check_file, open_db
 
 
@@ -45,9 +45,9 @@ def remount_ro(folder: Path):
 
 def filled(path: Path, n=3) -> str:
     db = open_db(path)
-    bid = repo.create_board(db, repo.create_site(db, "Tide Mill"), "DB-7")
+    bid = sites.create_board(db, sites.create_site(db, "Tide Mill"), "DB-7")
     for _ in range(n):
-        repo.save_reading(db, bid, BAL, technician="T")
+        versions.save_reading(db, bid, BAL, technician="T")
     db.close()
     return bid
 
@@ -69,7 +69,7 @@ def test_read_only_file_system_opens_for_reading_and_says_why(tmp_path, shm_left
             live = tmp_path / "live.db"
             bid = filled(live)
             keeper = open_db(live)
-            repo.save_reading(keeper, bid, BAL)
+            versions.save_reading(keeper, bid, BAL)
             for side in ("", "-wal", "-shm"):
                 (stick / f"site.db{side}").write_bytes(Path(f"{live}{side}").read_bytes())
             keeper.close()
@@ -80,7 +80,7 @@ def test_read_only_file_system_opens_for_reading_and_says_why(tmp_path, shm_left
         assert db.read_only and "read-only file system" in db.read_only_reason
         assert len(export_records(db)) == (4 if shm_left else 3)
         with pytest.raises(WriteError, match="read-only"):
-            repo.save_reading(db, bid, BAL)
+            versions.save_reading(db, bid, BAL)
         db.close()
         chk = cli("db", "check", "--db", str(p))
         assert chk.returncode == 0, chk.stdout + chk.stderr
@@ -121,7 +121,7 @@ def test_full_file_system_keeps_what_is_saved_and_says_full(tmp_path):
         fill_disk(disk)
         with pytest.raises(WriteError, match="full") as err:
             for _ in range(500):
-                repo.save_reading(db, bid, BAL, note="z" * 4000)
+                versions.save_reading(db, bid, BAL, note="z" * 4000)
         assert "NOT SAVED" not in str(err.value)  # the caller says what was not saved, once
         saved = db["reading"].count
         db.close()
@@ -157,7 +157,7 @@ def test_db_check_never_calls_an_empty_or_foreign_file_ok(tmp_path, content):
 def test_backup_is_checked_private_and_never_overwrites(tmp_path, db, board):
     from fieldpad.storage.db import backup
 
-    repo.save_reading(db, board, BAL)
+    versions.save_reading(db, board, BAL)
     dest = backup(db, tmp_path / "copy.db")
     assert check_file(dest) == [] and dest.stat().st_mode & 0o777 == 0o600
     with pytest.raises(StorageError, match="already exists"):
@@ -166,7 +166,7 @@ def test_backup_is_checked_private_and_never_overwrites(tmp_path, db, board):
 
 
 def test_export_names_the_real_file_cleans_stale_parts_and_refuses_special_files(tmp_path, db, board):
-    repo.save_reading(db, board, BAL)
+    versions.save_reading(db, board, BAL)
     dbp = tmp_path / "field.db"
     stale = tmp_path / ".fp-999999999-dead.part"  # left by a killed run (no such process)
     stale.write_text("half")
@@ -185,7 +185,7 @@ def test_export_names_the_real_file_cleans_stale_parts_and_refuses_special_files
 
 
 def test_export_to_a_full_disk_names_the_final_file(tmp_path, db, board):
-    repo.save_reading(db, board, BAL)
+    versions.save_reading(db, board, BAL)
     with tmpfs(tmp_path / "full", "1m") as disk:
         fill_disk(disk)
         r = cli("export", "--db", str(tmp_path / "field.db"), "--format", "html", "-o", str(disk / "day.html"))
@@ -206,7 +206,7 @@ def test_reading_commands_refuse_a_path_with_no_database(tmp_path, args):
 
 
 def test_export_of_a_site_that_does_not_exist_is_an_error(tmp_path, db, board):
-    repo.save_reading(db, board, BAL)
+    versions.save_reading(db, board, BAL)
     r = cli("export", "--db", str(tmp_path / "field.db"), "--format", "csv", "--site", "North Cold Stor")
     assert r.returncode == 2 and r.stdout == ""
     assert "no site named 'North Cold Stor'" in r.stderr and "North Cold Store" in r.stderr
@@ -229,7 +229,7 @@ def test_merge_warnings_and_messages_are_terminal_safe(tmp_path):
     a, b = tmp_path / "a.db", tmp_path / "b.db"
     for p in (a, b):
         d = open_db(p)
-        repo.create_board(d, repo.create_site(d, "Quay"), evil)
+        sites.create_board(d, sites.create_site(d, "Quay"), evil)
         d.close()
     r = cli("merge", str(b), "--db", str(a))
     assert r.returncode == 0, r.stderr
@@ -254,7 +254,7 @@ def test_merge_reads_the_other_file_only_and_takes_any_name(tmp_path, name):
     filled(main, 1)
     filled(other, 2)
     keeper = open_db(other)  # the other laptop's app still has it open: its -wal exists
-    repo.save_reading(keeper, repo.list_boards(keeper, repo.list_sites(keeper)[0]["id"])[0]["id"], BAL)
+    versions.save_reading(keeper, sites.list_boards(keeper, sites.list_sites(keeper)[0]["id"])[0]["id"], BAL)
     before = {side: Path(f"{other}{side}").read_bytes() for side in ("", "-wal")}
     r = cli("merge", str(other), "--db", str(main))
     assert r.returncode == 0, r.stderr
@@ -278,9 +278,9 @@ def test_every_note_the_app_stores_imports_back_from_its_export(tmp_path, fmt):
 
     src = tmp_path / "src.db"
     d = open_db(src)
-    bid = repo.create_board(d, repo.create_site(d, "Hostile\x1b[2J Yard"), "DB\u202e-1")
+    bid = sites.create_board(d, sites.create_site(d, "Hostile\x1b[2J Yard"), "DB\u202e-1")
     for note in HOSTILE + ["line one\nline two", "\x9b31m C1", "\ttab first", "'quoted' by hand?"]:
-        repo.save_reading(d, bid, BAL, note=note, technician="T\x07")
+        versions.save_reading(d, bid, BAL, note=note, technician="T\x07")
     notes = sorted(r["note"] for r in d.query("SELECT note FROM reading"))
     d.close()
     out = tmp_path / f"day.{fmt}"
@@ -348,7 +348,7 @@ def test_export_and_backup_never_write_over_a_database_or_its_files(tmp_path):
 
 
 def test_messages_show_control_characters_as_visible_escapes(tmp_path, db, board):
-    repo.save_reading(db, board, BAL)
+    versions.save_reading(db, board, BAL)
     r = cli("export", "--db", tmp_path / "field.db", "--format", "csv", "--site", "Yard\x1b]52;c;eA==\x07\u202e")
     assert r.returncode == 2
     assert "\x1b" not in r.stderr and "\\x1b]52;c;eA==\\x07\\u202e" in r.stderr

@@ -11,7 +11,7 @@ from conftest import BAL
 
 from fieldpad.report.export import export_records, to_csv
 from fieldpad.report.html import to_html
-from fieldpad.storage import repo
+from fieldpad.storage import sites, versions
 from fieldpad.storage.db import open_db
 from fieldpad.storage.importer import import_bytes
 
@@ -51,14 +51,14 @@ class Checker(HTMLParser):
 
 @pytest.fixture
 def report_db(db):
-    sid = repo.create_site(db, HOSTILE, colour_set="iec60445")
-    b1 = repo.create_board(db, sid, "MDB <b>1</b>", system="wye", nominal_v=480, af_incident_energy_cal_cm2=8,
+    sid = sites.create_site(db, HOSTILE, colour_set="iec60445")
+    b1 = sites.create_board(db, sid, "MDB <b>1</b>", system="wye", nominal_v=480, af_incident_energy_cal_cm2=8,
                            af_ppe="2", af_label_date="2024-01-01")
-    b2 = repo.create_board(db, sid, "=cmd|' /C calc'!A0", system="delta", nominal_v=480)
-    s = repo.save_reading(db, b1, BAL, technician=HOSTILE, note="+1 & <i>note</i>",
+    b2 = sites.create_board(db, sid, "=cmd|' /C calc'!A0", system="delta", nominal_v=480)
+    s = versions.save_reading(db, b1, BAL, technician=HOSTILE, note="+1 & <i>note</i>",
                           taken_at="2026-12-01T10:00:00.000000Z")
-    repo.correct_reading(db, s.reading_id, {**BAL, "ib_deg": "30"}, reason="<b>CT</b> check", by="Ana")
-    repo.save_reading(db, b2, {"vab": "460", "vbc": "467", "vca": "450"}, technician="@SUM(1)",
+    versions.correct_reading(db, s.reading_id, {**BAL, "ib_deg": "30"}, reason="<b>CT</b> check", by="Ana")
+    versions.save_reading(db, b2, {"vab": "460", "vbc": "467", "vca": "450"}, technician="@SUM(1)",
                       taken_at="2026-12-01T11:00:00.000000Z")
     return db
 
@@ -123,16 +123,16 @@ def test_report_states_a_missing_or_out_of_date_arc_flash_label_and_lists_correc
 
     from fieldpad.report.export import export_records
     from fieldpad.report.html import to_html
-    from fieldpad.storage import repo
+    from fieldpad.storage import sites, versions
     from fieldpad.storage.db import open_db
 
     db = open_db(tmp_path / "r.db")
-    sid = repo.create_site(db, "Label Yard", label_review_years=5)
-    old = repo.create_board(db, sid, "OLD-1", af_incident_energy_cal_cm2=8, af_ppe="2", af_label_date="2019-03-01")
-    none = repo.create_board(db, sid, "NONE-1")
+    sid = sites.create_site(db, "Label Yard", label_review_years=5)
+    old = sites.create_board(db, sid, "OLD-1", af_incident_energy_cal_cm2=8, af_ppe="2", af_label_date="2019-03-01")
+    none = sites.create_board(db, sid, "NONE-1")
     for b in (old, none):
-        s = repo.save_reading(db, b, BAL, taken_at="2026-12-01T10:00:00.000000Z")
-    repo.correct_reading(db, s.reading_id, {**BAL, "ia": "101"}, reason="misread clamp")
+        s = versions.save_reading(db, b, BAL, taken_at="2026-12-01T10:00:00.000000Z")
+    versions.correct_reading(db, s.reading_id, {**BAL, "ia": "101"}, reason="misread clamp")
     html = to_html(db, export_records(db, day="2026-12-01"), day="2026-12-01")
     assert "8 cal/cm², PPE 2, dated 2019-03-01, ⚠ OLDER THAN 5 YEARS: have it reviewed" in html
     assert "⚠ NONE RECORDED — hazard unknown, check the board" in html

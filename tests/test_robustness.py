@@ -12,7 +12,7 @@ from conftest import BAL
 
 from fieldpad.report.export import export_records, to_csv
 from fieldpad.report.html import to_html
-from fieldpad.storage import repo
+from fieldpad.storage import sites, versions
 from fieldpad.storage.db import StorageError, open_db
 from fieldpad.storage.files import atomic_write_text
 from fieldpad.ui.safe import printable
@@ -24,10 +24,10 @@ def cli(*args):
 
 def _filled(path, n=40):
     db = open_db(path)
-    sid = repo.create_site(db, "Damage Lab")
-    bid = repo.create_board(db, sid, "B1")
+    sid = sites.create_site(db, "Damage Lab")
+    bid = sites.create_board(db, sid, "B1")
     for _ in range(n):
-        repo.save_reading(db, bid, BAL, note="n" * 300)
+        versions.save_reading(db, bid, BAL, note="n" * 300)
     db.close()
 
 
@@ -75,24 +75,24 @@ def fill_up(db, bid):
     for size in (5000, 500, 50, 0, -1):
         try:
             for _ in range(5000):
-                repo.save_reading(db, bid, {"va": "1"} if size < 0 else BAL, note="x" * size if size > 0 else None)
+                versions.save_reading(db, bid, {"va": "1"} if size < 0 else BAL, note="x" * size if size > 0 else None)
         except StorageError:
             continue
     with pytest.raises(StorageError, match="full"):
-        repo.save_reading(db, bid, {"va": "1"})
+        versions.save_reading(db, bid, {"va": "1"})
 
 
 def test_full_disk_is_reported_and_nothing_saved_is_harmed(db, board):
     for _ in range(5):
-        repo.save_reading(db, board, BAL)
+        versions.save_reading(db, board, BAL)
     pages = db.execute("PRAGMA page_count").fetchone()[0]
     db.execute(f"PRAGMA max_page_count = {pages}")
     with pytest.raises(StorageError, match="full"):
         for _ in range(2000):
-            repo.save_reading(db, board, BAL, note="y" * 5000)
+            versions.save_reading(db, board, BAL, note="y" * 5000)
     db.execute("PRAGMA max_page_count = 1073741823")
     assert db.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
-    assert repo.counts(db)["reading"] >= 5
+    assert versions.counts(db)["reading"] >= 5
 
 
 async def test_app_keeps_typed_values_when_the_disk_is_full(tmp_path):
@@ -105,7 +105,7 @@ async def test_app_keeps_typed_values_when_the_disk_is_full(tmp_path):
     app = FieldpadApp(p, technician="T")
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.pause()
-        bid = repo.list_boards(app.db, app.site_id)[0]["id"]
+        bid = sites.list_boards(app.db, app.site_id)[0]["id"]
         app.push_screen(ReadingSheet(bid))
         await pilot.pause()
         await pilot.press("2", "7", "7", "tab", "tab", "1", "0")
@@ -123,11 +123,11 @@ HOSTILE = ["Robert'); DROP TABLE reading;--", "<img src=x onerror=alert(1)>", "=
 
 
 def test_hostile_text_is_stored_as_typed_escaped_and_neutralised(db):
-    sid = repo.create_site(db, HOSTILE[1])
+    sid = sites.create_site(db, HOSTILE[1])
     for k, text in enumerate(HOSTILE):
-        bid = repo.create_board(db, sid, f"{text[:150]}#{k}", location=text)
-        repo.save_reading(db, bid, BAL, technician=text[:200], note=text, taken_at=f"2026-12-01T10:0{k}:00Z")
-    rows = repo.current_readings(db)
+        bid = sites.create_board(db, sid, f"{text[:150]}#{k}", location=text)
+        versions.save_reading(db, bid, BAL, technician=text[:200], note=text, taken_at=f"2026-12-01T10:0{k}:00Z")
+    rows = versions.current_readings(db)
     assert {r["note"] for r in rows} == set(HOSTILE)  # stored exactly as typed
     assert db["reading"].count == len(HOSTILE)  # nothing dropped
     html = to_html(db, export_records(db))
@@ -146,8 +146,8 @@ async def test_board_list_shows_hostile_names_without_control_sequences(db_path,
 
     from fieldpad.ui.app import FieldpadApp
 
-    sid = repo.create_site(db, "\x1b]0;owned\x07Site")
-    repo.create_board(db, sid, "\x1b[2J<b>B</b>")
+    sid = sites.create_site(db, "\x1b]0;owned\x07Site")
+    sites.create_board(db, sid, "\x1b[2J<b>B</b>")
     db.close()
     app = FieldpadApp(db_path, technician="T")
     async with app.run_test(size=(80, 24)) as pilot:
@@ -171,7 +171,7 @@ def test_interrupted_export_leaves_no_half_file(tmp_path, monkeypatch):
 
 
 def test_files_are_private(tmp_path, db_path, db, board):
-    repo.save_reading(db, board, BAL)
+    versions.save_reading(db, board, BAL)
     out = atomic_write_text(tmp_path / "e.csv", to_csv(export_records(db)))
     assert out.stat().st_mode & 0o777 == 0o600
     assert db_path.stat().st_mode & 0o777 == 0o600

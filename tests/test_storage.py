@@ -6,7 +6,7 @@ import stat
 import pytest
 from conftest import BAL
 
-from fieldpad.storage import repo
+from fieldpad.storage import drafts, rounds, sites, versions
 from fieldpad.storage.db import (
     NewerDatabaseError,
     StorageError,
@@ -18,6 +18,7 @@ from fieldpad.storage.db import (
     schema_version_names,
 )
 from fieldpad.storage.ids import parse_time, uuid7
+from fieldpad.storage.rows import ValidationError
 
 
 def test_connection_settings(db):
@@ -104,56 +105,56 @@ def test_times():
 
 class TestReadings:
     def test_save_keeps_values_as_typed(self, db, board):
-        saved = repo.save_reading(db, board, {**BAL, "va": "277,5 V"}, technician="Sam")
-        row = repo.current_version(db, saved.reading_id)
+        saved = versions.save_reading(db, board, {**BAL, "va": "277,5 V"}, technician="Sam")
+        row = versions.current_version(db, saved.reading_id)
         assert row["va"] == 277.5
-        assert repo.inputs_of(row)["va"] == "277,5 V"
+        assert versions.inputs_of(row)["va"] == "277,5 V"
         assert row["nominal_v"] == 480.0  # from the board
 
     def test_bad_values_name_the_field_and_store_nothing(self, db, board):
-        with pytest.raises(repo.ValidationError) as e:
-            repo.save_reading(db, board, {**BAL, "vb": "abc", "ic": "-3"})
+        with pytest.raises(ValidationError) as e:
+            versions.save_reading(db, board, {**BAL, "vb": "abc", "ic": "-3"})
         assert {f for f, _ in e.value.problems} == {"vb", "ic"}
         assert db["reading"].count == 0
 
     def test_corrections_and_voids_keep_every_version(self, db, board):
-        s = repo.save_reading(db, board, BAL, technician="Sam")
-        c = repo.correct_reading(db, s.reading_id, {**BAL, "vc": "276"}, reason="misread C", by="Ana")
+        s = versions.save_reading(db, board, BAL, technician="Sam")
+        c = versions.correct_reading(db, s.reading_id, {**BAL, "vc": "276"}, reason="misread C", by="Ana")
         assert c.version == 2
-        hist = repo.history(db, s.reading_id)
+        hist = versions.history(db, s.reading_id)
         assert [h["version"] for h in hist] == [1, 2]
         assert hist[0]["vc"] == 277.0 and hist[1]["vc"] == 276.0
         assert hist[1]["supersedes"] == hist[0]["id"] and hist[1]["reason"] == "misread C"
-        assert repo.current_version(db, s.reading_id)["vc"] == 276.0
-        repo.void_reading(db, s.reading_id, reason="wrong board", by="Ana")
-        assert len(repo.history(db, s.reading_id)) == 3
-        assert repo.current_readings(db) == []
-        assert len(repo.current_readings(db, include_void=True)) == 1
+        assert versions.current_version(db, s.reading_id)["vc"] == 276.0
+        versions.void_reading(db, s.reading_id, reason="wrong board", by="Ana")
+        assert len(versions.history(db, s.reading_id)) == 3
+        assert versions.current_readings(db) == []
+        assert len(versions.current_readings(db, include_void=True)) == 1
 
     def test_correction_needs_a_reason(self, db, board):
-        s = repo.save_reading(db, board, BAL)
-        with pytest.raises(repo.ValidationError, match="reason"):
-            repo.correct_reading(db, s.reading_id, BAL, reason=" ")
+        s = versions.save_reading(db, board, BAL)
+        with pytest.raises(ValidationError, match="reason"):
+            versions.correct_reading(db, s.reading_id, BAL, reason=" ")
 
     def test_board_history_and_previous(self, db, board):
-        ids = [repo.save_reading(db, board, BAL, taken_at=f"2026-12-01T0{k}:00:00.000000Z").reading_id
+        ids = [versions.save_reading(db, board, BAL, taken_at=f"2026-12-01T0{k}:00:00.000000Z").reading_id
                for k in range(5)]
-        hist = repo.board_history(db, board, limit=3)
+        hist = versions.board_history(db, board, limit=3)
         assert [h["reading_id"] for h in hist] == ids[::-1][:3]
-        assert repo.previous_reading(db, board, ids[4])["reading_id"] == ids[3]
+        assert versions.previous_reading(db, board, ids[4])["reading_id"] == ids[3]
 
     def test_drafts(self, db, board):
-        repo.save_draft(db, board, {"va": "27"})
-        assert repo.get_draft(db, board) == {"va": "27"}
-        repo.save_reading(db, board, BAL)
-        assert repo.get_draft(db, board) is None
+        drafts.save_draft(db, board, {"va": "27"})
+        assert drafts.get_draft(db, board) == {"va": "27"}
+        versions.save_reading(db, board, BAL)
+        assert drafts.get_draft(db, board) is None
 
     def test_round_progress(self, db, board):
-        site = repo.get_board(db, board)["site_id"]
-        repo.create_board(db, site, "DB-2")
-        rid = repo.start_round(db, site, "Sam", label="AM")
-        repo.save_reading(db, board, BAL, round_id=rid)
-        assert repo.round_progress(db, rid) == (1, 2)
+        site = sites.get_board(db, board)["site_id"]
+        sites.create_board(db, site, "DB-2")
+        rid = rounds.start_round(db, site, "Sam", label="AM")
+        versions.save_reading(db, board, BAL, round_id=rid)
+        assert rounds.round_progress(db, rid) == (1, 2)
 
     def test_foreign_keys_enforced(self, db):
         with pytest.raises(sqlite3.IntegrityError):
@@ -161,14 +162,14 @@ class TestReadings:
                                 "created_at": "t", "updated_at": "t"})
 
     def test_board_validation(self, db):
-        sid = repo.create_site(db, "S")
-        with pytest.raises(repo.ValidationError) as e:
-            repo.create_board(db, sid, "", system="star", nominal_v="abc", af_label_date="someday")
+        sid = sites.create_site(db, "S")
+        with pytest.raises(ValidationError) as e:
+            sites.create_board(db, sid, "", system="star", nominal_v="abc", af_label_date="someday")
         assert {f for f, _ in e.value.problems} == {"name", "system", "nominal_v", "af_label_date"}
 
 
 def test_backup_and_check(db, board, tmp_path):
-    repo.save_reading(db, board, BAL)
+    versions.save_reading(db, board, BAL)
     dest = backup(db, tmp_path / "copy.db")
     assert sqlite3.connect(dest).execute("SELECT COUNT(*) FROM reading").fetchone()[0] == 1
     with pytest.raises(StorageError, match="already exists"):
@@ -177,11 +178,11 @@ def test_backup_and_check(db, board, tmp_path):
 
 
 def test_site_thresholds_are_validated_and_stored(db):
-    sid = repo.create_site(db, "T", thresholds={"vuf_pct": "1,5"})
-    assert repo.site_thresholds(repo.get_site(db, sid)).vuf_pct == 1.5
-    repo.update_site(db, sid, thresholds={"lvur_pct": "0.8", "vuf_pct": ""}, label_review_years="4")
-    site = repo.get_site(db, sid)
-    assert repo.site_thresholds(site).lvur_pct == 0.8 and repo.site_thresholds(site).vuf_pct == 2.0
-    with pytest.raises(repo.ValidationError) as e:
-        repo.update_site(db, sid, thresholds={"vuf_pct": "lots", "bogus": "1"}, label_review_years="-1")
+    sid = sites.create_site(db, "T", thresholds={"vuf_pct": "1,5"})
+    assert sites.site_thresholds(sites.get_site(db, sid)).vuf_pct == 1.5
+    sites.update_site(db, sid, thresholds={"lvur_pct": "0.8", "vuf_pct": ""}, label_review_years="4")
+    site = sites.get_site(db, sid)
+    assert sites.site_thresholds(site).lvur_pct == 0.8 and sites.site_thresholds(site).vuf_pct == 2.0
+    with pytest.raises(ValidationError) as e:
+        sites.update_site(db, sid, thresholds={"vuf_pct": "lots", "bogus": "1"}, label_review_years="-1")
     assert {f for f, _ in e.value.problems} == {"vuf_pct", "thresholds", "label_review_years"}

@@ -9,7 +9,7 @@ import time
 import pytest
 from conftest import BAL
 
-from fieldpad.storage import repo
+from fieldpad.storage import drafts, sites, versions
 from fieldpad.storage.db import open_db
 from fieldpad.ui.app import FieldpadApp
 from fieldpad.ui.entry_grid import EntryGrid
@@ -18,11 +18,11 @@ from fieldpad.ui.sheet import ReadingSheet
 
 def seeded(path):
     db = open_db(path)
-    sid = repo.create_site(db, "Test Yard", colour_set="na-480y277")
-    bid = repo.create_board(db, sid, "MDB-7", system="wye", nominal_v=480, location="Plant room",
+    sid = sites.create_site(db, "Test Yard", colour_set="na-480y277")
+    bid = sites.create_board(db, sid, "MDB-7", system="wye", nominal_v=480, location="Plant room",
                             af_incident_energy_cal_cm2=4.2, af_working_distance_mm=455, af_boundary_mm=900,
                             af_ppe="2", af_label_date="2024-06-01")
-    repo.save_reading(db, bid, BAL, technician="Earlier Tech", taken_at="2026-11-30T09:00:00.000000Z")
+    versions.save_reading(db, bid, BAL, technician="Earlier Tech", taken_at="2026-11-30T09:00:00.000000Z")
     db.close()
     return bid
 
@@ -37,7 +37,7 @@ async def test_first_run_create_site_board_enter_save_correct(tmp_path):
         await pilot.press("n")
         await pilot.press(*"DB-1", "f2")
         await pilot.pause()
-        assert [b["name"] for b in repo.list_boards(app.db, app.site_id)] == ["DB-1"]
+        assert [b["name"] for b in sites.list_boards(app.db, app.site_id)] == ["DB-1"]
         await pilot.press("enter")
         await pilot.pause()
         sheet = app.screen
@@ -51,7 +51,7 @@ async def test_first_run_create_site_board_enter_save_correct(tmp_path):
         assert sheet.result["rotation"] == "ABC"
         await pilot.press("f2")
         await pilot.pause()
-        rows = repo.current_readings(app.db)
+        rows = versions.current_readings(app.db)
         assert len(rows) == 1 and rows[0]["vb_deg"] == 240.0 and rows[0]["technician"] == "Test Tech"
         assert grid.entered() == {}  # cleared for the next reading
         # correct it from the history
@@ -64,7 +64,7 @@ async def test_first_run_create_site_board_enter_save_correct(tmp_path):
         await pilot.pause()
         await pilot.press(*"meter misread", "enter")
         await pilot.pause()
-        hist = repo.history(app.db, rows[0]["reading_id"])
+        hist = versions.history(app.db, rows[0]["reading_id"])
         assert [h["version"] for h in hist] == [1, 2]
         assert hist[1]["va"] == 276.0 and hist[1]["reason"] == "meter misread"
 
@@ -88,7 +88,7 @@ async def test_bad_value_is_not_saved_and_stays_on_screen(tmp_path):
         sheet = app.screen
         assert sheet.query_one(EntryGrid).values["va"] == "27x"
         assert "NOT SAVED" in str(sheet.query_one("#status").render())
-        assert repo.counts(app.db)["reading"] == 1
+        assert versions.counts(app.db)["reading"] == 1
 
 
 async def test_leaving_with_unsaved_values_asks_and_keeps_a_draft(tmp_path):
@@ -103,7 +103,7 @@ async def test_leaving_with_unsaved_values_asks_and_keeps_a_draft(tmp_path):
         assert "Leave this sheet" in str(app.screen.question)
         await pilot.press("y")
         await pilot.pause()
-        assert repo.get_draft(app.db, bid)["values"] == {"va": "275"}
+        assert drafts.get_draft(app.db, bid)["values"] == {"va": "275"}
         app.push_screen(ReadingSheet(bid))
         await pilot.pause()
         await pilot.press("y")  # restore the draft
@@ -217,7 +217,7 @@ def test_fast_burst_through_a_real_terminal(tmp_path):
     finally:
         term.close()
     d = open_db(db)
-    row = repo.board_history(d, repo.list_boards(d, repo.list_sites(d)[0]["id"])[0]["id"], 1)[0]
+    row = versions.board_history(d, sites.list_boards(d, sites.list_sites(d)[0]["id"])[0]["id"], 1)[0]
     got = {k: row[k] for k in ("va", "va_deg", "ia", "ia_deg", "vb", "vb_deg", "ib", "ib_deg", "vc", "vc_deg",
                                "ic", "ic_deg", "i_n")}
     assert got == {"va": 277.0, "va_deg": 0.0, "ia": 100.0, "ia_deg": -30.0, "vb": 276.0, "vb_deg": 240.0,
@@ -297,7 +297,7 @@ def test_fast_burst_in_the_board_form(tmp_path):
     finally:
         term.close()
     d = open_db(db)
-    b = repo.find_board(d, repo.list_sites(d)[0]["id"], "LP-9")
+    b = sites.find_board(d, sites.list_sites(d)[0]["id"], "LP-9")
     assert b is not None, last_screen
     assert (b["location"], b["kind"], b["nominal_v"], b["frequency_hz"], b["af_incident_energy_cal_cm2"],
             b["af_working_distance_mm"], b["af_boundary_mm"], b["af_ppe"], b["af_label_date"]) == (
@@ -305,7 +305,7 @@ def test_fast_burst_in_the_board_form(tmp_path):
 
 
 async def test_site_settings_change_thresholds_and_findings_follow(tmp_path):
-    from fieldpad.storage.repo import site_thresholds
+    from fieldpad.storage.sites import site_thresholds
 
     seeded(tmp_path / "t.db")
     app = FieldpadApp(tmp_path / "t.db", technician="Sup")
@@ -320,7 +320,7 @@ async def test_site_settings_change_thresholds_and_findings_follow(tmp_path):
         form.query_one("#label_review_years").value = "3"
         await pilot.press("f2")
         await pilot.pause()
-        site = repo.get_site(app.db, app.site_id)
+        site = sites.get_site(app.db, app.site_id)
         assert site_thresholds(site).lvur_pct == 0.5 and site["label_review_years"] == 3.0
         form_again = None
         await pilot.press("s", "e")

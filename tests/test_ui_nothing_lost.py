@@ -8,7 +8,7 @@ import pytest
 from test_nothing_lost import fill_disk, filled, remount_ro, tmpfs
 from test_ui import Terminal, seeded
 
-from fieldpad.storage import repo
+from fieldpad.storage import drafts, sites, versions
 from fieldpad.storage.db import open_db
 from fieldpad.ui.app import FieldpadApp
 from fieldpad.ui.sheet import ReadingSheet
@@ -38,8 +38,8 @@ async def open_first_sheet(pilot):
 
 def draft_values(path):
     d = open_db(path)
-    bid = repo.list_boards(d, repo.list_sites(d)[0]["id"])[0]["id"]
-    draft = repo.get_draft(d, bid)
+    bid = sites.list_boards(d, sites.list_sites(d)[0]["id"])[0]["id"]
+    draft = drafts.get_draft(d, bid)
     d.close()
     return (draft or {}).get("values", {})
 
@@ -109,7 +109,7 @@ async def test_writes_on_a_read_only_database_say_so_and_the_app_goes_on(tmp_pat
             assert app.screen.query_one("EntryGrid").values["va"] == "277"
         assert app.return_code in (0, None)
         d = open_db(p)
-        assert d["reading"].count == 2 and repo.counts(d)["round"] == 0
+        assert d["reading"].count == 2 and versions.counts(d)["round"] == 0
         d.close()
 
 

@@ -6,7 +6,7 @@ from .common import MAX_PROBLEMS, open_database, report_problems
 
 
 def run(args) -> int:
-    from ..storage import repo
+    from ..storage import versions
     from ..storage.db import backup, resolve_path
 
     if args.action == "check":
@@ -43,6 +43,6 @@ def run(args) -> int:
     print(f"schema: {applied[-1] if applied else 'none'} (this fieldpad knows up to {schema_version_names()[-1]})")
     if db.read_only:
         print(f"writable: no ({db.read_only_reason})")
-    for k, v in repo.counts(db).items():
+    for k, v in versions.counts(db).items():
         print(f"{k}: {v}")
     return 0

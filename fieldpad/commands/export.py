@@ -10,7 +10,7 @@ from .common import open_database, report_problems
 
 def run(args) -> int:
     from ..report.export import export_records, to_csv, to_json
-    from ..storage import repo
+    from ..storage import sites
     from ..storage.db import resolve_path
     from ..storage.files import atomic_write_text
     from .batch_memory import keep_freed_memory
@@ -32,8 +32,8 @@ def run(args) -> int:
         # Before any work: refuse a FIFO, device or folder, and the database itself or any of its files.
         check_target(Path(out_path), overwrite=True, protect=(resolve_path(args.db),), stdout_hint=True)
     db = open_database(args)
-    if args.site and not any(s_["name"] == args.site for s_ in repo.list_sites(db)):
-        names = ", ".join(printable(s_["name"]) for s_ in repo.list_sites(db)) or "none"
+    if args.site and not any(s_["name"] == args.site for s_ in sites.list_sites(db)):
+        names = ", ".join(printable(s_["name"]) for s_ in sites.list_sites(db)) or "none"
         return report_problems([f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
                                  f"(sites: {names}); nothing was written"])
     records = export_records(db, day=args.day, site=args.site)

@@ -15,7 +15,7 @@ from ..core.phase_colours import phase_labels
 from ..core.results import RESULT_FIELDS, analyze_records
 from ..core.thresholds import Thresholds
 from ..formats.records import EXPORT_FORMAT, findings_cell, formula_guard
-from ..storage import repo
+from ..storage import sites, versions
 from ..storage.ids import local_text, to_utc_text, utc_now
 
 FORMAT_VERSION = 1
@@ -59,11 +59,11 @@ def export_records(db, *, day=None, site=None, round_id=None) -> list[dict]:
         start, end = day_range_utc(day)
     site_id = None
     if site:
-        s = repo.find_site(db, site)
+        s = sites.find_site(db, site)
         if s is None:
             return []
         site_id = s["id"]
-    rows = repo.current_readings(db, day_start_utc=start, day_end_utc=end, site_id=site_id, round_id=round_id)
+    rows = versions.current_readings(db, day_start_utc=start, day_end_utc=end, site_id=site_id, round_id=round_id)
     results = analyze_rows(rows)
     out = []
     for r, res in zip(rows, results):

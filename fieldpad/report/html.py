@@ -15,7 +15,7 @@ from ..core import phase_colours
 from ..core.arc_flash import label_summary
 from ..core.thresholds import SOURCES
 from ..formats.text import printable
-from ..storage import repo
+from ..storage import sites, versions
 from ..storage.ids import local_text, utc_now
 from .svg import phasor_svg
 
@@ -83,25 +83,25 @@ def _arrows(inputs: dict, labels, colours):
 def to_html(db, records: list[dict], *, day=None, site=None, today: date | None = None) -> str:
     # Labels are judged on the day reported (or today for an undated report): the same report, the same words.
     on = date.fromisoformat(day) if day else (today or date.today())
-    sites = {}
+    site_by_name = {}
     by_board: dict = defaultdict(list)
     for rec in records:
-        if rec["site"] not in sites:
-            sites[rec["site"]] = repo.find_site(db, rec["site"])
+        if rec["site"] not in site_by_name:
+            site_by_name[rec["site"]] = sites.find_site(db, rec["site"])
         by_board[(rec["site"], rec["board"])].append(rec)
 
     summary = {sev: {"readings": 0, "boards": []} for sev in ("alarm", "warning", "info")}
     boards = []
     for (site_name, board_name), recs in sorted(by_board.items()):
-        s = sites[site_name]
-        b = repo.find_board(db, s["id"], board_name)
-        labels = repo.site_labels(s)
+        s = site_by_name[site_name]
+        b = sites.find_board(db, s["id"], board_name)
+        labels = sites.site_labels(s)
         colours = phase_colours.colours(s["colour_set"], "print")
         for sev in summary:
             hits = [r for r in recs if any(f["severity"] == sev for f in r["findings"])]
             summary[sev]["readings"] += len(hits)
             if hits:
-                summary[sev]["boards"].append(board_name if len(sites) == 1 else f"{site_name} / {board_name}")
+                summary[sev]["boards"].append(board_name if len(site_by_name) == 1 else f"{site_name} / {board_name}")
         latest = max(recs, key=lambda r: r["taken_at"])
         rows = []
         corrections = []
@@ -117,15 +117,15 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
                 "version": r["version"], "note": r["note"],
             })
             if r["version"] > 1:
-                for v in repo.history(db, r["reading_id"]):
+                for v in versions.history(db, r["reading_id"]):
                     corrections.append({
                         "taken": local_text(r["taken_at"]), "version": v["version"],
                         "recorded": local_text(v["recorded_at"]), "by": v["recorded_by"], "reason": v["reason"],
                         "void": bool(v["void"]),
-                        "values": ", ".join(f"{k}={val}" for k, val in repo.inputs_of(v).items()
+                        "values": ", ".join(f"{k}={val}" for k, val in versions.inputs_of(v).items()
                                             if k not in ("system", "standard", "nominal_v")),
                     })
-        title = board_name if len(sites) == 1 else f"{site_name} / {board_name}"
+        title = board_name if len(site_by_name) == 1 else f"{site_name} / {board_name}"
         boards.append({
             "name": title, "location": b["location"] if b else None, "system": b["system"] if b else "",
             "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
@@ -137,7 +137,7 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
         })
     crew = sorted({r["technician"] for r in records if r["technician"]})
     rounds = sorted({r["round"] for r in records if r["round"]})
-    site_title = site or (", ".join(sites) if sites else "no readings")
+    site_title = site or (", ".join(site_by_name) if site_by_name else "no readings")
     return _ENV.get_template("report.html.j2").render(
         site_title=site_title, day=day, generated=local_text(utc_now(), "%Y-%m-%d %H:%M"), version=__version__,
         crew=", ".join(crew), rounds=", ".join(rounds), summary=summary, boards=boards,

@@ -15,7 +15,7 @@ from ..core.fields import NUMERIC_FIELDS
 from ..core.readings import stored_text, validate_record
 from ..core.results import RESULT_FIELDS
 from ..formats.records import PROBLEMS_KEY, formula_unguard, parse_records, record_problems
-from . import repo
+from . import rounds, sites
 from .db import write
 from .ids import parse_time, utc_now, uuid7
 
@@ -70,12 +70,12 @@ def import_bytes(db, data: bytes, progress=None) -> ImportReport:
         return report
 
     # Boards that exist must agree on the system type.
-    sites = {}
+    site_by_name = {}
     for where, clean, _rec, system_given in prepared:
-        s = sites.get(clean["site"]) or repo.find_site(db, clean["site"])
+        s = site_by_name.get(clean["site"]) or sites.find_site(db, clean["site"])
         if s:
-            sites[clean["site"]] = s
-            b = repo.find_board(db, s["id"], clean["board"])
+            site_by_name[clean["site"]] = s
+            b = sites.find_board(db, s["id"], clean["board"])
             if b and system_given and b["system"] != clean["system"]:
                 report.problems.append(f"{where}: system: board {clean['board']!r} is {b['system']}, "
                                        f"the record says {clean['system']}")
@@ -89,10 +89,10 @@ def import_bytes(db, data: bytes, progress=None) -> ImportReport:
         for k, (_where, clean, rec, system_given) in enumerate(prepared):
             sname, bname = clean["site"], clean["board"]
             if sname not in site_ids:
-                s = repo.find_site(db, sname)
+                s = sites.find_site(db, sname)
                 if s is None:
                     std = clean["standard"] if rec.get("standard") else "ansi"
-                    site_ids[sname] = repo.create_site(db, sname, voltage_standard=std)
+                    site_ids[sname] = sites.create_site(db, sname, voltage_standard=std)
                     site_std[sname] = std
                     report.sites_created.append(sname)
                 else:
@@ -100,10 +100,10 @@ def import_bytes(db, data: bytes, progress=None) -> ImportReport:
                     site_std[sname] = s["voltage_standard"]
             sid = site_ids[sname]
             if (sid, bname) not in board_rows:
-                b = repo.find_board(db, sid, bname)
+                b = sites.find_board(db, sid, bname)
                 if b is None:
-                    bid = repo.create_board(db, sid, bname, system=clean["system"], nominal_v=clean["nominal_v"])
-                    b = repo.get_board(db, bid)
+                    bid = sites.create_board(db, sid, bname, system=clean["system"], nominal_v=clean["nominal_v"])
+                    b = sites.get_board(db, bid)
                     report.boards_created.append(f"{sname} / {bname}")
                 board_rows[(sid, bname)] = b
             board = board_rows[(sid, bname)]
@@ -112,7 +112,7 @@ def import_bytes(db, data: bytes, progress=None) -> ImportReport:
                 key = (sid, clean["round"])
                 if key not in round_ids:
                     found = list(db.query("SELECT id FROM round WHERE site_id = ? AND label = ? LIMIT 1", key))
-                    round_ids[key] = found[0]["id"] if found else repo.start_round(
+                    round_ids[key] = found[0]["id"] if found else rounds.start_round(
                         db, sid, clean.get("technician"), label=clean["round"], started_at=clean["taken_at"])
                 rid = round_ids[key]
             record = {f: rec[f] for f in rec if f not in META and rec[f] not in (None, "")}

@@ -12,7 +12,7 @@ from pathlib import Path
 
 from textual.app import App, SystemCommand
 
-from ..storage import repo
+from ..storage import rounds, sites
 from ..storage.db import open_db
 from .messages import OpenDayReview, OpenHistory, OpenSheet
 
@@ -48,9 +48,9 @@ class FieldpadApp(App):
             self.notify(f"READ-ONLY: this database cannot be written because {self.db.read_only_reason}. "
                         "Everything can be looked at and exported; nothing new can be saved here.",
                         severity="warning", timeout=10)
-        sites = repo.list_sites(self.db)
-        if sites:
-            self._open_site(sites[0]["id"])
+        known = sites.list_sites(self.db)
+        if known:
+            self._open_site(known[0]["id"])
         else:
             from .boards import SiteForm
             self.push_screen(SiteForm(), self._first_site)
@@ -66,7 +66,7 @@ class FieldpadApp(App):
     def _open_site(self, site_id: str) -> None:
         from .boards import BoardList
         self.site_id = site_id
-        open_rounds = [r for r in repo.list_rounds(self.db, site_id) if not r["finished_at"]]
+        open_rounds = [r for r in rounds.list_rounds(self.db, site_id) if not r["finished_at"]]
         self.round_id = open_rounds[0]["id"] if open_rounds else None
         self.push_screen(BoardList())
 

@@ -12,7 +12,7 @@ from textual.widgets import DataTable, Input, Label, Select, Static
 
 from ..core.fields import SYSTEMS
 from ..core.thresholds import Thresholds
-from ..storage import repo
+from ..storage import rounds, sites, versions
 from ..storage.db import StorageError
 from ..storage.ids import local_text
 from .field_input import FieldInput, TypingTargetScreen
@@ -65,7 +65,7 @@ class BoardForm(SettingsForm):
         self.board_id = board_id
 
     def compose(self) -> ComposeResult:
-        board = repo.get_board(self.app.db, self.board_id) if self.board_id else {}
+        board = sites.get_board(self.app.db, self.board_id) if self.board_id else {}
         with VerticalScroll(classes="form"):
             yield Static("[b]Edit board[/b]" if self.board_id else "[b]New board[/b]")
             yield Label("System")
@@ -86,12 +86,12 @@ class BoardForm(SettingsForm):
         values["system"] = self.query_one("#system", Select).value
         try:
             if self.board_id:
-                repo.update_board(self.app.db, self.board_id, **values)
+                sites.update_board(self.app.db, self.board_id, **values)
                 bid = self.board_id
             else:
                 name = values.pop("name")
                 system = values.pop("system")
-                bid = repo.create_board(self.app.db, self.site_id, name, system=system, **values)
+                bid = sites.create_board(self.app.db, self.site_id, name, system=system, **values)
         except StorageError as e:  # bad values, or a database that cannot be written
             self.show_problems(e)
             return
@@ -119,7 +119,7 @@ class SiteForm(SettingsForm):
         self.site_id = site_id
 
     def compose(self) -> ComposeResult:
-        site = repo.get_site(self.app.db, self.site_id) if self.site_id else {}
+        site = sites.get_site(self.app.db, self.site_id) if self.site_id else {}
         overrides = json.loads(site.get("thresholds_json") or "{}")
         defaults = Thresholds()
         with VerticalScroll(classes="form"):
@@ -163,10 +163,10 @@ class SiteForm(SettingsForm):
         }
         try:
             if self.site_id:
-                repo.update_site(self.app.db, self.site_id, **values)
+                sites.update_site(self.app.db, self.site_id, **values)
                 sid = self.site_id
             else:
-                sid = repo.create_site(self.app.db, **values)
+                sid = sites.create_site(self.app.db, **values)
         except StorageError as e:  # bad values, or a database that cannot be written
             self.show_problems(e)
             return
@@ -186,8 +186,8 @@ class SitePicker(ModalScreen[str | None]):
     def on_mount(self) -> None:
         t = self.query_one(DataTable)
         t.add_columns("site", "boards")
-        for s in repo.list_sites(self.app.db):
-            t.add_row(printable(s["name"]), str(len(repo.list_boards(self.app.db, s["id"]))), key=s["id"])
+        for s in sites.list_sites(self.app.db):
+            t.add_row(printable(s["name"]), str(len(sites.list_boards(self.app.db, s["id"]))), key=s["id"])
         t.focus()
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
@@ -240,11 +240,11 @@ class BoardList(Screen):
 
     def reload(self) -> None:
         app = self.app
-        site = repo.get_site(app.db, app.site_id)
+        site = sites.get_site(app.db, app.site_id)
         rnd = app.round_id
         title = f"[b]{markup_safe(site['name'])}[/b] — boards"
         if rnd:
-            done, total = repo.round_progress(app.db, rnd)
+            done, total = rounds.round_progress(app.db, rnd)
             title += f" · round: {done}/{total} boards read"
         else:
             title += " · no round (r: start one)"
@@ -255,9 +255,9 @@ class BoardList(Screen):
         t.clear()
         read_in_round = set()
         if rnd:
-            read_in_round = repo.boards_read_in_round(app.db, rnd)
-        for b in repo.list_boards(app.db, app.site_id):
-            last = repo.previous_reading(app.db, b["id"])
+            read_in_round = rounds.boards_read_in_round(app.db, rnd)
+        for b in sites.list_boards(app.db, app.site_id):
+            last = versions.previous_reading(app.db, b["id"])
             t.add_row(printable(b["name"]), printable(b["location"]), b["system"],
                       f"{b['nominal_v']:g}" if b["nominal_v"] else "", local_text(last["taken_at"]) if last else "—",
                       "✔ done" if b["id"] in read_in_round else ("to do" if rnd else ""), key=b["id"])
@@ -296,12 +296,12 @@ class BoardList(Screen):
         app = self.app
         try:
             if app.round_id:
-                repo.finish_round(app.db, app.round_id)
-                done, total = repo.round_progress(app.db, app.round_id)
+                rounds.finish_round(app.db, app.round_id)
+                done, total = rounds.round_progress(app.db, app.round_id)
                 app.round_id = None
                 self.notify(f"Round finished: {done} of {total} boards read.")
             else:
-                app.round_id = repo.start_round(app.db, app.site_id, app.technician)
+                app.round_id = rounds.start_round(app.db, app.site_id, app.technician)
                 self.notify("Round started: readings saved now belong to it.")
         except StorageError as e:
             self.notify(f"NOT SAVED: the round was not {'finished' if app.round_id else 'started'}: {e}",

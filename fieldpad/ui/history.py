@@ -8,7 +8,7 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Static
 
 from ..report.export import analyze_rows
-from ..storage import repo
+from ..storage import sites, versions
 from ..storage.db import StorageError
 from ..storage.ids import local_text
 from .dialogs import AskReason, TextPage
@@ -37,8 +37,8 @@ class BoardHistory(Screen):
         yield KeyStrip()
 
     def on_mount(self) -> None:
-        board = repo.get_board(self.app.db, self.board_id)
-        self.site = repo.get_site(self.app.db, board["site_id"])
+        board = sites.get_board(self.app.db, self.board_id)
+        self.site = sites.get_site(self.app.db, board["site_id"])
         self.query_one("#history-title", Static).update(
             Text(f"History of {printable(board['name'])} (last 50 readings, newest first)", "bold"))
         table = self.query_one(DataTable)
@@ -48,7 +48,7 @@ class BoardHistory(Screen):
     def reload(self) -> None:
         table = self.query_one(DataTable)
         table.clear()
-        rows = repo.board_history(self.app.db, self.board_id, 50)
+        rows = versions.board_history(self.app.db, self.board_id, 50)
         results = analyze_rows([{**r, "thresholds_json": self.site["thresholds_json"],
                                  "phase_labels": self.site["phase_labels"]} for r in rows])
         for r, res in zip(rows, results):
@@ -71,12 +71,12 @@ class BoardHistory(Screen):
         if not rid:
             return
         t = Text()
-        for v in repo.history(self.app.db, rid):
+        for v in versions.history(self.app.db, rid):
             t.append(f"version {v['version']}  recorded {local_text(v['recorded_at'], '%Y-%m-%d %H:%M:%S')}"
                      f" by {printable(v['recorded_by']) or '—'}\n", "bold")
             if v["reason"]:
                 t.append(f"  {'VOID' if v['void'] else 'reason'}: {printable(v['reason'])}\n")
-            t.append("  " + ", ".join(f"{k}={printable(val)}" for k, val in repo.inputs_of(v).items()) + "\n\n")
+            t.append("  " + ", ".join(f"{k}={printable(val)}" for k, val in versions.inputs_of(v).items()) + "\n\n")
         self.app.push_screen(TextPage(t, "Every version of this reading (nothing is overwritten)"))
 
     def action_correct(self) -> None:
@@ -93,7 +93,7 @@ class BoardHistory(Screen):
     def _void(self, rid: str, reason: str | None) -> None:
         if reason:
             try:
-                repo.void_reading(self.app.db, rid, reason=reason, by=self.app.technician)
+                versions.void_reading(self.app.db, rid, reason=reason, by=self.app.technician)
             except StorageError as e:
                 self.notify(f"NOT SAVED: the reading was not voided: {e}", severity="error", timeout=12)
                 return

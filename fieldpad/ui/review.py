@@ -14,7 +14,7 @@ from textual.screen import ModalScreen, Screen
 from textual.widgets import DataTable, ProgressBar, Static
 
 from ..report.export import export_records
-from ..storage import repo
+from ..storage import rounds, sites, versions
 from ..storage.ids import local_text
 from .dialogs import AskText, TextPage
 from .key_strip import KeyStrip
@@ -63,7 +63,7 @@ class DayReview(Screen):
         yield KeyStrip()
 
     def on_mount(self) -> None:
-        days = repo.reading_days(self.app.db, self.app.site_id)
+        days = versions.reading_days(self.app.db, self.app.site_id)
         self.day = date.fromisoformat(days[0]) if days else date.today()
         t = self.query_one(DataTable)
         t.add_columns("time", "board", "by", "rnd", "VUF%", "NEMA%", "rot", "IN A", "worst finding")
@@ -71,7 +71,7 @@ class DayReview(Screen):
         t.focus()
 
     def reload(self) -> None:
-        site = repo.get_site(self.app.db, self.app.site_id)
+        site = sites.get_site(self.app.db, self.app.site_id)
         self.records = export_records(self.app.db, day=self.day.isoformat(), site=site["name"])
         shown = [r for r in self.records
                  if (not self.findings_only or r["findings"])
@@ -131,7 +131,7 @@ class DayReview(Screen):
         t.append("\n")
         t.append_text(findings_text(rec["findings"], detail=True))
         t.append("\nVersions:\n", "bold")
-        for v in repo.history(self.app.db, rec["reading_id"]):
+        for v in versions.history(self.app.db, rec["reading_id"]):
             t.append(f"  v{v['version']} {local_text(v['recorded_at'])} by {printable(v['recorded_by']) or '—'}"
                      + (f": {printable(v['reason'])}" if v["reason"] else "") + "\n")
         self.app.push_screen(TextPage(t, "Reading in full"))
@@ -192,7 +192,7 @@ class RoundCompare(Screen):
         yield KeyStrip()
 
     def on_mount(self) -> None:
-        self.rounds = repo.list_rounds(self.app.db, self.app.site_id)  # newest first
+        self.rounds = rounds.list_rounds(self.app.db, self.app.site_id)  # newest first
         self.pick = [1, 0] if len(self.rounds) >= 2 else [0, 0]
         self.query_one(DataTable).add_columns("board", "VUF% A→B", "NEMA% A→B", "IN A→B", "rot A→B", "findings B")
         self.reload()
@@ -295,7 +295,7 @@ class ExportDialog(ModalScreen[None]):
         bar = self.query_one(ProgressBar)
         try:
             db = self.app.worker_db()  # its own connection: this runs in a worker thread
-            site = repo.get_site(db, self.app.site_id)
+            site = sites.get_site(db, self.app.site_id)
             records = export_records(db, day=self.day, site=site["name"])
             self.app.call_from_thread(bar.update, progress=1)
             if fmt == "csv":

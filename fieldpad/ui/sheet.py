@@ -13,9 +13,10 @@ from textual.widgets import Static
 from ..core import phase_colours
 from ..core.readings import validate_record
 from ..core.results import analyze_records
-from ..storage import repo
+from ..storage import drafts, rounds, sites, versions
 from ..storage.db import BusyError, StorageError
 from ..storage.ids import local_text
+from ..storage.rows import ValidationError
 from . import phasor_art
 from .dialogs import Ask, AskReason, help_page
 from .entry_grid import EntryGrid
@@ -58,7 +59,7 @@ def live_result(values: dict, board: dict, site: dict):
                 return None
     if not any(clean[f] is not None for f in ("va", "vb", "vab", "vbc", "ia", "ib")):
         return None
-    return analyze_records([clean], repo.site_thresholds(site), repo.site_labels(site))[0]
+    return analyze_records([clean], sites.site_thresholds(site), sites.site_labels(site))[0]
 
 
 class ReadingSheet(Screen):
@@ -107,22 +108,22 @@ class ReadingSheet(Screen):
 
     def on_mount(self) -> None:
         db = self.app.db
-        self.board = repo.get_board(db, self.board_id)
-        self.site = repo.get_site(db, self.board["site_id"])
-        self.labels = repo.site_labels(self.site)
+        self.board = sites.get_board(db, self.board_id)
+        self.site = sites.get_site(db, self.board["site_id"])
+        self.labels = sites.site_labels(self.site)
         self.colours = phase_colours.colours(self.site["colour_set"], "terminal")
         self.mode = modes_for(self.board["system"])[0]
         values = None
         if self.correcting:
-            cur = repo.current_version(db, self.correcting)
-            values = {k: str(v) for k, v in repo.inputs_of(cur).items()
+            cur = versions.current_version(db, self.correcting)
+            values = {k: str(v) for k, v in versions.inputs_of(cur).items()
                       if k not in ("system", "standard", "nominal_v")}
             if any(k in values for k in ("vab_deg", "vbc_deg", "vca_deg")) and "va" not in values:
                 self.mode = LL
             elif any(k in values for k in ("vab", "vbc", "vca")) and "va" not in values:
                 self.mode = LL_MAG
         self._configure_grid(values or {})
-        self.previous_row = repo.previous_reading(db, self.board_id, self.correcting)
+        self.previous_row = versions.previous_reading(db, self.board_id, self.correcting)
         if self.previous_row:
             from ..report.export import analyze_rows
             self.previous = analyze_rows([{**self.previous_row, "thresholds_json": self.site["thresholds_json"],
@@ -135,7 +136,7 @@ class ReadingSheet(Screen):
             self.set_status(f"Correcting reading of {local_text(cur['taken_at'])} (version {cur['version']}). "
                             "F2 saves a new version; you will be asked why.")
         else:
-            draft = repo.get_draft(db, self.board_id)
+            draft = drafts.get_draft(db, self.board_id)
             if draft and any(str(v).strip() for v in draft.get("values", {}).values()):
                 self.app.push_screen(Ask("A half-typed sheet was kept for this board. Restore it? (y/n)"),
                                      self._restore_draft)
@@ -143,7 +144,7 @@ class ReadingSheet(Screen):
                 self.set_status("Type the readings. Tab/Enter: next field. F2: save. F1: help.")
 
     def _restore_draft(self, yes: bool | None) -> None:
-        draft = repo.get_draft(self.app.db, self.board_id) or {}
+        draft = drafts.get_draft(self.app.db, self.board_id) or {}
         if yes:
             self.mode = draft.get("mode", self.mode)
             self._configure_grid(draft.get("values", {}))
@@ -151,7 +152,7 @@ class ReadingSheet(Screen):
             self.recompute()
             self.set_status("Draft restored: check every value before saving.")
         else:
-            repo.clear_draft(self.app.db, self.board_id)
+            drafts.clear_draft(self.app.db, self.board_id)
             self.set_status("Draft discarded. Type the readings.")
 
     def _configure_grid(self, values: dict) -> None:
@@ -165,7 +166,7 @@ class ReadingSheet(Screen):
         parts = [f"[b]{markup_safe(b['name'])}[/b]", markup_safe(self.site["name"]), f"{b['system']} {nominal}",
                  MODE_NAMES[self.mode]]
         if self.round_id:
-            done, total = repo.round_progress(self.app.db, self.round_id)
+            done, total = rounds.round_progress(self.app.db, self.round_id)
             parts.append(f"round {done}/{total} boards")
         if self.correcting:
             parts.insert(0, f"[b {WARN}]CORRECTING[/]")
@@ -268,10 +269,10 @@ class ReadingSheet(Screen):
         try:
             values = grid.entered()
             if values:
-                repo.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": values}, wait_ms=wait_ms)
+                drafts.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": values}, wait_ms=wait_ms)
             else:
                 # Emptied by hand or cleared after a save.
-                repo.clear_draft(self.app.db, self.board_id, wait_ms=wait_ms)
+                drafts.clear_draft(self.app.db, self.board_id, wait_ms=wait_ms)
         except BusyError:
             return False  # not now: the next key or the way out keeps it
         except StorageError as e:  # a draft that cannot be kept must not stop the typing
@@ -302,9 +303,9 @@ class ReadingSheet(Screen):
             self.app.push_screen(AskReason("Why is this reading corrected?"), self._save_correction)
             return
         try:
-            saved = repo.save_reading(self.app.db, self.board_id, grid.entered(), technician=self.technician,
+            saved = versions.save_reading(self.app.db, self.board_id, grid.entered(), technician=self.technician,
                                       round_id=self.round_id)
-        except repo.ValidationError as e:
+        except ValidationError as e:
             self.set_status(f"NOT SAVED: {e}. Nothing was lost.", error=True)
             return
         except StorageError as e:  # the disk, permissions: say so, keep the typing (and the draft)
@@ -326,7 +327,7 @@ class ReadingSheet(Screen):
             return
         grid = self.query_one(EntryGrid)
         try:
-            saved = repo.correct_reading(self.app.db, self.correcting, grid.entered(), reason=reason,
+            saved = versions.correct_reading(self.app.db, self.correcting, grid.entered(), reason=reason,
                                          by=self.technician)
         except StorageError as e:
             self.set_status(f"NOT SAVED: {e}. What you typed is still here.", error=True)
@@ -337,7 +338,7 @@ class ReadingSheet(Screen):
 
     def _after_save(self, message: str) -> None:
         grid = self.query_one(EntryGrid)
-        self.previous_row = repo.previous_reading(self.app.db, self.board_id)
+        self.previous_row = versions.previous_reading(self.app.db, self.board_id)
         self.previous = self.result
         grid.clear()  # through _changed: the results are recomputed for the empty sheet
         self.dirty = False

@@ -19,7 +19,7 @@ from pathlib import Path
 
 from fieldpad.report.export import export_records, to_csv
 from fieldpad.report.html import to_html
-from fieldpad.storage import repo
+from fieldpad.storage import sites
 from fieldpad.storage.db import open_db
 from fieldpad.storage.ids import uuid7
 
@@ -29,8 +29,8 @@ BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "
 
 def build(path: Path, boards: int, readings: int, spread_days: int):
     db = open_db(path)
-    sid = repo.create_site(db, "Bench Works")
-    bids = [repo.create_board(db, sid, f"B{k:03d}", nominal_v=480, af_incident_energy_cal_cm2=4.0, af_ppe="1",
+    sid = sites.create_site(db, "Bench Works")
+    bids = [sites.create_board(db, sid, f"B{k:03d}", nominal_v=480, af_incident_energy_cal_cm2=4.0, af_ppe="1",
                               af_label_date="2024-01-01") for k in range(boards)]
     cols = [r[1] for r in db.execute("PRAGMA table_info(reading)").fetchall()]
     rng = random.Random(3)

@@ -22,7 +22,7 @@ from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 from fieldpad.report.export import export_records
-from fieldpad.storage import repo
+from fieldpad.storage import sites, versions
 from fieldpad.storage.db import open_db
 from fieldpad.storage.ids import uuid7
 
@@ -38,8 +38,8 @@ def pct(values, q):
 
 def build(path: Path, n: int):
     db = open_db(path)
-    sid = repo.create_site(db, "Bench Works")
-    boards = [repo.create_board(db, sid, f"B{k:03d}", nominal_v=480) for k in range(500)]
+    sid = sites.create_site(db, "Bench Works")
+    boards = [sites.create_board(db, sid, f"B{k:03d}", nominal_v=480) for k in range(500)]
     cols = [r[1] for r in db.execute("PRAGMA table_info(reading)").fetchall()]
     rng = random.Random(5)
     t0 = datetime(2026, 1, 1, tzinfo=UTC)
@@ -78,7 +78,7 @@ def main():
         times = []
         for b in random.Random(1).sample(boards, 200):
             t = time.perf_counter()
-            rows = repo.board_history(db, b, 50)
+            rows = versions.board_history(db, b, 50)
             times.append((time.perf_counter() - t) * 1e3)
         print(f"board history (last 50; {len(rows)} rows): median {statistics.median(times):.2f} ms, "
               f"p95 {pct(times, 0.95):.2f} ms (target < 20 ms)")
@@ -88,7 +88,7 @@ def main():
             from fieldpad.report.export import day_range_utc
             start, end = day_range_utc(day)
             t = time.perf_counter()
-            rows = repo.current_readings(db, day_start_utc=start, day_end_utc=end)
+            rows = versions.current_readings(db, day_start_utc=start, day_end_utc=end)
             times.append((time.perf_counter() - t) * 1e3)
         print(f"day's export query ({len(rows):,} readings that day): median {statistics.median(times):.1f} ms, "
               f"max {max(times):.1f} ms (target < 200 ms)")
@@ -104,7 +104,7 @@ def main():
         cols = [r[1] for r in raw.execute("PRAGMA table_info(reading)").fetchall()]
         for k in range(200):
             t = time.perf_counter()
-            repo.save_reading(db, boards[k], BAL, technician="bench")
+            versions.save_reading(db, boards[k], BAL, technician="bench")
             fp.append((time.perf_counter() - t) * 1e3)
             rid = uuid7()
             row = {"id": rid, "reading_id": rid, "version": 1, "board_id": boards[k], "taken_at": "2026-12-02",

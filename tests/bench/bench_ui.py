@@ -37,12 +37,12 @@ import asyncio, sys, time
 t0 = time.perf_counter()
 from fieldpad.ui.app import FieldpadApp
 from fieldpad.ui.sheet import ReadingSheet
-from fieldpad.storage import repo
+from fieldpad.storage import drafts, sites
 async def main():
     app = FieldpadApp(sys.argv[1], technician="bench")
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.pause()
-        bid = repo.list_boards(app.db, app.site_id)[0]["id"]
+        bid = sites.list_boards(app.db, app.site_id)[0]["id"]
         app.push_screen(ReadingSheet(bid))
         await pilot.pause()
         await pilot.press("2")
@@ -109,7 +109,7 @@ def time_display(app) -> list[float]:
 
 
 async def keystrokes(db_path: Path):
-    from fieldpad.storage import repo
+    from fieldpad.storage import drafts, sites
     from fieldpad.ui.app import FieldpadApp
     from fieldpad.ui.sheet import ReadingSheet
 
@@ -118,7 +118,7 @@ async def keystrokes(db_path: Path):
     painted = time_display(app)
     async with app.run_test(size=(80, 24)) as pilot:
         await pilot.pause()
-        bid = repo.list_boards(app.db, app.site_id)[0]["id"]
+        bid = sites.list_boards(app.db, app.site_id)[0]["id"]
         for _round in range(8):
             app.push_screen(ReadingSheet(bid))
             await pilot.pause()
@@ -140,7 +140,7 @@ async def keystrokes(db_path: Path):
                 if painted:
                     shown.append((painted[-1] - t) * 1e3)
             sheet.dirty = False
-            repo.clear_draft(app.db, bid)  # every keystroke kept a draft: the next round starts clean
+            drafts.clear_draft(app.db, bid)  # every keystroke kept a draft: the next round starts clean
             app.pop_screen()
             await pilot.pause()
     return own, trip, shown

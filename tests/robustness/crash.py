@@ -7,7 +7,7 @@ import sys
 import time
 from pathlib import Path
 
-from fieldpad.storage import repo
+from fieldpad.storage import sites
 from fieldpad.storage.db import check, open_db
 
 WRITER = str(Path(__file__).parent / "writer.py")
@@ -15,8 +15,8 @@ WRITER = str(Path(__file__).parent / "writer.py")
 
 def setup(path) -> str:
     db = open_db(path)
-    sid = repo.create_site(db, "Crash Yard")
-    bid = repo.create_board(db, sid, "DB-1")
+    sid = sites.create_site(db, "Crash Yard")
+    bid = sites.create_board(db, sid, "DB-1")
     db.close()
     return bid
 

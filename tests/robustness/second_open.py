@@ -24,11 +24,11 @@ BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "
 
 
 def child(path: str, board: str, n: int) -> None:
-    from fieldpad.storage import repo
+    from fieldpad.storage import versions
     from fieldpad.storage.db import backup, check_file, open_db
 
     db = open_db(path)
-    print(repo.save_reading(db, board, BAL, technician="first").reading_id, flush=True)
+    print(versions.save_reading(db, board, BAL, technician="first").reading_id, flush=True)
     second = open_db(path)
     check_file(path)
     with tempfile.TemporaryDirectory() as d:
@@ -37,19 +37,19 @@ def child(path: str, board: str, n: int) -> None:
     print("ready", flush=True)
     sys.stdin.readline()
     for k in range(n):
-        print(repo.save_reading(db, board, {**BAL, "va": str(270 + k)}, technician="first").reading_id, flush=True)
+        print(versions.save_reading(db, board, {**BAL, "va": str(270 + k)}, technician="first").reading_id, flush=True)
     print("done", flush=True)
     sys.stdin.readline()  # stay alive, connection open, until killed
 
 
 def second_open_test(folder: Path, n: int = 5) -> tuple[int, int, list[str]]:
     """Returns (readings reported saved, readings lost, integrity problems)."""
-    from fieldpad.storage import repo
+    from fieldpad.storage import sites
     from fieldpad.storage.db import check, open_db
 
     path = folder / "second-open.db"
     db = open_db(path)
-    board = repo.create_board(db, repo.create_site(db, "Second Open Yard"), "DB-2")
+    board = sites.create_board(db, sites.create_site(db, "Second Open Yard"), "DB-2")
     db.close()
     p = subprocess.Popen([sys.executable, str(HERE), str(path), board, str(n)], stdin=subprocess.PIPE,
                          stdout=subprocess.PIPE, text=True)

@@ -8,7 +8,7 @@ exactly what was reported saved.  Prints "error: ..." for any error.
 import sys
 import time
 
-from fieldpad.storage import repo
+from fieldpad.storage import versions
 from fieldpad.storage.db import open_db
 
 BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120",
@@ -23,7 +23,7 @@ def main():
         if time.time() > end:
             break
         try:
-            s = repo.save_reading(db, board, {**BAL, "va": str(270 + k % 10)}, technician="writer",
+            s = versions.save_reading(db, board, {**BAL, "va": str(270 + k % 10)}, technician="writer",
                                   note=f"loop {k}")
         except Exception as e:  # report, never hide: the parent counts these
             print(f"error: {type(e).__name__}: {e}", flush=True)

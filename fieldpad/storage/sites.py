@@ -1,0 +1,173 @@
+"""Sites and boards: create, edit, look up, list; their thresholds and phase labels.
+
+Writes run in one transaction each (:func:`fieldpad.storage.db.write`) and are committed before the
+function returns."""
+from __future__ import annotations
+
+import json
+
+from ..core.fields import SYSTEMS
+from ..core.phase_colours import COLOUR_SETS, phase_labels
+from ..core.thresholds import Thresholds
+from .db import write
+from .ids import utc_now, uuid7
+from .rows import NO_NUMBER, ValidationError, clean_text, number
+
+BOARD_FIELDS = ("name", "location", "kind", "system", "nominal_v", "frequency_hz", "af_incident_energy_cal_cm2",
+                "af_working_distance_mm", "af_boundary_mm", "af_ppe", "af_label_date")
+
+
+def _site_values(fields: dict, problems: list) -> dict:
+    """Check site fields (any subset); ``thresholds`` is a dict of overrides."""
+    out = {}
+    for k, v in fields.items():
+        if k == "name":
+            out[k] = clean_text(v, "name", problems, required=True, limit=200)
+        elif k == "description":
+            out[k] = clean_text(v, "description", problems, limit=2000)
+        elif k == "voltage_standard":
+            if v not in ("ansi", "iec"):
+                problems.append((k, "use ansi or iec"))
+            out[k] = v
+        elif k == "phase_labels":
+            if v not in ("ABC", "L123"):
+                problems.append((k, "use ABC or L123"))
+            out[k] = v
+        elif k == "colour_set":
+            if v not in COLOUR_SETS:
+                problems.append((k, f"use one of {', '.join(COLOUR_SETS)}"))
+            out[k] = v
+        elif k == "label_review_years":
+            years = number(v, k, problems, low=0.1, high=50.01)
+            if years is None:
+                problems.append((k, "is required"))
+            elif years is not NO_NUMBER:
+                out[k] = years
+        elif k == "thresholds":
+            overrides = {}
+            for name, value in (v or {}).items():
+                x = number(value, name, problems)
+                if x is not None and x is not NO_NUMBER:
+                    overrides[name] = x
+            try:
+                Thresholds().with_overrides(overrides)
+            except KeyError as e:
+                problems.append(("thresholds", str(e).strip("'\"")))
+            out["thresholds_json"] = json.dumps(overrides, sort_keys=True)
+        else:
+            problems.append((k, "unknown site field"))
+    return out
+
+
+def create_site(db, name, *, description=None, voltage_standard="ansi", phase_labels="ABC",
+                colour_set="iec60445", thresholds=None, label_review_years=5.0, site_id=None) -> str:
+    problems: list = []
+    values = _site_values({"name": name, "description": description, "voltage_standard": voltage_standard,
+                           "phase_labels": phase_labels, "colour_set": colour_set,
+                           "label_review_years": label_review_years, "thresholds": thresholds or {}}, problems)
+    if problems:
+        raise ValidationError(problems)
+    now = utc_now()
+    sid = site_id or uuid7()
+    with write(db):
+        db["site"].insert({"id": sid, **values, "created_at": now, "updated_at": now})
+    return sid
+
+
+def update_site(db, site_id, **changes) -> None:
+    """Change site settings; ``thresholds`` (a dict) replaces the site's threshold overrides."""
+    problems: list = []
+    values = _site_values(changes, problems)
+    if problems:
+        raise ValidationError(problems)
+    with write(db):
+        db["site"].update(site_id, {**values, "updated_at": utc_now()})
+
+
+def get_site(db, site_id) -> dict:
+    return db["site"].get(site_id)
+
+
+def find_site(db, name) -> dict | None:
+    rows = list(db.query("SELECT * FROM site WHERE name = ? ORDER BY id LIMIT 1", [name]))
+    return rows[0] if rows else None
+
+
+def list_sites(db) -> list[dict]:
+    return list(db.query("SELECT * FROM site ORDER BY name, id"))
+
+
+def site_thresholds(site: dict) -> Thresholds:
+    return Thresholds().with_overrides(json.loads(site.get("thresholds_json") or "{}"))
+
+
+def site_labels(site: dict) -> tuple[str, str, str]:
+    return phase_labels(site.get("phase_labels"))
+
+
+# ---- boards ----------------------------------------------------------------
+
+
+def _board_values(fields: dict, problems: list) -> dict:
+    out = {}
+    for k, v in fields.items():
+        if k not in BOARD_FIELDS:
+            problems.append((k, "unknown board field"))
+        elif k in ("nominal_v", "frequency_hz", "af_incident_energy_cal_cm2", "af_working_distance_mm",
+                   "af_boundary_mm"):
+            x = number(v, k, problems)
+            if x is not NO_NUMBER:
+                out[k] = x
+        elif k == "system":
+            if v not in SYSTEMS:
+                problems.append(("system", f"unknown system {v!r}"))
+            out[k] = v
+        elif k == "af_label_date":
+            text = clean_text(v, k, problems, limit=10)
+            if text:
+                import datetime as _dt
+                try:
+                    _dt.date.fromisoformat(text)
+                except ValueError:
+                    problems.append((k, f"{text!r} is not a date (YYYY-MM-DD)"))
+            out[k] = text
+        else:
+            out[k] = clean_text(v, k, problems, required=(k == "name"), limit=200 if k == "name" else 2000)
+    return out
+
+
+def create_board(db, site_id, name, *, system="wye", board_id=None, **fields) -> str:
+    problems: list = []
+    values = _board_values({"name": name, "system": system, **fields}, problems)
+    if problems:
+        raise ValidationError(problems)
+    now = utc_now()
+    bid = board_id or uuid7()
+    with write(db):
+        db["board"].insert({"id": bid, "site_id": site_id, **values, "created_at": now, "updated_at": now})
+    return bid
+
+
+def update_board(db, board_id, **fields) -> None:
+    problems: list = []
+    values = _board_values(fields, problems)
+    if problems:
+        raise ValidationError(problems)
+    with write(db):
+        db["board"].update(board_id, {**values, "updated_at": utc_now()})
+
+
+def get_board(db, board_id) -> dict:
+    return db["board"].get(board_id)
+
+
+def find_board(db, site_id, name) -> dict | None:
+    rows = list(db.query("SELECT * FROM board WHERE site_id = ? AND name = ? ORDER BY id LIMIT 1", [site_id, name]))
+    return rows[0] if rows else None
+
+
+def list_boards(db, site_id) -> list[dict]:
+    return list(db.query("SELECT * FROM board WHERE site_id = ? ORDER BY name, id", [site_id]))
+
+
+# ---- rounds ----------------------------------------------------------------
