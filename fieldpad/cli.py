@@ -41,11 +41,26 @@ def build_parser() -> argparse.ArgumentParser:
     e.add_argument("--site", metavar="NAME")
     e.add_argument("--format", choices=("csv", "json", "html"), required=True)
     e.add_argument("-o", "--output", metavar="FILE", help="write to FILE (default: standard output)")
+    e.add_argument("--server", metavar="URL", help="export the crew's records from this PostgreSQL server "
+                   "instead of this laptop's database")
     e.set_defaults(command_module="export")
 
     m = sub.add_parser("merge", parents=[db_opt], help="bring in the records of other fieldpad databases")
     m.add_argument("others", nargs="+", metavar="OTHER.db")
     m.set_defaults(command_module="merge")
+
+    srv = argparse.ArgumentParser(add_help=False)
+    srv.add_argument("--server", metavar="URL", help="the crew's PostgreSQL server, a libpq connection URI "
+                     "(default: $FIELDPAD_SERVER); passwords come from libpq's password file or environment")
+
+    sv = sub.add_parser("server", help="the crew's central PostgreSQL server")
+    sv_sub = sv.add_subparsers(dest="server_action", required=True)
+    sv_init = sv_sub.add_parser("init", parents=[srv], help="create or upgrade the central schema")
+    sv_init.set_defaults(command_module="server")
+
+    sy = sub.add_parser("sync", parents=[db_opt, srv], help="send this laptop's records to the crew's server "
+                        "and bring back the rest")
+    sy.set_defaults(command_module="sync")
 
     d = sub.add_parser("db", parents=[db_opt], help="database check, backup and info")
     d.add_argument("action", choices=("check", "backup", "info"))

@@ -12,6 +12,7 @@ from ..formats.text import printable
 
 MAX_PROBLEMS = 20
 _OPENED: list = []  # databases a command opened: close_opened() closes them, so the WAL is folded back
+_REMOVE: list = []  # temporary folders to remove after that
 
 
 def report_problems(problems: list[str]) -> int:
@@ -45,8 +46,30 @@ def open_database(args, *, create: bool = False):
     return db
 
 
+def open_server_copy(url: str):
+    """The crew's whole record from the central server, as a database in a temporary folder that
+    close_opened() removes (read by export exactly as a laptop's database is)."""
+    import shutil
+    import tempfile
+    from pathlib import Path
+
+    from ..storage.db import open_db
+    from ..storage.server import fetch_all, server_url
+
+    folder = Path(tempfile.mkdtemp(prefix="fieldpad-crew-"))
+    _REMOVE.append(lambda: shutil.rmtree(folder, ignore_errors=True))
+    path = fetch_all(server_url(url), folder / "crew.db")
+    db = open_db(path, create=False)
+    _OPENED.append(db)
+    return db
+
+
 def close_opened() -> None:
-    """Close every database a command opened (called once the command has returned or failed)."""
+    """Close every database a command opened (called once the command has returned or failed), then
+    remove any temporary copy."""
     while _OPENED:
         with contextlib.suppress(Exception):
             _OPENED.pop().close()
+    while _REMOVE:
+        with contextlib.suppress(Exception):
+            _REMOVE.pop()()

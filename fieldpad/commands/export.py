@@ -5,7 +5,7 @@ import sys
 from pathlib import Path
 
 from ..formats.text import printable
-from .common import open_database, report_problems
+from .common import open_database, open_server_copy, report_problems
 
 
 def run(args) -> int:
@@ -31,7 +31,7 @@ def run(args) -> int:
         out_path = args.output
         # Before any work: refuse a FIFO, device or folder, and the database itself or any of its files.
         check_target(Path(out_path), overwrite=True, protect=(resolve_path(args.db),), stdout_hint=True)
-    db = open_database(args)
+    db = open_server_copy(args.server) if getattr(args, "server", None) else open_database(args)
     if args.site and not any(s_["name"] == args.site for s_ in sites.list_sites(db)):
         names = ", ".join(printable(s_["name"]) for s_ in sites.list_sites(db)) or "none"
         return report_problems([f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "

@@ -1,0 +1,388 @@
+"""The crew's central PostgreSQL server: its schema, and the sync of a laptop's SQLite database with it.
+
+The laptop's database is the field copy and works with no network; the server holds the crew's record.
+The server only ever adds rows (db_schema/server/): a row is a laptop row with the same id, so sending one
+twice is harmless.  A sync is
+
+1. **send**: the laptop's rows that the server lacks, in one server transaction per sync (COPY into a
+   temporary table, then ``INSERT ... WHERE NOT EXISTS``): all of it lands or none of it does.  Reading
+   versions are sent only by the technician who recorded them (the server refuses anything else, by
+   row-level security), and only once the version each supersedes is on the server or sent with it.
+2. **receive**: the rows the server got since this laptop last asked, written into a temporary SQLite
+   file and brought in by the same merge as ``fieldpad merge`` (the same checks, ids and current-version
+   rule), in one laptop transaction.
+
+What the laptop has sent and received is kept per server (by the server's own id, not its address) in
+``sync_state``; it moves only after the step it records has committed, so a sync killed at any moment
+leaves nothing partial, and the next sync sends or receives again what was not recorded (harmless).
+
+psycopg is imported here only (the optional ``server`` extra); libpq's own means carry passwords
+(password file, ``PGPASSWORD``, client certificates): none is ever stored in the laptop's database.
+"""
+from __future__ import annotations
+
+import contextlib
+import os
+import tempfile
+from dataclasses import dataclass, field
+from importlib import resources
+from pathlib import Path
+from urllib.parse import urlsplit, urlunsplit
+
+from .access import StorageError
+from .db import write
+
+ENV_VAR = "FIELDPAD_SERVER"
+MIGRATION_TABLE = "fieldpad_migrations"
+# Laptop tables sent and received, parents first (a board needs its site, a reading its board and round).
+TABLES = ("site", "board", "round", "reading")
+CONNECT_TIMEOUT_S = 10
+
+
+class ServerError(StorageError):
+    """The server cannot be reached, refused, or is not a fieldpad server; the message says what to do."""
+
+
+def server_url(url: str | None) -> str:
+    """``--server URL`` wins over ``$FIELDPAD_SERVER``."""
+    url = url or os.environ.get(ENV_VAR)
+    if not url:
+        raise ServerError("no server given: use --server URL (a libpq connection URI, e.g. "
+                          "postgresql://HOST/DBNAME?sslmode=verify-full) or set FIELDPAD_SERVER")
+    return url
+
+
+def shown_url(url: str) -> str:
+    """The URL without any password in it, for messages and the laptop's record."""
+    with contextlib.suppress(ValueError):
+        parts = urlsplit(url)
+        if parts.password is not None:
+            host = parts.hostname or ""
+            netloc = (parts.username or "") + "@" + host + (f":{parts.port}" if parts.port else "")
+            return urlunsplit(parts._replace(netloc=netloc))
+    return url
+
+
+def _psycopg():
+    try:
+        import psycopg
+    except ImportError:
+        raise ServerError("the server commands need psycopg: pip install 'fieldpad[server]'") from None
+    return psycopg
+
+
+def connect(url: str):
+    """A psycopg connection (autocommit off).  Refusals and unreachable servers become a ServerError."""
+    psycopg = _psycopg()
+    try:
+        return psycopg.connect(url, connect_timeout=CONNECT_TIMEOUT_S, application_name="fieldpad")
+    except psycopg.Error as e:
+        raise ServerError(f"cannot reach the server {shown_url(url)}: {_first_line(e)}. Nothing was sent or "
+                          "received; everything stays on this laptop and waits for the next sync.") from None
+
+
+def _first_line(e: Exception) -> str:
+    return (str(e).strip().splitlines() or [type(e).__name__])[0]
+
+
+# ---- schema ---------------------------------------------------------------------------------------------
+def _migration_files() -> list[tuple[str, str]]:
+    folder = resources.files("db_schema").joinpath("server")
+    files = sorted(p for p in folder.iterdir() if p.name.endswith(".sql"))
+    return [(p.name[:-4], p.read_text(encoding="utf-8")) for p in files]
+
+
+def init(url: str) -> tuple[list[str], list[str]]:
+    """Create or upgrade the server's schema: each numbered migration in one transaction, under an
+    advisory lock (two inits at once apply each migration once).  Refuses a schema newer than this
+    fieldpad knows.  Returns (applied now, applied before)."""
+    known = _migration_files()
+    names = [n for n, _ in known]
+    with connect(url) as conn:
+        with conn.transaction():
+            conn.execute("SELECT pg_advisory_xact_lock(hashtext('fieldpad schema'))")
+            conn.execute(f"CREATE TABLE IF NOT EXISTS {MIGRATION_TABLE} (name TEXT PRIMARY KEY, "
+                         "applied_at TIMESTAMPTZ NOT NULL DEFAULT now(), applied_by NAME NOT NULL "
+                         "DEFAULT current_user)")
+            before = [r[0] for r in conn.execute(f"SELECT name FROM {MIGRATION_TABLE} ORDER BY name")]
+        unknown = [b for b in before if b not in names]
+        if unknown:
+            raise ServerError(f"the server's schema is newer than this fieldpad (migration {unknown[-1]}; this "
+                              f"fieldpad knows up to {names[-1]}). Nothing was changed: update fieldpad.")
+        done = []
+        for name, sql in known:
+            with conn.transaction():
+                conn.execute("SELECT pg_advisory_xact_lock(hashtext('fieldpad schema'))")
+                if conn.execute(f"SELECT 1 FROM {MIGRATION_TABLE} WHERE name = %s", [name]).fetchone():
+                    continue
+                conn.execute(sql)
+                conn.execute(f"INSERT INTO {MIGRATION_TABLE} (name) VALUES (%s)", [name])
+                done.append(name)
+    return done, before
+
+
+def _check_schema(conn) -> str:
+    """The server's id; a ServerError if this is not a fieldpad server or its schema is newer."""
+    psycopg = _psycopg()
+    try:
+        with conn.transaction():
+            applied = [r[0] for r in conn.execute(f"SELECT name FROM {MIGRATION_TABLE} ORDER BY name")]
+            sid = conn.execute("SELECT id FROM server_info").fetchone()[0]
+    except psycopg.errors.UndefinedTable:
+        raise ServerError("the server has no fieldpad schema: its administrator runs 'fieldpad server init' "
+                          "first") from None
+    except psycopg.errors.InsufficientPrivilege:
+        raise ServerError("this login may not read the crew's record: ask the server's administrator to "
+                          "grant it fieldpad_technician or fieldpad_supervisor") from None
+    names = [n for n, _ in _migration_files()]
+    newer = [a for a in applied if a not in names]
+    if newer:
+        raise ServerError(f"the server's schema is newer than this fieldpad ({newer[-1]}): update fieldpad")
+    return sid
+
+
+# ---- sync -------------------------------------------------------------------------------------------------
+@dataclass
+class SyncReport:
+    server: str
+    role: str
+    sent: dict = field(default_factory=dict)         # table -> rows the server did not have
+    received: dict = field(default_factory=dict)     # table -> rows new to this laptop
+    not_mine: int = 0        # reading versions recorded by someone else: theirs to send
+    waiting: int = 0         # versions waiting for the version they supersede to reach the server
+
+
+def _cols(db, table: str) -> list[str]:
+    return [r[1] for r in db.conn.execute(f"PRAGMA main.table_info({table})")]
+
+
+def _state(db, sid: str) -> dict:
+    rows = db.conn.execute("SELECT tbl, sent_rowid, received_tx FROM sync_state WHERE server_id = ?", [sid])
+    return {t: (s, r) for t, s, r in rows}
+
+
+def pending_count(db, technician: str | None) -> int | None:
+    """Reading versions recorded by ``technician`` that no server has taken yet (None: never synced)."""
+    row = db.conn.execute("SELECT MAX(sent_rowid) FROM sync_state WHERE tbl = 'reading'").fetchone()
+    if row[0] is None:
+        return None
+    return db.conn.execute("SELECT COUNT(*) FROM reading WHERE rowid > ? AND recorded_by IS ?",
+                           [row[0], technician]).fetchone()[0]
+
+
+def last_sync(db) -> dict | None:
+    """When this laptop last synced, with which server (address without password) and what moved."""
+    r = db.conn.execute("SELECT server_id, shown_url, synced_at, sent, received FROM sync_log "
+                        "ORDER BY synced_at DESC LIMIT 1").fetchone()
+    return dict(zip(("server_id", "server", "synced_at", "sent", "received"), r)) if r else None
+
+
+def sync(db, url: str) -> SyncReport:
+    """Send what the server lacks, then receive what this laptop lacks (see the module docstring)."""
+    if db.read_only:
+        raise ServerError(f"this database cannot be written ({db.read_only_reason}): nothing can be received")
+    psycopg = _psycopg()
+    conn = connect(url)
+    try:
+        sid = _check_schema(conn)
+        role = conn.execute("SELECT current_user").fetchone()[0]
+        conn.commit()
+        report = SyncReport(server=shown_url(url), role=role)
+        try:
+            _send(db, conn, sid, role, report)
+            _receive(db, conn, sid, report)
+        except psycopg.errors.InsufficientPrivilege as e:
+            raise ServerError(f"the server refused: {_first_line(e)}. Nothing of this step was kept; "
+                              "ask the server's administrator which role this login has") from None
+        except psycopg.OperationalError as e:
+            raise ServerError(f"the connection to {shown_url(url)} was lost: {_first_line(e)}. What was not "
+                              "confirmed is sent again at the next sync; nothing is lost.") from None
+        from .ids import utc_now
+
+        with write(db):
+            db.conn.execute("INSERT INTO sync_log (server_id, shown_url, synced_at, sent, received) "
+                            "VALUES (?, ?, ?, ?, ?) ON CONFLICT(server_id) DO UPDATE SET "
+                            "shown_url = excluded.shown_url, synced_at = excluded.synced_at, "
+                            "sent = excluded.sent, received = excluded.received",
+                            [sid, report.server, utc_now(), sum(report.sent.values()),
+                             sum(report.received.values())])
+        return report
+    finally:
+        with contextlib.suppress(Exception):
+            conn.close()
+
+
+def _send(db, conn, sid: str, role: str, report: SyncReport) -> None:
+    state = _state(db, sid)
+    batches, marks = {}, {}
+    for table in TABLES:
+        cols = _cols(db, table)
+        since = state.get(table, (0, "0"))[0]
+        rows = db.conn.execute(f"SELECT rowid, {', '.join(cols)} FROM {table} WHERE rowid > ? ORDER BY rowid",
+                               [since]).fetchall()
+        top = rows[-1][0] if rows else since
+        if table == "reading":
+            rows, held_from = _sendable_versions(conn, cols, rows, role, report)
+            # The mark stops below the first version still waiting, so it is looked at again next time.
+            top = min(top, held_from - 1) if held_from is not None else top
+        batches[table] = (cols, [r[1:] for r in rows])
+        marks[table] = top
+    with conn.transaction():
+        for table in TABLES:
+            cols, rows = batches[table]
+            if not rows:
+                report.sent[table] = 0
+                continue
+            col_sql = ", ".join(cols)
+            conn.execute(f"CREATE TEMP TABLE incoming_{table} (LIKE {table} INCLUDING DEFAULTS) ON COMMIT DROP")
+            with conn.cursor().copy(f"COPY incoming_{table} ({col_sql}) FROM STDIN") as cp:
+                for r in rows:
+                    cp.write_row(r)
+            cur = conn.execute(f"INSERT INTO {table} ({col_sql}) SELECT {col_sql} FROM incoming_{table} i "
+                               f"WHERE NOT EXISTS (SELECT 1 FROM {table} t WHERE t.id = i.id) "
+                               "ON CONFLICT (id) DO NOTHING")
+            report.sent[table] = cur.rowcount
+    # Only now that the server has committed: what was sent need not be looked at again.
+    with write(db):
+        for table, top in marks.items():
+            db.conn.execute("INSERT INTO sync_state (server_id, tbl, sent_rowid) VALUES (?, ?, ?) "
+                            "ON CONFLICT(server_id, tbl) DO UPDATE SET sent_rowid = excluded.sent_rowid",
+                            [sid, table, top])
+
+
+def _sendable_versions(conn, cols, rows, role, report):
+    """This technician's versions whose superseded version is on the server or sent with them; returns
+    (rows to send, rowid of the first held back or None).  Versions recorded by others that the server
+    lacks are counted (``not_mine``) and held too: they are looked at again until their author's laptop
+    has sent them."""
+    i_id, i_sup, i_by = cols.index("id") + 1, cols.index("supersedes") + 1, cols.index("recorded_by") + 1
+    mine = [r for r in rows if r[i_by] == role]
+    ids = {r[i_id] for r in mine}
+    outside = sorted({r[i_sup] for r in mine if r[i_sup] and r[i_sup] not in ids}
+                     | {r[i_id] for r in rows if r[i_by] != role})
+    on_server = set()
+    if outside:
+        on_server = {x[0] for x in conn.execute("SELECT id FROM reading WHERE id = ANY(%s)", [outside])}
+        conn.commit()
+    ok: set = set()
+    send, held = [], []
+    for r in rows:  # rowid order: a version comes after the one it supersedes
+        if r[i_by] != role:
+            if r[i_id] not in on_server:
+                report.not_mine += 1
+                held.append(r[0])
+            continue
+        sup = r[i_sup]
+        if sup is None or sup in on_server or sup in ok:
+            ok.add(r[i_id])
+            send.append(r)
+        else:
+            report.waiting += 1
+            held.append(r[0])
+    return send, (held[0] if held else None)
+
+
+def _receive(db, conn, sid: str, report: SyncReport) -> None:
+    from .merge import merge_file
+
+    state = _state(db, sid)
+    psycopg = _psycopg()
+    conn.isolation_level = psycopg.IsolationLevel.REPEATABLE_READ
+    got, marks = {}, {}
+    try:
+        with conn.transaction():
+            # Every transaction older than this one's xmin has ended: rows added later all have tx >= mark.
+            mark = str(conn.execute("SELECT pg_snapshot_xmin(pg_current_snapshot())").fetchone()[0])
+            for table in TABLES:
+                cols = _cols(db, table)
+                since = state.get(table, (0, "0"))[1] or "0"
+                got[table] = (cols, conn.execute(f"SELECT {', '.join(cols)} FROM {table} WHERE tx >= %s::xid8",
+                                                 [since]).fetchall())
+                marks[table] = mark
+    finally:
+        conn.isolation_level = None
+    if any(rows for _, rows in got.values()):
+        with tempfile.TemporaryDirectory(prefix="fieldpad-sync-") as tmp:
+            path = Path(tmp) / "from-server.db"
+            _write_snapshot(db, path, got)
+            rep = merge_file(db, path)
+        report.received = {t: rep.added.get(t, 0) for t in TABLES}
+    else:
+        report.received = dict.fromkeys(TABLES, 0)
+    with write(db):
+        for table, mark in marks.items():
+            db.conn.execute("INSERT INTO sync_state (server_id, tbl, received_tx) VALUES (?, ?, ?) "
+                            "ON CONFLICT(server_id, tbl) DO UPDATE SET received_tx = excluded.received_tx",
+                            [sid, table, mark])
+
+
+def _write_snapshot(db, path: Path, got: dict) -> None:
+    """The received rows as a fieldpad database file, with the rows they refer to that this laptop already
+    holds (so the file is whole by itself, as merge requires)."""
+    from .db import open_db
+
+    snap = open_db(path, create=True)
+    try:
+        # Rows arrive before the rows they refer to are filled in from the laptop: keys are checked after.
+        snap.conn.execute("PRAGMA foreign_keys=OFF")
+        with write(snap):
+            for table in TABLES:
+                cols, rows = got[table]
+                if rows:
+                    snap.conn.executemany(f"INSERT OR IGNORE INTO {table} ({', '.join(cols)}) VALUES "
+                                          f"({', '.join('?' * len(cols))})", rows)
+        _fill_parents(db, snap)
+        missing = snap.conn.execute("PRAGMA foreign_key_check").fetchall()
+        if missing:
+            raise ServerError(f"the server sent {len(missing)} row(s) whose board, site, round or earlier "
+                              "version it did not send: nothing was received (run 'fieldpad sync' again)")
+    finally:
+        snap.close()
+
+
+_PARENTS = (("board", "site_id", "site"), ("round", "site_id", "site"), ("reading", "board_id", "board"),
+            ("reading", "round_id", "round"), ("reading", "supersedes", "reading"))
+
+
+def _fill_parents(db, snap) -> None:
+    main_file = db.conn.execute("PRAGMA database_list").fetchone()[2]
+    from .access import read_only_uri
+
+    snap.conn.execute("ATTACH DATABASE ? AS laptop", [read_only_uri(Path(main_file))])
+    try:
+        with write(snap):
+            for _ in range(3):  # a board's site may be missing too: a few passes reach every ancestor
+                for child, fk, parent in reversed(_PARENTS):
+                    snap.conn.execute(
+                        f"INSERT OR IGNORE INTO main.{parent} SELECT * FROM laptop.{parent} WHERE id IN "
+                        f"(SELECT {fk} FROM main.{child} WHERE {fk} IS NOT NULL "
+                        f"AND {fk} NOT IN (SELECT id FROM main.{parent}))")
+    finally:
+        snap.conn.execute("DETACH DATABASE laptop")
+
+
+def fetch_all(url: str, dest: Path) -> Path:
+    """The whole crew record from the server as a fieldpad database file at ``dest`` (for export)."""
+    conn = connect(url)
+    try:
+        _check_schema(conn)
+        from .db import open_db
+
+        snap = open_db(dest, create=True)
+        try:
+            got = {}
+            with conn.transaction():
+                for table in TABLES:
+                    cols = _cols(snap, table)
+                    got[table] = (cols, conn.execute(f"SELECT {', '.join(cols)} FROM {table}").fetchall())
+            with write(snap):
+                for table in TABLES:
+                    cols, rows = got[table]
+                    if rows:
+                        snap.conn.executemany(f"INSERT INTO {table} ({', '.join(cols)}) VALUES "
+                                              f"({', '.join('?' * len(cols))})", rows)
+        finally:
+            snap.close()
+    finally:
+        conn.close()
+    return dest

@@ -1,0 +1,255 @@
+"""The crew's central PostgreSQL server, against a real server: a throwaway cluster (tests/pg_cluster.py)
+started for this module and stopped after it.  Skipped, with the reason, only where no PostgreSQL server
+binaries exist.  Scenario of our own: a cold store's two boards read by two technicians on two laptops."""
+from __future__ import annotations
+
+import os
+import secrets
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+from cli_runner import run_cli
+from conftest import BAL
+
+from fieldpad.storage import server, sites, versions
+from fieldpad.storage.db import open_db
+from fieldpad.storage.merge import merge_file
+
+psycopg = pytest.importorskip("psycopg", reason="psycopg (the 'server' extra) is not installed")
+pg_cluster = pytest.importorskip("pg_cluster")
+_BIN, _WHY = pg_cluster.find_binaries()
+pytestmark = pytest.mark.skipif(_BIN is None, reason=_WHY)
+
+TECHS = ("ana", "ben")
+SUPERVISOR = "sue"
+LAPTOP_TABLES = ("site", "board", "round", "reading")
+
+
+@pytest.fixture(scope="module")
+def cluster():
+    c = pg_cluster.Cluster(_BIN).start()
+    old = os.environ.get("PGPASSFILE")
+    os.environ["PGPASSFILE"] = str(c.passfile)
+    try:
+        with psycopg.connect(c.url(), autocommit=True) as conn:
+            for role in (*TECHS, SUPERVISOR):
+                pw = secrets.token_urlsafe(12)
+                conn.execute(f"CREATE ROLE {role} LOGIN PASSWORD '{pw}'")
+                c.add_password(role, pw)
+        yield c
+    finally:
+        if old is None:
+            os.environ.pop("PGPASSFILE", None)
+        else:
+            os.environ["PGPASSFILE"] = old
+        c.close()
+
+
+@pytest.fixture
+def crew_db(cluster):
+    """A fresh database for each test, initialised with `fieldpad server init`, roles granted as a crew's
+    IT would."""
+    name = "crew_" + secrets.token_hex(4)
+    with psycopg.connect(cluster.url(), autocommit=True) as conn:
+        conn.execute(f"CREATE DATABASE {name}")
+    url = cluster.url(database=name)
+    code, out, err = _cli("server", "init", "--server", url)
+    assert code == 0, err
+    assert "applied 0001_crew" in out
+    with psycopg.connect(url, autocommit=True) as conn:
+        for t in TECHS:
+            conn.execute(f"GRANT fieldpad_technician TO {t}")
+        conn.execute(f"GRANT fieldpad_supervisor TO {SUPERVISOR}")
+        conn.execute(f"GRANT CONNECT ON DATABASE {name} TO fieldpad_technician, fieldpad_supervisor")
+    return name
+
+
+def _cli(*args):
+    r = run_cli(*args)
+    return r.returncode, r.stdout, r.stderr
+
+
+def as_role(cluster, dbname, role):
+    return cluster.url(role, database=dbname)
+
+
+def laptop(tmp_path, name, board_names=("MDB-1",), site_id=None):
+    db = open_db(tmp_path / f"{name}.db")
+    sid = site_id or sites.create_site(db, "Cold Store East")
+    if site_id:
+        db["site"].insert(_site_row(sid))
+    boards = [sites.create_board(db, sid, b, system="wye", nominal_v=480) for b in board_names]
+    return db, sid, boards
+
+
+def _site_row(sid):
+    return {"id": sid, "name": "Cold Store East", "voltage_standard": "ansi", "phase_labels": "ABC",
+            "colour_set": "iec60445", "thresholds_json": "{}", "label_review_years": 5,
+            "created_at": "2026-12-02T08:00:00Z", "updated_at": "2026-12-02T08:00:00Z"}
+
+
+def content(db) -> dict:
+    """Every laptop table's rows, sorted: two databases hold the same records when these are equal."""
+    return {t: sorted(tuple(r) for r in db.conn.execute(f"SELECT * FROM {t}")) for t in LAPTOP_TABLES}
+
+
+def sync(db, url):
+    return server.sync(db, url)
+
+
+def test_init_is_idempotent_and_refuses_a_newer_schema(cluster, crew_db):
+    url = cluster.url(database=crew_db)
+    code, out, _ = _cli("server", "init", "--server", url)
+    assert code == 0 and "schema up to date (0001_crew)" in out
+    with psycopg.connect(url, autocommit=True) as conn:
+        conn.execute("INSERT INTO fieldpad_migrations (name) VALUES ('9999_from_the_future')")
+    code, _, err = _cli("server", "init", "--server", url)
+    assert code == 1 and "newer than this fieldpad" in err and "9999_from_the_future" in err
+
+
+def test_two_laptops_converge_and_a_second_sync_moves_nothing(cluster, crew_db, tmp_path):
+    a, sid, (b1,) = laptop(tmp_path, "ana")
+    # Ben's laptop got the site by a file merge earlier (same site id) and reads a second board.
+    b = open_db(tmp_path / "ben.db")
+    b["site"].insert(dict(next(a.query("SELECT * FROM site"))))
+    b2 = sites.create_board(b, sid, "DB-2", system="wye", nominal_v=208)
+    r1 = versions.save_reading(a, b1, BAL, technician="ana")
+    versions.save_reading(b, b2, {**BAL, "va": "120", "vb": "121", "vc": "119"}, technician="ben")
+    versions.correct_reading(a, r1.reading_id, {**BAL, "ia": "101"}, reason="clamp re-seated", by="ana")
+
+    ra = sync(a, as_role(cluster, crew_db, "ana"))
+    assert ra.sent == {"site": 1, "board": 1, "round": 0, "reading": 2}
+    rb = sync(b, as_role(cluster, crew_db, "ben"))
+    assert rb.sent["reading"] == 1 and rb.sent["site"] == 0  # the site was there already
+    assert rb.received["reading"] == 2 and rb.received["board"] == 1
+    ra2 = sync(a, as_role(cluster, crew_db, "ana"))
+    assert ra2.received["reading"] == 1 and ra2.received["board"] == 1
+    assert content(a) == content(b)
+    # Again: nothing new either way.
+    for db, who in ((a, "ana"), (b, "ben")):
+        rep = sync(db, as_role(cluster, crew_db, who))
+        assert sum(rep.sent.values()) == 0 and sum(rep.received.values()) == 0
+    # The current version is the correction on both laptops.
+    assert versions.current_version(b, r1.reading_id)["ia"] == 101.0
+    with psycopg.connect(as_role(cluster, crew_db, SUPERVISOR)) as conn:
+        assert conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0] == 3
+        assert sorted(r[0] for r in conn.execute("SELECT DISTINCT sent_by FROM reading")) == ["ana", "ben"]
+
+
+def test_versions_of_others_are_left_to_them(cluster, crew_db, tmp_path):
+    a, _sid, (b1,) = laptop(tmp_path, "ana")
+    versions.save_reading(a, b1, BAL, technician="ana")
+    versions.save_reading(a, b1, BAL, technician="ben")  # Ben used Ana's laptop without changing the name
+    rep = sync(a, as_role(cluster, crew_db, "ana"))
+    assert rep.sent["reading"] == 1 and rep.not_mine == 1
+    code, _out, err = _cli("sync", "--server", as_role(cluster, crew_db, "ana"), "--db", str(tmp_path / "ana.db"))
+    assert code == 0 and "recorded by others, not by ana" in err
+
+
+def test_a_correction_waits_for_the_version_it_corrects(cluster, crew_db, tmp_path):
+    a, _sid, (b1,) = laptop(tmp_path, "ana")
+    r = versions.save_reading(a, b1, BAL, technician="ben")  # Ben's, reached Ana's laptop by a file merge
+    versions.correct_reading(a, r.reading_id, {**BAL, "ia": "99"}, reason="typo", by="ana")
+    rep = sync(a, as_role(cluster, crew_db, "ana"))
+    assert rep.sent["reading"] == 0 and rep.waiting == 1
+    # Ben's laptop (which got Ana's file by `fieldpad merge`) sends his own version only; then Ana's goes.
+    bdb = open_db(tmp_path / "ben.db")
+    merge_file(bdb, tmp_path / "ana.db")
+    assert sync(bdb, as_role(cluster, crew_db, "ben")).sent["reading"] == 1
+    rep = sync(a, as_role(cluster, crew_db, "ana"))
+    assert rep.sent["reading"] == 1 and rep.waiting == 0
+
+
+def test_the_server_refuses_rewrites_and_impersonation(cluster, crew_db, tmp_path):
+    a, _sid, (b1,) = laptop(tmp_path, "ana")
+    versions.save_reading(a, b1, BAL, technician="ana")
+    sync(a, as_role(cluster, crew_db, "ana"))
+    row = next(a.query("SELECT * FROM reading"))
+    attacks = {
+        "update": "UPDATE reading SET ia = 1",
+        "delete": "DELETE FROM reading",
+        "truncate": "TRUNCATE reading",
+        "update a board": "UPDATE board SET af_ppe = '0'",
+        "impersonate (recorded_by)": ("INSERT INTO reading (id, reading_id, version, board_id, taken_at, void, "
+                                      "recorded_at, recorded_by, inputs_json, system, standard) VALUES "
+                                      f"('x1', 'x1', 1, '{row['board_id']}', 'now', 0, 'now', 'ben', '{{}}', "
+                                      "'wye', 'ansi')"),
+        "impersonate (sent_by)": ("INSERT INTO reading (id, reading_id, version, board_id, taken_at, void, "
+                                  "recorded_at, recorded_by, sent_by, inputs_json, system, standard) VALUES "
+                                  f"('x2', 'x2', 1, '{row['board_id']}', 'now', 0, 'now', 'ana', 'ben', '{{}}', "
+                                  "'wye', 'ansi')"),
+        "drop": "DROP TABLE reading",
+    }
+    refused = {}
+    for what, sql in attacks.items():
+        with psycopg.connect(as_role(cluster, crew_db, "ana")) as conn:
+            try:
+                conn.execute(sql)
+                conn.commit()
+                refused[what] = False
+            except psycopg.Error:
+                refused[what] = True
+    assert refused == dict.fromkeys(attacks, True)
+    with psycopg.connect(as_role(cluster, crew_db, SUPERVISOR)) as conn:
+        with pytest.raises(psycopg.errors.InsufficientPrivilege):
+            conn.execute("INSERT INTO site (id, name, voltage_standard, phase_labels, colour_set, thresholds_json,"
+                         " label_review_years, created_at, updated_at) VALUES ('s', 'x', 'ansi', 'ABC', 'x', '{}',"
+                         " 5, 'now', 'now')")
+    with psycopg.connect(cluster.url(database=crew_db)) as conn:
+        assert conn.execute("SELECT COUNT(*), MIN(ia) FROM reading").fetchone() == (1, 100.0)
+
+
+def test_server_down_is_a_clear_message_and_nothing_is_lost(cluster, crew_db, tmp_path):
+    a, _sid, (b1,) = laptop(tmp_path, "ana")
+    versions.save_reading(a, b1, BAL, technician="ana")
+    cluster.stop_server()
+    try:
+        code, _out, err = _cli("sync", "--server", as_role(cluster, crew_db, "ana"),
+                                   "--db", str(tmp_path / "ana.db"))
+    finally:
+        cluster.restart()
+    assert code == 1
+    assert "cannot reach the server" in err and "waits for the next sync" in err
+    assert "Traceback" not in err
+    rep = sync(a, as_role(cluster, crew_db, "ana"))
+    assert rep.sent["reading"] == 1
+
+
+def test_a_killed_sync_leaves_nothing_partial(cluster, crew_db, tmp_path):
+    a, _sid, (b1,) = laptop(tmp_path, "ana")
+    for i in range(300):
+        versions.save_reading(a, b1, {**BAL, "ia": str(90 + i % 20)}, technician="ana")
+    a.close()
+    env = {**cluster.env(), "PYTHONPATH": str(Path(__file__).resolve().parents[1])}
+    cmd = [sys.executable, "-m", "fieldpad.cli", "sync", "--server", as_role(cluster, crew_db, "ana"),
+           "--db", str(tmp_path / "ana.db")]
+    counts = set()
+    for delay in (0.05, 0.2, 0.4, 0.6, 0.9):
+        p = subprocess.Popen(cmd, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        time.sleep(delay)
+        p.send_signal(signal.SIGKILL)
+        p.wait()
+        with psycopg.connect(cluster.url(database=crew_db)) as conn:
+            counts.add(conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0])
+    assert counts <= {0, 300}  # all of a send or none of it
+    code = subprocess.run(cmd, env=env, capture_output=True, text=True)
+    assert code.returncode == 0, code.stderr
+    with psycopg.connect(cluster.url(database=crew_db)) as conn:
+        assert conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0] == 300
+
+
+def test_export_from_the_server_matches_the_laptops(cluster, crew_db, tmp_path):
+    a, _sid, (b1,) = laptop(tmp_path, "ana")
+    versions.save_reading(a, b1, BAL, technician="ana")
+    sync(a, as_role(cluster, crew_db, "ana"))
+    a.close()
+    code, from_laptop, _ = _cli("export", "--format", "csv", "--db", str(tmp_path / "ana.db"))
+    assert code == 0
+    code, from_server, err = _cli("export", "--format", "csv", "--server",
+                                      as_role(cluster, crew_db, SUPERVISOR))
+    assert code == 0, err
+    assert from_server == from_laptop and "MDB-1" in from_server
