@@ -5,7 +5,7 @@ The server only ever adds rows (db_schema/server/): a row is a laptop row with t
 twice is harmless.  A sync is
 
 1. **send**: the laptop's rows that the server lacks, in one server transaction per sync (COPY into a
-   temporary table, then ``INSERT ... WHERE NOT EXISTS``): all of it lands or none of it does.  Reading
+   temporary table, then ``INSERT ... ON CONFLICT DO NOTHING``): all of it lands or none of it does.  Reading
    versions are sent only by the technician who recorded them (the server refuses anything else, by
    row-level security), and only once the version each supersedes is on the server or sent with it.
 2. **receive**: the rows the server got since this laptop last asked, written into a temporary SQLite
@@ -150,6 +150,7 @@ class SyncReport:
     received: dict = field(default_factory=dict)     # table -> rows new to this laptop
     not_mine: int = 0        # reading versions recorded by someone else: theirs to send
     waiting: int = 0         # versions waiting for the version they supersede to reach the server
+    send_tx: str | None = None  # the server transaction that took this sync's rows
 
 
 def _cols(db, table: str) -> list[str]:
@@ -195,8 +196,11 @@ def sync(db, url: str) -> SyncReport:
             raise ServerError(f"the server refused: {_first_line(e)}. Nothing of this step was kept; "
                               "ask the server's administrator which role this login has") from None
         except psycopg.OperationalError as e:
-            raise ServerError(f"the connection to {shown_url(url)} was lost: {_first_line(e)}. What was not "
+            raise ServerError(f"the connection to the server {shown_url(url)} was lost: {_first_line(e)}. What was not "
                               "confirmed is sent again at the next sync; nothing is lost.") from None
+        except psycopg.Error as e:
+            raise ServerError(f"the server refused the sync: {_first_line(e)}. Nothing of the step it refused "
+                              "was kept; this laptop's records are unchanged.") from None
         from .ids import utc_now
 
         with write(db):
@@ -228,6 +232,8 @@ def _send(db, conn, sid: str, role: str, report: SyncReport) -> None:
         batches[table] = (cols, [r[1:] for r in rows])
         marks[table] = top
     with conn.transaction():
+        # This send's own transaction: the receive that follows need not bring its rows back.
+        report.send_tx = str(conn.execute("SELECT pg_current_xact_id()").fetchone()[0])
         for table in TABLES:
             cols, rows = batches[table]
             if not rows:
@@ -238,8 +244,8 @@ def _send(db, conn, sid: str, role: str, report: SyncReport) -> None:
             with conn.cursor().copy(f"COPY incoming_{table} ({col_sql}) FROM STDIN") as cp:
                 for r in rows:
                     cp.write_row(r)
-            cur = conn.execute(f"INSERT INTO {table} ({col_sql}) SELECT {col_sql} FROM incoming_{table} i "
-                               f"WHERE NOT EXISTS (SELECT 1 FROM {table} t WHERE t.id = i.id) "
+            # Rows the server has already (sent before, or by another laptop) are left as they are.
+            cur = conn.execute(f"INSERT INTO {table} ({col_sql}) SELECT {col_sql} FROM incoming_{table} "
                                "ON CONFLICT (id) DO NOTHING")
             report.sent[table] = cur.rowcount
     # Only now that the server has committed: what was sent need not be looked at again.
@@ -296,8 +302,9 @@ def _receive(db, conn, sid: str, report: SyncReport) -> None:
             for table in TABLES:
                 cols = _cols(db, table)
                 since = state.get(table, (0, "0"))[1] or "0"
-                got[table] = (cols, conn.execute(f"SELECT {', '.join(cols)} FROM {table} WHERE tx >= %s::xid8",
-                                                 [since]).fetchall())
+                got[table] = (cols, conn.execute(
+                    f"SELECT {', '.join(cols)} FROM {table} WHERE tx >= %s::xid8 AND tx <> %s::xid8",
+                    [since, report.send_tx or "0"]).fetchall())
                 marks[table] = mark
     finally:
         conn.isolation_level = None

@@ -253,7 +253,49 @@ def run_concurrent(tmp, seconds):
     figure("writes lost in that run", len(ids), len(ids - stored))
 
 
-# ---- 4-7. the rest, as pytest cases ----------------------------------------------------------
+# ---- 4. the crew on one central server ----------------------------------------------------------
+
+def run_crew(tmp):
+    sys.path.insert(0, str(Path(__file__).parents[1]))
+    try:
+        import pg_cluster
+        import psycopg  # noqa: F401
+    except ImportError as e:
+        figure(f"central server: not run ({e})", 0, 0)
+        return
+    if pg_cluster.find_binaries()[0] is None:
+        figure(f"central server: not run ({pg_cluster.find_binaries()[1]})", 0, 0)
+        return
+    from crew_sync import crew_test
+
+    folder = Path(tmp) / "crew"
+    folder.mkdir()
+    if QUICK:
+        r = crew_test(folder, laptops=5, per_laptop=300, seconds=10, kills=5)
+    else:
+        r = crew_test(folder, laptops=20, per_laptop=2000, seconds=60, kills=20)
+    c = r["concurrent"]
+    figure(f"central server: {c['laptops']} laptops saving, correcting, voiding and syncing at once for "
+           f"{c['seconds']:.0f} s ({c['versions']} versions, {c['syncs']} syncs): versions lost", c["versions"],
+           c["lost"])
+    figure("  doubled", c["versions"], c["doubled"])
+    figure("  laptops not holding the same record after two more syncs each", c["laptops"], c["diverged"])
+    figure("  syncs that failed while the server was up", c["syncs"], c["sync_failures"])
+    figure("  laptop databases failing the integrity check", c["laptops"], c["damaged"])
+    k = r["killed"]
+    figure("central server: syncs killed (SIGKILL) at random moments: sends left partial", k["kills"],
+           k["partial"], extra=f"then one sync: {k['lost']} not on the server, {k['damaged']} integrity problems")
+    figure("  versions lost after the next sync", k["kills"], k["lost"] + k["damaged"])
+    s = r["stopped"]
+    figure("central server: stopped in the middle of a sync: unclear messages (traceback, no word of the "
+           "server)", s["tries"], s["unclear"], extra=f"{s['interrupted']} sync(s) cut off; said: {s['message']!r}")
+    figure("  versions lost after the server came back and the next sync", s["tries"], s["lost"])
+    a = r["attacks"]
+    figure("central server: a technician's rewrite, delete, impersonation and privilege attempts not refused",
+           a["tried"], a["tried"] - a["refused"])
+
+
+# ---- 5-8. the rest, as pytest cases ----------------------------------------------------------
 
 CASES = [
     ("damaged/foreign/newer files, size-limit full, hostile text, safe files", ["tests/test_robustness.py"]),
@@ -293,6 +335,7 @@ def main():
         run_crash(tmp, 10 if QUICK else 50)
         run_second_open(tmp, 3 if QUICK else 10)
         run_concurrent(tmp, 8 if QUICK else 30)
+        run_crew(tmp)
     run_cases()
     print(f"robustness run took {time.perf_counter() - t0:.0f} s; figures that must be 0 and are not: "
           f"{len(FAILED)}", flush=True)
