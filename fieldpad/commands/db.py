@@ -45,4 +45,12 @@ def run(args) -> int:
         print(f"writable: no ({db.read_only_reason})")
     for k, v in versions.counts(db).items():
         print(f"{k}: {v}")
+    from ..storage.server import last_sync, pending_count
+
+    last = last_sync(db)
+    if last:
+        print(f"last sync: {last['synced_at']} with {printable(last['server'])} (sent {last['sent']}, "
+              f"received {last['received']})")
+        waiting = pending_count(db, None, any_author=True)
+        print(f"versions not yet sent: {waiting}")
     return 0

@@ -27,7 +27,7 @@ import tempfile
 from dataclasses import dataclass, field
 from importlib import resources
 from pathlib import Path
-from urllib.parse import urlsplit, urlunsplit
+from urllib.parse import urlsplit
 
 from .access import StorageError
 from .db import write
@@ -53,14 +53,22 @@ def server_url(url: str | None) -> str:
 
 
 def shown_url(url: str) -> str:
-    """The URL without any password in it, for messages and the laptop's record."""
+    """The address without any password in it (a URI's user:password@, a ``password=`` parameter, or a
+    ``password=`` keyword of a key=value string), for messages and the laptop's record."""
+    import re
+
+    if "://" not in url:
+        return re.sub(r"password\s*=\s*('(?:[^'\\]|\\.)*'|\S+)", "password=***", url)
     with contextlib.suppress(ValueError):
         parts = urlsplit(url)
+        netloc = parts.netloc
         if parts.password is not None:
-            host = parts.hostname or ""
-            netloc = (parts.username or "") + "@" + host + (f":{parts.port}" if parts.port else "")
-            return urlunsplit(parts._replace(netloc=netloc))
-    return url
+            userinfo, _, hostpart = netloc.rpartition("@")
+            netloc = userinfo.split(":", 1)[0] + "@" + hostpart
+        query = "&".join(q for q in parts.query.split("&") if q and not q.lower().startswith("password="))
+        return (f"{parts.scheme}://{netloc}{parts.path}" + (f"?{query}" if query else "")
+                + (f"#{parts.fragment}" if parts.fragment else ""))
+    return "(an address that could not be read)"
 
 
 def _psycopg():
@@ -162,11 +170,14 @@ def _state(db, sid: str) -> dict:
     return {t: (s, r) for t, s, r in rows}
 
 
-def pending_count(db, technician: str | None) -> int | None:
-    """Reading versions recorded by ``technician`` that no server has taken yet (None: never synced)."""
+def pending_count(db, technician: str | None, *, any_author: bool = False) -> int | None:
+    """Reading versions (recorded by ``technician``, or by anyone) that this laptop has not yet sent or seen
+    on a server; None where it never synced."""
     row = db.conn.execute("SELECT MAX(sent_rowid) FROM sync_state WHERE tbl = 'reading'").fetchone()
     if row[0] is None:
         return None
+    if any_author:
+        return db.conn.execute("SELECT COUNT(*) FROM reading WHERE rowid > ?", [row[0]]).fetchone()[0]
     return db.conn.execute("SELECT COUNT(*) FROM reading WHERE rowid > ? AND recorded_by IS ?",
                            [row[0], technician]).fetchone()[0]
 
@@ -321,6 +332,16 @@ def _receive(db, conn, sid: str, report: SyncReport) -> None:
             db.conn.execute("INSERT INTO sync_state (server_id, tbl, received_tx) VALUES (?, ?, ?) "
                             "ON CONFLICT(server_id, tbl) DO UPDATE SET received_tx = excluded.received_tx",
                             [sid, table, mark])
+            # Rows that came from the server need not be sent: where nothing else was added since the send,
+            # the send mark moves past them (so "not yet sent" counts only what really waits).
+            cols, rows = got[table]
+            came = {r[cols.index("id")] for r in rows}
+            sent_mark = db.conn.execute("SELECT sent_rowid FROM sync_state WHERE server_id = ? AND tbl = ?",
+                                        [sid, table]).fetchone()[0]
+            above = db.conn.execute(f"SELECT rowid, id FROM {table} WHERE rowid > ?", [sent_mark]).fetchall()
+            if above and all(i in came for _, i in above):
+                db.conn.execute("UPDATE sync_state SET sent_rowid = ? WHERE server_id = ? AND tbl = ?",
+                                [max(r for r, _ in above), sid, table])
 
 
 def _write_snapshot(db, path: Path, got: dict) -> None:
