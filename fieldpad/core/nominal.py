@@ -35,12 +35,10 @@ def deviation_pct(v, v_nominal):
 
 def status(v, v_nominal, standard=ANSI):
     """Range status code (see module docstring) for each voltage."""
-    (la, ha), (lb, hb) = LIMITS[standard]
     v = np.asarray(v, dtype=float)
     n = np.asarray(v_nominal, dtype=float)
     r = v / np.where(n > 0, n, np.nan)
-    code = np.where((r >= la) & (r <= ha), 0, np.where((r >= lb) & (r <= hb), 1, 2))
-    return np.where(np.isfinite(r), code, -1).astype(np.int8)
+    return status_of_ratio(r, standard == IEC)
 
 
 def status_of_ratio(ratio, iec):
