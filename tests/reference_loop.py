@@ -93,11 +93,15 @@ def analyse_one(r: dict) -> dict:
     nom = {208.0: 120.0, 480.0: 277.0}[r["nominal_v"]]  # ANSI C84.1-2020 Table 1's own bases (from memory)
     statuses = [_status(x / nom) for x in vm]
     codes = set()
+    lvur, pvur = out["lvur_pct"], out["pvur_pct"]
+    wye_shift = pvur > 5.0 and lvur <= 2.0  # star point moved, line-to-line balanced: not a lost phase
+    if lost and wye_shift:
+        lost = False  # (the rotation rule still counts it as collapsed: rotation unknown)
     if lost:
         codes.add("PHASE_LOST")
     if rot == "ACB":
         codes.add("ROTATION_REVERSED")
-    if not lost and (out["v0uf_pct"] > 5.0 or (out["pvur_pct"] > 5.0 and out["lvur_pct"] <= 2.0)):
+    if not lost and not in_phase and (out["v0uf_pct"] > 5.0 or wye_shift):
         codes.add("NEUTRAL_SHIFT")  # open or floating neutral
     if in_phase:
         codes.add("VOLTAGES_IN_PHASE")
@@ -115,31 +119,63 @@ def analyse_one(r: dict) -> dict:
         codes.add("LVUR_DERATE")
     if out["iur_pct"] > 10.0:
         codes.add("CURRENT_UNBALANCE")
-    neg = [x.real < 0 for x in s]
-    pos = [x.real > 0 for x in s]
-    pfs = [s[k].real / abs(s[k]) if abs(s[k]) > 0 else math.nan for k in range(3)]
-    ct_reversed = sum(neg) == 1 and sum(pos) == 2 and any(neg[k] and pfs[k] <= -0.25 for k in range(3))
+    # The wiring that brings every phase's V-I angle into PF 0.7 lagging .. 0.95 leading, current-weighted,
+    # by 20 degrees over as wired (fieldpad.core.wiring, written here again from its docstring).
+    hyp, out["_wiring_margins"] = "as wired", []
+    if not (lost or in_phase):
+        theta = [math.degrees(cmath.phase(v[k] * i[k].conjugate())) if abs(v[k] * i[k]) > 0 else 0.0
+                 for k in range(3)]
+        top = max(im)
+        w = [x / top if top > 0 else 0.0 for x in im]
+        sign = -1 if rot == "ACB" else 1
+        lag, lead = math.degrees(math.acos(0.7)), math.degrees(math.acos(0.95))
+
+        def outside(t):
+            t = (t + 180.0) % 360.0 - 180.0
+            return max(0.0, t - lag, -lead - t)
+
+        table = {"as wired": (0, 0, 0), "rev A": (180, 0, 0), "rev B": (0, 180, 0), "rev C": (0, 0, 180),
+                 "two A": (0, 180, 180), "two B": (180, 0, 180), "two C": (180, 180, 0),
+                 "all": (180, 180, 180), "rot on": (120, 120, 120), "rot back": (240, 240, 240),
+                 "swap AB": (120, 240, 0), "swap BC": (0, 120, 240), "swap CA": (240, 0, 120)}
+        pen = {h: sum(w[k] * outside(theta[k] - sign * sh[k]) for k in range(3)) for h, sh in table.items()}
+        best = min(pen, key=lambda h: (pen[h], list(table).index(h)))
+        ranked = sorted(pen.values())
+        out["_wiring_margins"] = [pen["as wired"] - pen[best] - 20.0, ranked[1] - ranked[0]]
+        if pen["as wired"] - pen[best] >= 20.0:
+            hyp = best
+        pfd = [math.cos(math.radians(t)) for t in theta]
+        if hyp.startswith("rev"):
+            out["_wiring_margins"].append(pfd["ABC".index(hyp[-1])] + 0.25)
+            if pfd["ABC".index(hyp[-1])] > -0.25:
+                hyp = "as wired"
+    ct_reversed = hyp.startswith("rev")
+    suspect = hyp not in ("as wired", "all")
     if ct_reversed:
         codes.add("CT_REVERSED")
-    if sum(neg[k] and pfs[k] <= -0.25 for k in range(3)) == 2 and sum(pos) == 1:
+    if hyp.startswith("two"):
         codes.add("CT_TWO_REVERSED")
-    if all(not math.isnan(x) for x in pfs) and max(pfs) <= 0.1:  # every phase's power negative or near zero
+    if hyp == "all":
+        codes.add("POWER_TO_SUPPLY")
+    if hyp.startswith("rot"):
         codes.add("CLAMPS_ROTATED")
+    if hyp.startswith("swap"):
+        codes.add("CLAMPS_SWAPPED")
     i_n = r.get("i_n")
     measured = i_n is not None and not math.isnan(i_n)
-    best = i_n if measured else out["i_n_calc"]
-    if max(im) > 0 and not (ct_reversed and not measured):
-        ratio = best / max(im)
+    best_n = i_n if measured else out["i_n_calc"]
+    if max(im) > 0 and not (suspect and not measured):
+        ratio = best_n / max(im)
         if ratio > 1.0:
             codes.add("NEUTRAL_OVERLOAD")
         elif ratio > 0.8:
             codes.add("NEUTRAL_HIGH")
-    if measured and not ct_reversed:
+    if measured and not suspect:
         diff = i_n - out["i_n_calc"]
         biggest = max(i_n, out["i_n_calc"])
         if biggest > 0 and abs(diff) > 0.2 * biggest and abs(diff) >= 1.0:
             codes.add("NEUTRAL_MISMATCH")
-    if rot != "unknown" and not ct_reversed:
+    if rot != "unknown" and not lost and not in_phase and not (ct_reversed or hyp.startswith(("two", "swap"))):
         i_rot = "ABC" if abs(i1) >= 2 * abs(i2) and abs(i1) > 0 else (
             "ACB" if abs(i2) >= 2 * abs(i1) and abs(i2) > 0 else "unknown")
         if i_rot != "unknown" and i_rot != rot:

@@ -50,9 +50,11 @@ def test_reversed_ct_on_one_phase():
 
 
 def test_current_clamps_on_wrong_phases():
-    # Currents in ACB order against ABC voltages (clamps B and C swapped), same lag.
+    # Currents in ACB order against ABC voltages (clamps B and C swapped), same lag: B's clamp reads C's
+    # current (+120° from B's own) and C's reads B's (-120°), A is right: the pair is named.
     (r,) = run({**BAL, "ib_deg": 90, "ic_deg": -150})
-    assert "CURRENT_SEQUENCE" in codes(r)
+    f = next(f for f in r["findings"] if f["code"] == "CLAMPS_SWAPPED")
+    assert f["phase"] == "B-C" and f["severity"] == "warning"
 
 
 def test_lost_phase():

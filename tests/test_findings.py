@@ -221,7 +221,7 @@ def test_neutral_above_highest_phase_is_never_an_alarm():
     assert severity(r, "NEUTRAL_OVERLOAD") == {"warning"}
     (r,) = run({**BAL, "ia": 4, "ib": 0.5, "ic": 0.5, "i_n": 5})
     assert severity(r, "NEUTRAL_OVERLOAD") == {"info"}
-    assert "compare it with the neutral conductor's rating" in finding(r, "NEUTRAL_OVERLOAD")["message"]
+    assert "compare it with the neutral conductor's rating" in finding(r, "NEUTRAL_OVERLOAD")["message"].lower()
 
 
 def test_light_phase_at_pf_minus_0_02_is_not_a_reversed_ct():
@@ -251,9 +251,15 @@ def test_clamps_moved_one_phase_on_are_named():
 def test_open_neutral_from_balanced_line_to_line_and_shifted_line_to_neutral():
     # Issue 12: line-to-line balanced at 480 V, line-to-neutral 217/311/311 (the star point moved toward A).
     # Magnitudes only: PVUR 22 % > 5 % with LVUR 0 % <= 2 % (fieldpad's own lines, common practice).
+    # 217 V is -21.7 % of 277 V, outside ANSI C84.1 Range B: the shift is then an alarm, shown before the
+    # out-of-range voltage it causes.
     (r,) = run({"va": 217, "vb": 311, "vc": 311, "vab": 480, "vbc": 480, "vca": 480, "nominal_v": 480})
     f = finding(r, "NEUTRAL_SHIFT")
-    assert f["severity"] == "warning" and "open or floating neutral" in f["message"]
+    assert f["severity"] == "alarm" and "open or floating neutral" in f["message"]
+    assert r["findings"][0]["code"] == "NEUTRAL_SHIFT"
+    # A smaller shift inside the range: a warning (PVUR 6 % > 5 %, LVUR 0 %).
+    (r,) = run({"va": 261, "vb": 285, "vc": 285, "vab": 480, "vbc": 480, "vca": 480, "nominal_v": 480})
+    assert finding(r, "NEUTRAL_SHIFT")["severity"] == "warning"
     (ok,) = run(BAL)
     assert "NEUTRAL_SHIFT" not in codes(ok)
 
@@ -264,3 +270,128 @@ def test_two_cts_reversed_say_polarity():
     f = finding(r, "CT_TWO_REVERSED")
     assert f["phase"] == "A" and "polarity" in f["message"]
     assert "CT_REVERSED" not in codes(r)
+
+
+# ---- checks that catch wiring, and the board inputs (issue 12 "What to build" 1 and 2) ----------
+
+def run_board(*records):
+    from fieldpad.core.readings import validate_record
+    from fieldpad.core.results import analyze_records
+    clean = []
+    for rec in records:
+        c, problems = validate_record(rec, board_inputs=True)
+        assert problems == []
+        clean.append(c)
+    return analyze_records(clean)
+
+
+DELTA = {"system": "delta", "nominal_v": 480, "vab": 480, "vbc": 480, "vca": 480, "vab_deg": 30, "vbc_deg": -90,
+         "vca_deg": 150, "ia": 100, "ib": 100, "ic": 100, "ia_deg": -30, "ib_deg": -150, "ic_deg": 90}
+
+
+def test_line_to_line_angles_that_cannot_close_are_named_and_vuf_from_magnitudes():
+    # Kirchhoff's voltage law: Vab + Vbc + Vca = 0. Vca typed at 120° instead of 150°: the sum is 2·480·sin 15°
+    # = 248 V, 52 % of 480 (margin 5 %, fieldpad's own).
+    (r,) = run({**DELTA, "vca_deg": 120})
+    f = finding(r, "LL_NOT_CLOSED")
+    assert f["severity"] == "warning" and f["value"] == pytest.approx(100 * 2 * 480 * 0.258819 / 480, abs=0.1)
+    assert r["basis"] == "line-to-line magnitudes only (line-to-neutral equivalent)" and r["vuf_pct"] == 0.0
+    (ok,) = run(DELTA)
+    assert "LL_NOT_CLOSED" not in codes(ok) and ok["findings"] == []
+
+
+def test_measured_line_to_line_against_derived_from_line_to_neutral():
+    # Vab = Va - Vb (definition): 277 V at 120° apart gives 479.8 V. B's lead on C: Vb reads Vc's 277 V at 120°.
+    (ok,) = run({**BAL, "vab": 480, "vbc": 480, "vca": 480})
+    assert "LL_MISMATCH" not in codes(ok)
+    (r,) = run({**BAL, "vb_deg": 120, "vab": 480, "vbc": 480, "vca": 480})
+    assert r["findings"][0]["code"] == "LL_MISMATCH" and "each voltage lead" in r["findings"][0]["message"]
+
+
+def test_three_wire_currents_must_sum_to_zero():
+    # Kirchhoff's current law on a 3-wire feed; Ic read at half (a clamp on the wrong range): |sum| = 50 A.
+    (r,) = run({**DELTA, "ic": 50})
+    f = finding(r, "CURRENT_SUM")
+    assert f["severity"] == "warning" and f["value"] == pytest.approx(50.0, abs=1e-6)
+    assert r["findings"][0]["code"] == "CURRENT_SUM"
+
+
+def test_all_cts_reversed_or_an_exporting_board_is_an_info():
+    (r,) = run({**BAL, "ia_deg": 150, "ib_deg": 30, "ic_deg": -90})
+    assert [f["code"] for f in r["findings"]] == ["POWER_TO_SUPPLY"]
+    assert r["findings"][0]["severity"] == "info" and "not a source" in r["findings"][0]["message"]
+
+
+def test_split_phase_lost_neutral_legs_80_160():
+    # Legs that still add up to 240 V but are 80/160: the neutral moved (issue 12), not a lost leg.
+    (r,) = run({"system": "split-phase", "nominal_v": 240, "va": 80, "vb": 160, "va_deg": 0, "vb_deg": 180})
+    assert r["findings"][0]["code"] == "NEUTRAL_SHIFT" and r["findings"][0]["severity"] == "alarm"
+    assert "PHASE_LOST" not in codes(r)
+    (r,) = run({"system": "split-phase", "nominal_v": 240, "va": 5, "vb": 120, "va_deg": 0, "vb_deg": 180})
+    assert "PHASE_LOST" in codes(r)
+
+
+def test_high_leg_delta_halves_100_140():
+    (r,) = run({"system": "high-leg-delta", "nominal_v": 240, "vab": 240, "vbc": 240, "vca": 240,
+                "va": 100, "vb": 208, "vc": 140})
+    f = finding(r, "NEUTRAL_SHIFT")
+    assert f["severity"] == "warning" and f["value"] == pytest.approx(100 * 20 / 120, abs=1e-4)
+
+
+def test_displacement_angle_is_an_alternative_to_absolute_current_angles():
+    # 30 lag on each phase is the same reading as BAL's absolute -30, -150, 90 (README "Board inputs").
+    rec = {k: v for k, v in BAL.items() if not k.startswith("i")}
+    (a,) = run_board({**rec, "ia": 100, "ib": 100, "ic": 100, "ia_vi_deg": "30 lag", "ib_vi_deg": "30 lag",
+                      "ic_vi_deg": "30 lag"})
+    (b,) = run(BAL)
+    for k in ("p_w", "q_var", "i1", "i2", "pf_b"):
+        assert a[k] == pytest.approx(b[k]), k
+    (d,) = run_board({**{k: v for k, v in DELTA.items() if not k.endswith(("a_deg", "b_deg", "c_deg"))
+                         or k.startswith("v")}, "ia_vi_deg": -30, "ib_vi_deg": -30, "ic_vi_deg": -30})
+    (e,) = run(DELTA)
+    assert d["p_w"] == pytest.approx(e["p_w"]) and d["findings"] == []
+
+
+def test_board_inputs_are_checked():
+    from fieldpad.core.readings import validate_record
+    _, problems = validate_record({**BAL, "rating_a": 0, "purpose": "pump", "ia_vi_deg": 10}, board_inputs=True)
+    fields = {f for f, _ in problems}
+    assert fields == {"rating_a", "purpose", "ia_vi_deg"}
+    _, problems = validate_record({**BAL, "rating_a": 100})
+    assert problems == [("rating_a", "unknown field")]  # only where the caller takes board inputs
+
+
+def test_neutral_against_its_rating():
+    # A neutral of 140 A over the highest phase (100 A): with a 200 A neutral rating nothing to flag as
+    # overload; over a 125 A rating an alarm.
+    k = {**BAL, "ia": 100, "ib": 10, "ic": 10, "i_n": 140}
+    (r,) = run_board({**k, "neutral_rating_a": 200})
+    assert "NEUTRAL_OVERLOAD" not in codes(r)
+    (r,) = run_board({**k, "neutral_rating_a": 125})
+    f = finding(r, "NEUTRAL_OVERLOAD")
+    assert f["severity"] == "alarm" and f["threshold"] == 125
+
+
+def test_expected_rotation_and_purpose():
+    acb = {**BAL, "vb_deg": 120, "vc_deg": -120, "ib_deg": 90, "ic_deg": -150}
+    (r,) = run_board({**acb, "expected_rotation": "acb"})
+    assert "ROTATION_REVERSED" not in codes(r)
+    (r,) = run_board({**BAL, "expected_rotation": "ACB"})
+    assert "ROTATION_REVERSED" in codes(r) and "not the ACB expected" in finding(r, "ROTATION_REVERSED")["message"]
+    # Current unbalance (12.5 % > 10 %, common practice): a warning on a motor feeder, an info on a panel;
+    # light load judged against the rating (below 10 % of 400 A).
+    unb = {**BAL, "ia": 100, "ib": 80, "ic": 100}
+    (m,) = run_board({**unb, "purpose": "motor"})
+    (p,) = run_board({**unb, "purpose": "distribution"})
+    (light,) = run_board({**unb, "purpose": "motor", "rating_a": 1200})
+    assert severity(m, "CURRENT_UNBALANCE") == {"warning"}
+    assert severity(p, "CURRENT_UNBALANCE") == {"info"} and severity(light, "CURRENT_UNBALANCE") == {"info"}
+
+
+def test_every_definition_says_what_to_check_and_never_that_it_is_safe():
+    from fieldpad.core.registry import REGISTRY
+    from fieldpad.core.thresholds import SOURCES
+    for d in REGISTRY.values():
+        assert d.source == "voltage" or d.source in SOURCES, d.code
+        assert "safe" not in (d.seen + d.check).lower(), d.code
+        assert d.check or d.code == "ROTATION_UNKNOWN", d.code  # its reason text says what to check

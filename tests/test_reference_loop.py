@@ -36,9 +36,8 @@ def test_vectorised_equals_plain_loop(rows):
                    abs(want["iur_pct"] - 10.0), abs(min(r[f"v{p}"] for p in "abc") / max(r[f"v{p}"] for p in "abc")
                                                      - 0.5),
                    max(want["v1"], want["v2"]) - 0.1 * want["v0"],  # in-phase rule (rotation.py rule 4)
-                   min(abs(want[f"pf_{p}"] + 0.25) for p in "abc"),  # reversed-CT margin
-                   max(want[f"pf_{p}"] for p in "abc") - 0.1,  # clamps rotated
-                   want["v0uf_pct"] - 5.0, want["pvur_pct"] - 5.0, want["lvur_pct"] - 2.0]  # neutral shift
+                   want["v0uf_pct"] - 5.0, want["pvur_pct"] - 5.0, want["lvur_pct"] - 2.0,  # neutral shift
+                   *want["_wiring_margins"]]  # the wiring hypothesis: its 20° margin, a tie, the PF margin
         # ... and degenerate sets with no rotating component at all (V1 = V2 = 0 up to rounding: 0/0).
         degenerate = max(want["v1"], want["v2"]) < 1e-9 * max(r[f"v{p}"] for p in "abc") or \
             max(want["i1"], want["i2"]) < 1e-9 * max(r[f"i{p}"] for p in "abc")

@@ -30,7 +30,7 @@ def check_input(data: bytes):
         if early and "__extra__" in rec:
             continue
         rec.pop(PROBLEMS_KEY, None)
-        c, probs = validate_record(rec)
+        c, probs = validate_record(rec, board_inputs=True)
         problems.extend(f"{where}: {field}: {reason}" for field, reason in probs)
         clean.append(c)
     parsed.records = None  # free the raw records before the analysis

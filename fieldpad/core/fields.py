@@ -25,3 +25,15 @@ NUMERIC_FIELDS = (
     + ("i_n",)
 )
 
+
+#: Inputs beside the stored reading fields (``fieldpad compute``; README "Board inputs"): the board's main and
+#: neutral ratings in A, and each phase's current angle from its own voltage (V-I displacement, degrees,
+#: counter-clockwise positive: ``30 lag`` is -30), an alternative to the absolute ``i*_deg``.
+RATING_FIELDS = ("rating_a", "neutral_rating_a")
+VI_FIELDS = ("ia_vi_deg", "ib_vi_deg", "ic_vi_deg")
+#: Board purpose (text in a record, a code in the analysis column ``purpose``; 0 or NaN: not given).
+PURPOSES = {"distribution": 1, "motor": 2}
+#: The site's expected rotation (text in a record, a code in the column ``expected_rotation``; ABC by default).
+EXPECTED_ROTATIONS = {"abc": 1, "acb": -1}
+#: Every column :func:`fieldpad.core.analysis.analyze` reads (missing ones are taken as not entered).
+ANALYSIS_COLUMNS = NUMERIC_FIELDS + RATING_FIELDS + VI_FIELDS + ("purpose", "expected_rotation")

@@ -5,7 +5,8 @@ Each finding is a dict with ``code``, ``severity`` (``alarm``, ``warning`` or
 equipment is safe), ``value`` and ``threshold`` (numbers or None), ``unit``,
 ``phase`` (the phase label or None) and ``source`` (where the threshold
 comes from).  The masks are computed vectorised by
-:func:`fieldpad.core.analysis.analyze`; this module only words them.
+:func:`fieldpad.core.analysis.analyze`; each finding's wording and order are its definition's in
+:mod:`fieldpad.core.registry`; this module only words them.
 """
 from __future__ import annotations
 
@@ -14,79 +15,13 @@ import math
 import numpy as np
 
 from .analysis import Analysis
-from .rotation import REASON_TEXT
+from .registry import ORDER, REGISTRY
+from .rotation import REASON_TEXT, ROTATION_NAMES
 from .thresholds import SOURCES
 
 SEVERITY_ORDER = {"alarm": 0, "warning": 1, "info": 2}
-
-MESSAGES = {
-    "PHASE_LOST": "Phase {ph} is far below the others: check for a lost phase (blown fuse, open breaker pole, "
-                  "loose or burnt connection) before energising motors.",
-    "ROTATION_REVERSED": "Phase rotation is A-C-B (reverse). Motors will run backwards: check for two swapped "
-                         "supply leads or meter leads before energising.",
-    "ROTATION_UNKNOWN": "Phase rotation not determined: {reason}.",
-    "VOLTAGES_IN_PHASE": "The three voltages are in phase (no rotating component), which no three-phase supply "
-                         "gives: check that each voltage lead is on its own phase and that every angle was read "
-                         "against the same reference. Rotation not determined.",
-    "VOLTAGE_OUT_OF_RANGE": "Voltage on {ph} is {value:+.1f} % from nominal, outside the {std} limits: check the "
-                            "nominal entered, the transformer tap and the supply.",
-    "VOLTAGE_RANGE_B": "Voltage on {ph} is {value:+.1f} % from nominal: outside ANSI Range A, inside Range B. "
-                       "Acceptable only occasionally; report to whoever manages the supply.",
-    "VOLTAGE_NO_RANGE": "Nominal {value:g} V is not among the system voltages whose limits fieldpad knows for "
-                        "this standard (ANSI C84.1 Table 1 low voltage; IEC 60038 100-1000 V): voltage not "
-                        "compared with a range. Check the nominal entered, and the supply's own limits.",
-    "VUF_HIGH": "Voltage unbalance factor {value:.2f} % exceeds {threshold:g} %: look for unequal single-phase "
-                "loading or a supply problem.",
-    "LVUR_EXCESSIVE": "Line-voltage unbalance {value:.2f} % exceeds {threshold:g} %: motor operation not "
-                      "recommended (NEMA MG 1). Find the cause before running motors.",
-    "LVUR_DERATE": "Line-voltage unbalance {value:.2f} % exceeds {threshold:g} %: three-phase motors on this "
-                   "board need derating (factor {derating}).",
-    "CURRENT_UNBALANCE": "Current unbalance {value:.1f} % exceeds {threshold:g} %: check the load distribution "
-                         "across phases and for a high-resistance connection (uneven single-phase loads are "
-                         "normal on a distribution board).",
-    "NEUTRAL_OVERLOAD": "Neutral current {value:.1f} A exceeds the highest phase current: compare it with the "
-                        "neutral conductor's rating (often triplen harmonics add in the neutral) and check the "
-                        "neutral terminations.",
-    "NEUTRAL_HIGH": "Neutral current {value:.1f} A is high for the phase currents: check the phase loading "
-                    "balance and for harmonic loads.",
-    "NEUTRAL_MISMATCH": "Measured neutral differs from the phasor sum of the phases by {value:+.1f} A: triplen "
-                        "harmonics add in the neutral and are not in a fundamental-phasor sum; also check for a "
-                        "shared neutral or a CT on the wrong conductor.",
-    "CT_REVERSED": "Power on {ph} is negative while the other phases are positive: a CT or current lead on {ph} "
-                   "is probably reversed.",
-    "CT_TWO_REVERSED": "Power is negative on the two phases other than {ph}: two CTs or current leads are "
-                       "probably reversed (polarity). Check the direction of those two clamps or CTs "
-                       "(arrow toward the load).",
-    "CLAMPS_ROTATED": "Power on every phase is negative or near zero (highest PF {value:.2f}): check that each "
-                      "current clamp is on the phase of its voltage lead (clamps moved one phase on: A's on B, "
-                      "B's on C, C's on A), then the clamps' direction (all reversed), and whether the board "
-                      "is fed from this side (a source or exporting board shows the same).",
-    "NEUTRAL_SHIFT": "Line-to-neutral voltages are unequal ({value:.1f} % from their average) while the "
-                     "line-to-line voltages are balanced: the neutral point has moved. Check for an open or "
-                     "floating neutral (loose or burnt neutral termination, neutral-earth bond) before "
-                     "loading single-phase equipment.",
-    "CURRENT_SEQUENCE": "Currents rotate opposite to the voltages: a current clamp or CT is probably on the wrong "
-                        "phase; check each clamp against its voltage lead.",
-    "HIGH_LEG_POSITION": "The high leg is on {ph}, not on B where North American practice puts it: check the "
-                         "marking (orange) and the panel's phase arrangement against the local code.",
-    "HIGH_LEG_NOT_FOUND": "No leg reads about 0.87 of line-to-line with the other two adding up to line-to-line: "
-                          "no high leg found. Check the system type entered (high-leg delta) and the meter leads "
-                          "to the centre-tapped neutral.",
-    "MAGNITUDE_ONLY": "No angles entered: unbalance from magnitudes only (IEC 61000-4-30 formula); rotation, "
-                      "power and the phasor neutral need angles.",
-}
-
-SOURCE_KEY = {
-    "PHASE_LOST": "collapse_ratio", "ROTATION_REVERSED": "rotation", "ROTATION_UNKNOWN": "rotation",
-    "VOLTAGES_IN_PHASE": "in_phase_ratio",
-    "VUF_HIGH": "vuf_pct", "LVUR_EXCESSIVE": "lvur_max_pct", "LVUR_DERATE": "lvur_pct",
-    "CURRENT_UNBALANCE": "iur_pct", "NEUTRAL_OVERLOAD": "neutral_overload_ratio",
-    "NEUTRAL_HIGH": "neutral_ratio", "NEUTRAL_MISMATCH": "neutral_mismatch_ratio",
-    "CT_REVERSED": "ct_reversed", "CLAMPS_ROTATED": "clamps_rotated", "CT_TWO_REVERSED": "ct_reversed",
-    "NEUTRAL_SHIFT": "neutral_shift", "CURRENT_SEQUENCE": "rotation", "HIGH_LEG_POSITION": "high_leg",
-    "HIGH_LEG_NOT_FOUND": "high_leg_ratio",
-    "MAGNITUDE_ONLY": "rotation",
-}
+#: code -> the threshold source key (a key of SOURCES; "voltage" by the reading's standard).
+SOURCE_KEY = {code: d.source for code, d in REGISTRY.items()}
 
 
 def phase_label(ph: int, labels=("A", "B", "C")):
@@ -116,12 +51,14 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
 
     Returns
     -------
-    list of list of dict, sorted by severity within each reading.
+    list of list of dict, within each reading by severity, then the definition's priority.
     """
     out: list[list[dict]] = [[] for _ in range(result.n)]
     std = np.zeros(result.n, np.int8) if standards is None else np.asarray(standards)
     derating = result["derating"]
     reason = result["rotation_reason"]
+    rcode = result["rotation"]
+    expected = result.finding_field(result.values.get("expected_rotation", 1))
     for code, severity, mask, value, threshold, unit, phase in result.findings:
         if not mask.any():
             continue
@@ -129,14 +66,17 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
         for i in np.flatnonzero(mask):
             ph = int(phase[i])
             iec = bool(std[i] == 1)
-            src_key = SOURCE_KEY.get(code) or ("voltage_iec" if iec else "voltage_ansi")
-            msg = MESSAGES[code].format(
+            d = REGISTRY[code]
+            src_key = ("voltage_iec" if iec else "voltage_ansi") if d.source == "voltage" else d.source
+            text = f"{d.seen} {d.check}" if d.check else d.seen
+            msg = text.format(
                 ph=phase_label(ph, labels) or "?",
                 value=float(value[i]) if np.isfinite(value[i]) else float("nan"),
                 threshold=float(threshold[i]) if np.isfinite(threshold[i]) else float("nan"),
                 derating=f"{derating[i]:.2f}" if np.isfinite(derating[i]) else "n/a",
                 reason=REASON_TEXT.get(int(reason[i]), ""),
                 std="IEC 60038" if iec else "ANSI C84.1 Range B",
+                rot=ROTATION_NAMES[int(rcode[i])], expected=ROTATION_NAMES[int(expected[i])],
             )
             out[i].append({
                 "code": code,
@@ -149,5 +89,5 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
                 "source": SOURCES[src_key],
             })
     for lst in out:
-        lst.sort(key=lambda f: SEVERITY_ORDER[f["severity"]])
+        lst.sort(key=lambda f: ORDER[f["code"], f["severity"]])
     return out

@@ -22,7 +22,16 @@ import numpy as np
 
 def neutral_phasor(currents):
     """Phasor sum of the phase currents, shape (..., k) -> (...), amps."""
-    return np.asarray(currents).sum(axis=-1)
+    c = np.asarray(currents)
+    return neutral_phasor_cols(*np.moveaxis(c, -1, 0))
+
+
+def neutral_phasor_cols(*currents):
+    """:func:`neutral_phasor` with each phase as its own array (what the analysis calls)."""
+    out = np.asarray(currents[0], dtype=complex)
+    for c in currents[1:]:
+        out = out + c
+    return out
 
 
 def neutral_estimate_3ph(ia, ib, ic):

@@ -4,7 +4,10 @@ The limits are fractions of the nominal voltage (service voltage, systems up
 to 600 V):
 
 * ANSI C84.1-2020, Table 1: Range A 0.95 … 1.05 (114–126 V on a 120 V base);
-  Range B 0.917 … 1.058 (110–127 V on a 120 V base).  From memory.
+  Range B 0.917 … 1.058 (110–127 V on a 120 V base).  From memory: the stored public pages searched
+  hold the standard's scope and trade discussion of Range A and B (service voltage; Range B for limited
+  excursions, prompt corrective action outside it) but no copy of Table 1's values, so every value
+  below stays marked "from memory".
 * IEC 60038:2009 clause 4 (a.c. systems 100–1000 V): supply voltage within
   ±10 % of the nominal voltage under normal operating conditions.
 
@@ -35,12 +38,10 @@ def deviation_pct(v, v_nominal):
 
 def status(v, v_nominal, standard=ANSI):
     """Range status code (see module docstring) for each voltage."""
-    (la, ha), (lb, hb) = LIMITS[standard]
     v = np.asarray(v, dtype=float)
     n = np.asarray(v_nominal, dtype=float)
     r = v / np.where(n > 0, n, np.nan)
-    code = np.where((r >= la) & (r <= ha), 0, np.where((r >= lb) & (r <= hb), 1, 2))
-    return np.where(np.isfinite(r), code, -1).astype(np.int8)
+    return status_of_ratio(r, standard == IEC)
 
 
 def status_of_ratio(ratio, iec):

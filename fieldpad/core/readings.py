@@ -25,7 +25,18 @@ import re
 
 import numpy as np
 
-from .fields import I_PH, NUMERIC_FIELDS, STANDARDS, SYSTEMS, V_LL, V_LN
+from .fields import (
+    EXPECTED_ROTATIONS,
+    I_PH,
+    NUMERIC_FIELDS,
+    PURPOSES,
+    RATING_FIELDS,
+    STANDARDS,
+    SYSTEMS,
+    V_LL,
+    V_LN,
+    VI_FIELDS,
+)
 from .nominal import ANSI, IEC
 
 VOLTS, AMPS, DEGREES = "V", "A", "deg"
@@ -46,6 +57,10 @@ for _f in I_PH:
 
 #: Every field ``fieldpad compute`` accepts (public contract), plus ``standard``.
 READING_FIELDS = ("system",) + NUMERIC_FIELDS + ("standard",)
+#: Board inputs (README "Board inputs"): accepted where the caller asks (``board_inputs=True``:
+#: ``fieldpad compute``), not stored with a reading.
+BOARD_FIELD_KIND = {**{f: AMPS for f in RATING_FIELDS}, **{f: DEGREES for f in VI_FIELDS}}
+BOARD_TEXT_FIELDS = {"purpose": PURPOSES, "expected_rotation": EXPECTED_ROTATIONS}
 
 #: Nominal voltages that are IEC-world values; any other nominal defaults to ANSI.
 IEC_NOMINALS = {220.0, 230.0, 380.0, 400.0, 415.0, 660.0, 690.0, 1000.0}
@@ -154,7 +169,7 @@ def default_standard(nominal_v) -> str:
     return IEC if nominal_v is not None and float(nominal_v) in IEC_NOMINALS else ANSI
 
 
-def validate_record(record: dict, extra_fields=()) -> tuple[dict, list[tuple[str, str]]]:
+def validate_record(record: dict, extra_fields=(), board_inputs: bool = False) -> tuple[dict, list[tuple[str, str]]]:
     """Check one reading record.
 
     Parameters
@@ -163,6 +178,8 @@ def validate_record(record: dict, extra_fields=()) -> tuple[dict, list[tuple[str
         Field name -> value (text or number); missing or empty means not entered.
     extra_fields : iterable of str
         Further field names the caller accepts and keeps as text (e.g. ``site``).
+    board_inputs : bool
+        Also accept the board inputs (:data:`BOARD_FIELD_KIND`, ``purpose``, ``expected_rotation``).
 
     Returns
     -------
@@ -174,8 +191,9 @@ def validate_record(record: dict, extra_fields=()) -> tuple[dict, list[tuple[str
     problems: list[tuple[str, str]] = []
     clean: dict = {}
     extra = set(extra_fields)
+    board = set(BOARD_FIELD_KIND) | set(BOARD_TEXT_FIELDS) if board_inputs else set()
     for key in record:
-        if key not in FIELD_KIND and key not in ("system", "standard") and key not in extra:
+        if key not in FIELD_KIND and key not in ("system", "standard") and key not in extra and key not in board:
             problems.append((_field_name(key), "unknown field"))
     system = record.get("system")
     system = "wye" if system is None or str(system).strip() == "" else str(system).strip().lower()
@@ -214,6 +232,8 @@ def validate_record(record: dict, extra_fields=()) -> tuple[dict, list[tuple[str
             problems.append(("vab,vbc,vca", f"{a:g}, {b:g}, {c:g} V cannot form a triangle (each line-to-line "
                                             "voltage must be at most the sum of the other two): "
                                             "re-read the line-to-line voltages"))
+    if board_inputs:
+        _board_inputs(record, clean, problems)
     std = record.get("standard")
     std = None if std is None or str(std).strip() == "" else str(std).strip().lower()
     if std is not None and std not in STANDARDS:
@@ -221,6 +241,31 @@ def validate_record(record: dict, extra_fields=()) -> tuple[dict, list[tuple[str
         std = None
     clean["standard"] = std or default_standard(clean["nominal_v"])
     return clean, problems
+
+
+def _board_inputs(record: dict, clean: dict, problems: list) -> None:
+    for name, kind in BOARD_FIELD_KIND.items():
+        try:
+            clean[name] = parse_value(record.get(name), kind)
+        except ReadingError as e:
+            problems.append((name, str(e)))
+            clean[name] = None
+    for name in RATING_FIELDS:
+        if clean[name] is not None and clean[name] <= 0:
+            problems.append((name, "a rating must be above 0 A"))
+    for f, vi in zip(I_PH, VI_FIELDS):
+        if clean[vi] is not None and _empty(record.get(f)):
+            problems.append((vi, f"displacement given without its magnitude {f}"))
+        if clean[vi] is not None and clean[f + "_deg"] is not None:
+            problems.append((vi, f"give either {f}_deg (against the reference) or {vi} (against its own "
+                                 "voltage), not both"))
+    for name, choices in BOARD_TEXT_FIELDS.items():
+        v = record.get(name)
+        v = None if v is None or str(v).strip() == "" else str(v).strip().lower()
+        if v is not None and v not in choices:
+            problems.append((name, f"unknown {name.replace('_', ' ')} {v!r} (use one of: {', '.join(choices)})"))
+            v = None
+        clean[name] = v
 
 
 def records_to_columns(clean_records: list[dict]):
@@ -234,6 +279,12 @@ def records_to_columns(clean_records: list[dict]):
     cols = {}
     for name in NUMERIC_FIELDS:
         cols[name] = np.array([r.get(name) for r in clean_records], dtype=float).reshape(n)
+    for name in BOARD_FIELD_KIND:
+        if any(r.get(name) is not None for r in clean_records):
+            cols[name] = np.array([r.get(name) for r in clean_records], dtype=float).reshape(n)
+    for name, choices in BOARD_TEXT_FIELDS.items():
+        if any(r.get(name) is not None for r in clean_records):
+            cols[name] = np.array([choices.get(r.get(name), np.nan) for r in clean_records], dtype=float).reshape(n)
     system = np.array([SYSTEMS[r.get("system") or "wye"] for r in clean_records], dtype=np.int8).reshape(n)
     standard = np.array([STANDARDS[r.get("standard") or ANSI] for r in clean_records], dtype=np.int8).reshape(n)
     return cols, system, standard

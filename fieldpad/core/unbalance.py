@@ -61,14 +61,24 @@ def vuf(seq):
     equals the IEC definition whenever the rotation is ABC.
     """
     s = np.abs(np.asarray(seq))
-    return _ratio_pct(np.fmin(s[..., 1], s[..., 2]), np.fmax(s[..., 1], s[..., 2]))
+    return vuf_cols(s[..., 1], s[..., 2])
+
+
+def vuf_cols(x1_abs, x2_abs):
+    """:func:`vuf` from |X1| and |X2| as arrays (what the analysis calls)."""
+    return _ratio_pct(np.fmin(x1_abs, x2_abs), np.fmax(x1_abs, x2_abs))
 
 
 def v0uf(seq):
     """Zero-sequence unbalance factor ``100·|X0|/|X1|`` in percent (X1 the
     dominant of the two rotating sequences, as in :func:`vuf`)."""
     s = np.abs(np.asarray(seq))
-    return _ratio_pct(s[..., 0], np.fmax(s[..., 1], s[..., 2]))
+    return v0uf_cols(s[..., 0], s[..., 1], s[..., 2])
+
+
+def v0uf_cols(x0_abs, x1_abs, x2_abs):
+    """:func:`v0uf` from |X0|, |X1|, |X2| as arrays (what the analysis calls)."""
+    return _ratio_pct(x0_abs, np.fmax(x1_abs, x2_abs))
 
 
 def max_deviation_pct(magnitudes):
