@@ -173,18 +173,18 @@ def _zone_text(times: list[str]) -> str:
     for t in times or [utc_now()]:
         dt = datetime.fromisoformat(t.replace("Z", "+00:00")).astimezone()
         off = dt.strftime("%z")
-        text = f"{dt.tzname()} (UTC{off[:3]}:{off[3:]})" if dt.tzname() not in (None, off) else f"UTC{off[:3]}:{off[3:]}"
+        utc = f"UTC{off[:3]}:{off[3:]}"
+        text = f"{dt.tzname()} ({utc})" if dt.tzname() not in (None, off) else utc
         if text not in seen:
             seen.append(text)
     return " and ".join(seen)
 
 
-def to_html(db, records: list[dict], *, day=None, site=None, today: date | None = None) -> str:
-    """The report for the current readings ``records`` (from ``export_records``) of ``day`` / ``site``."""
+def record_context(db, records: list[dict], *, day=None, site=None) -> dict:
+    """What the report and the spreadsheet add to the export records: the sites, the stored current versions
+    (void ones too, for round ids and voids), the sign-offs and the rounds of the same day / site."""
     from .export import day_range_utc
 
-    # Labels are judged on the day reported (or today for an undated report): the same report, the same words.
-    on = date.fromisoformat(day) if day else (today or date.today())
     start, end = day_range_utc(day) if day else (None, None)
     site_by_name: dict = {}
     if site:
@@ -194,8 +194,6 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
     for rec in records:
         if rec["site"] not in site_by_name:
             site_by_name[rec["site"]] = sites.find_site(db, rec["site"])
-
-    # The stored current versions (void ones too) for the same filter: round, who recorded, voids.
     stored = {}
     voids: dict = defaultdict(list)
     for s in site_by_name.values():
@@ -204,8 +202,6 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
             stored[row["reading_id"]] = row
             if row["void"]:
                 voids[(row["site_name"], row["board_name"])].append(row)
-
-    # Sign-offs and rounds of each site in the report.
     signoffs, round_rows = [], {}
     for s in site_by_name.values():
         if day:
@@ -218,12 +214,54 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
         if row["round_id"] and row["round_id"] not in round_rows:
             round_rows[row["round_id"]] = rounds_store.get_round(db, row["round_id"])
     signoffs.sort(key=lambda so: so["signed_at"])
+    return {"site_by_name": site_by_name, "stored": stored, "voids": voids, "signoffs": signoffs,
+            "round_rows": round_rows}
 
-    def after_signoff(row, version) -> dict | None:
-        return signoff_store.signed_before(signoffs, site_id=row["site_id"], round_id=row["round_id"],
-                                           taken_at=version["taken_at"], recorded_at=version["recorded_at"])
 
+def after_signoff(ctx: dict, row: dict, version: dict) -> dict | None:
+    """The sign-off covering ``row``'s reading that was signed before ``version`` was recorded, or None."""
+    return signoff_store.signed_before(ctx["signoffs"], site_id=row["site_id"], round_id=row["round_id"],
+                                       taken_at=version["taken_at"], recorded_at=version["recorded_at"])
+
+
+def version_trail(db, ctx: dict, tfmt: str = "%Y-%m-%d %H:%M") -> tuple[dict, dict]:
+    """Every correction and void of the stored readings, by (site, board), oldest reading first; and which
+    readings were added, corrected or voided after a sign-off (reading_id -> words)."""
+    by_board: dict = defaultdict(list)
+    late: dict = {}
+    for row in sorted(ctx["stored"].values(), key=lambda x: x["taken_at"]):
+        if row["version"] == 1:
+            if after_signoff(ctx, row, row):
+                late[row["reading_id"]] = "added after sign-off"
+            continue
+        prev = None
+        for v in versions.history(db, row["reading_id"]):
+            if prev is None and after_signoff(ctx, row, v):
+                late[row["reading_id"]] = "added after sign-off"
+            if prev is not None:
+                so = after_signoff(ctx, row, v)
+                if so and row["reading_id"] not in late:
+                    late[row["reading_id"]] = "voided after sign-off" if v["void"] else "corrected after sign-off"
+                by_board[(row["site_name"], row["board_name"])].append({
+                    "site": row["site_name"], "board": row["board_name"], "taken_at": row["taken_at"],
+                    "taken": local_text(row["taken_at"], tfmt), "version": v["version"],
+                    "changes": changes(prev, v) or ["no value changed"], "reason": v["reason"],
+                    "by": v["recorded_by"], "recorded_at": v["recorded_at"], "recorded": local_text(v["recorded_at"]),
+                    "void": bool(v["void"]), "after_signoff": signoff_store.describe(so) if so else None,
+                })
+            prev = v
+    return by_board, late
+
+
+def to_html(db, records: list[dict], *, day=None, site=None, today: date | None = None) -> str:
+    """The report for the current readings ``records`` (from ``export_records``) of ``day`` / ``site``."""
+    # Labels are judged on the day reported (or today for an undated report): the same report, the same words.
+    on = date.fromisoformat(day) if day else (today or date.today())
+    ctx = record_context(db, records, day=day, site=site)
+    site_by_name, voids, signoffs, round_rows = (ctx["site_by_name"], ctx["voids"], ctx["signoffs"],
+                                                 ctx["round_rows"])
     tfmt = "%H:%M" if day else "%Y-%m-%d %H:%M"
+    trail, late = version_trail(db, ctx, tfmt)
     by_board: dict = defaultdict(list)
     for rec in records:
         by_board[(rec["site"], rec["board"])].append(rec)
@@ -244,29 +282,7 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
             summary[sev]["readings"] += len(hits)
             if hits:
                 summary[sev]["boards"].append(title)
-        corrections, late = [], {}
-        for row in sorted(stored.values(), key=lambda x: x["taken_at"]):
-            if (row["site_name"], row["board_name"]) != (site_name, board_name):
-                continue
-            if row["version"] == 1:
-                if after_signoff(row, row):
-                    late[row["reading_id"]] = "added after sign-off"
-                continue
-            prev = None
-            for v in versions.history(db, row["reading_id"]):
-                if prev is None and after_signoff(row, v):
-                    late[row["reading_id"]] = "added after sign-off"
-                if prev is not None:
-                    so = after_signoff(row, v)
-                    if so and row["reading_id"] not in late:
-                        late[row["reading_id"]] = "voided after sign-off" if v["void"] else "corrected after sign-off"
-                    corrections.append({
-                        "taken": local_text(row["taken_at"], tfmt), "version": v["version"],
-                        "changes": changes(prev, v) or ["no value changed"], "reason": v["reason"],
-                        "by": v["recorded_by"], "recorded": local_text(v["recorded_at"]), "void": bool(v["void"]),
-                        "after_signoff": signoff_store.describe(so) if so else None,
-                    })
-                prev = v
+        corrections = trail.get((site_name, board_name), [])
         rows = []
         for r in sorted(recs, key=lambda r: r["taken_at"]):
             res, inp = r["results"], r["inputs"]
@@ -286,7 +302,7 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
         void_rows = []
         for v in sorted(voids.get((site_name, board_name), []), key=lambda x: x["taken_at"]):
             vals = {k: v[k] for k in NUMERIC_FIELDS if v.get(k) is not None}
-            so = after_signoff(v, v)
+            so = after_signoff(ctx, v, v)
             void_rows.append({
                 "taken": local_text(v["taken_at"], tfmt), "technician": v["technician"],
                 "entered": (_entered(vals, ("va", "vb", "vc")) or _entered(vals, ("vab", "vbc", "vca")))
