@@ -131,7 +131,7 @@ def neutral_parts(inputs: dict, results: dict) -> list[tuple[str, str]]:
     return out
 
 
-def _short(message: str) -> str:
+def short_finding(message: str) -> str:
     """The first statement of a finding's message (before what to check)."""
     head = message.split(": ", 1)[0]
     return head if len(head) < len(message) else message
@@ -167,7 +167,7 @@ def changes(old: dict | None, new: dict) -> list[str]:
     return out
 
 
-def _zone_text(times: list[str]) -> str:
+def zone_text(times: list[str]) -> str:
     """The local time zone the report's times are in, with its UTC offset(s) on those times."""
     seen = []
     for t in times or [utc_now()]:
@@ -320,7 +320,7 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
             "name": title, "anchor": anchor, "location": b["location"] if b else None,
             "last": f"{local_text(latest['taken_at'], tfmt)}, {latest['technician'] or '—'}" if latest else
             "no current reading (voided only)",
-            "worst": worst, "worst_short": _short(worst["message"]) if worst else "",
+            "worst": worst, "worst_short": short_finding(worst["message"]) if worst else "",
             "worst_when": local_text(worst_rec["taken_at"], tfmt) if worst_rec and len(recs) > 1 else "",
             "more": len(all_findings) - 1 if worst else 0,
             "label": label_text, "label_bad": label_bad, "readings": len(recs), "voids": len(void_rows),
@@ -345,7 +345,7 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
     site_title = site or (", ".join(site_by_name) if site_by_name else "no readings")
     return _ENV.get_template("report.html.j2").render(
         site_title=site_title, day=day, generated=local_text(utc_now(), "%Y-%m-%d %H:%M"), version=__version__,
-        zone=_zone_text(times), crew=", ".join(crew), rounds=round_list,
+        zone=zone_text(times), crew=", ".join(crew), rounds=round_list,
         signoffs=[{"scope": signoff_store.scope_text(so), "by": so["signed_by"],
                    "at": local_text(so["signed_at"]), "note": so["note"]} for so in signoffs],
         summary=summary, table=table, boards=boards,
