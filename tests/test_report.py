@@ -71,7 +71,7 @@ def test_html_is_well_formed_escaped_and_self_contained(report_db):
     assert p.errors == [] and p.stack == []
     assert "<script>" not in html and "&lt;script&gt;" in html
     assert "<b>1</b>" not in html and "<i>note</i>" not in html
-    assert p.tags.count("svg") == 2  # one phasor drawing per board
+    assert p.tags.count("svg") == 1  # a phasor drawing for the board with angles; none for magnitudes only
     urls = [v for k, v in p.attrs if k in ("href", "src") and v and not re.fullmatch(r"#board-\d+", v)]
     assert urls == []  # only links within the page (board table -> board section)
     assert not re.search(r"https?://(?!www\.w3\.org/2000/svg)", html)  # only the SVG namespace name

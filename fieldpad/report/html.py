@@ -117,6 +117,16 @@ def _arrows(inputs: dict, labels, colours):
     return arrows
 
 
+def _svg(latest, labels, colours, title):
+    """The phasor drawing of the board's latest reading; none where no angle was entered (nothing to draw)."""
+    if latest is None:
+        return None
+    arrows = _arrows(latest["inputs"], labels, colours)
+    if not any(a[1] is not None and a[2] is not None for a in arrows):
+        return None
+    return phasor_svg(arrows, 200, latest["results"]["rotation"], f"phasor diagram of {title}, latest reading")
+
+
 def neutral_parts(inputs: dict, results: dict) -> list[tuple[str, str]]:
     """The neutral current of a reading as ``(value text, kind)`` pairs, kind ``m`` measured, ``c`` computed
     (phasor sum of the phase currents), ``e`` estimated (from magnitudes only): a measured neutral is never
@@ -332,14 +342,14 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
             "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
             "label": _label(b, s["label_review_years"], on) if b else "—",
             "readings": rows, "voids": void_rows, "corrections": corrections,
-            "svg": phasor_svg(_arrows(latest["inputs"], labels, colours), 200, latest["results"]["rotation"],
-                              f"phasor diagram of {title}, latest reading") if latest else None,
+            "svg": _svg(latest, labels, colours, title),
         })
     crew = sorted({r["technician"] for r in records if r["technician"]})
     round_list = []
     for r in sorted((r for r in round_rows.values() if r), key=lambda r: r["started_at"]):
-        span = local_text(r["started_at"], tfmt) + "–" + (local_text(r["finished_at"], tfmt)
-                                                          if r["finished_at"] else "not finished")
+        def when(t):  # a round that began or ended on another day than the report's: with its date
+            return local_text(t, tfmt if day and local_text(t, "%Y-%m-%d") == day else "%Y-%m-%d %H:%M")
+        span = when(r["started_at"]) + "–" + (when(r["finished_at"]) if r["finished_at"] else "not finished")
         round_list.append({"name": rounds_store.round_name(r), "span": span, "technician": r["technician"],
                            "signed": [so for so in signoffs if so["round_id"] == r["id"]]})
     site_title = site or (", ".join(site_by_name) if site_by_name else "no readings")

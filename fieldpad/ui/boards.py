@@ -310,7 +310,7 @@ class BoardList(Screen):
         self.reload()
 
     def _ask_round_name(self) -> None:
-        """A new round's name or purpose; Enter keeps the suggested "Round N — date time"."""
+        """A new round's name or purpose; Enter alone gives it the suggested "Round N — date time"."""
         from .dialogs import AskText
 
         app = self.app
@@ -325,8 +325,8 @@ class BoardList(Screen):
             except StorageError as e:
                 self.notify(f"NOT SAVED: the round was not started: {e}", severity="error", timeout=12)
             self.reload()
-        app.push_screen(AskText("Start a round. Its name or purpose (Enter keeps the suggestion):",
-                                required=False, value=suggested), named)
+        app.push_screen(AskText(f"Start a round: type its name or purpose.\nEnter alone calls it: "
+                                f"{markup_safe(suggested)}", placeholder=suggested, required=False), named)
 
     def action_sites(self) -> None:
         def chosen(sid):

@@ -40,12 +40,12 @@ def _f(x, fmt="{:.2f}"):
 class DayReview(Screen):
     BINDINGS = [
         Binding("f", "findings_only", "Findings only"),
+        Binding("s", "sign_off", "Sign off"),
         Binding("b", "filter_board", "Board"),
         Binding("t", "filter_tech", "Technician"),
         Binding("o", "sort", "Sort"),
         Binding("left_square_bracket", "day(-1)", "Prev day"),
         Binding("right_square_bracket", "day(1)", "Next day"),
-        Binding("s", "sign_off", "Sign off"),
         Binding("c", "compare", "Compare rounds"),
         Binding("x", "export", "Export"),
         Binding("escape", "back", "Back"),
@@ -121,7 +121,7 @@ class DayReview(Screen):
         self.query_one("#review-title", Static).update(title)
         self.query_one("#review-signoff", Static).update(self._signoff_line())
         self.query_one("#review-hint", Static).update(
-            "Enter: reading in full · [ ]: day · s: sign off · c: compare · x: export · F1: help" if self.records
+            "Enter: in full · [ ]: day · s: sign off · c: compare · x: export · F1: help" if self.records
             else "No readings on this day: [ and ] change the day.")
 
     def _load_signoffs(self, site) -> None:
