@@ -314,6 +314,10 @@ class BoardList(Screen):
         from .dialogs import AskText
 
         app = self.app
+        if app.db.read_only:  # say so now, not after a name has been typed
+            self.notify(f"NOT SAVED: the round was not started: the database is read-only "
+                        f"({app.db.read_only_reason})", severity="error", timeout=12)
+            return
         suggested = rounds.default_label(app.db, app.site_id)
 
         def named(text) -> None:
