@@ -48,6 +48,7 @@ class DayReview(Screen):
         Binding("right_square_bracket", "day(1)", "Next day"),
         Binding("c", "compare", "Compare rounds"),
         Binding("x", "export", "Export"),
+        Binding("f1", "help", "Help"),
         Binding("escape", "back", "Back"),
     ]
 
@@ -249,6 +250,10 @@ class DayReview(Screen):
 
     def action_export(self) -> None:
         self.app.push_screen(ExportDialog(self.day.isoformat()))
+
+    def action_help(self) -> None:
+        from .dialogs import help_page
+        self.app.push_screen(help_page())
 
     def action_back(self) -> None:
         self.app.pop_screen()
