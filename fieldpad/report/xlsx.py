@@ -51,11 +51,11 @@ READING_COLUMNS = [
     ("Current unbalance computed (%)", ("res", "iur_pct"), PCT, 10),
     ("Rotation computed", ("res", "rotation"), "text", 9),
     ("P computed (kW)", ("res", "p_w", 1e-3), "0.00", 10), ("Q computed (kvar)", ("res", "q_var", 1e-3), "0.00", 10),
-    ("S computed (kVA)", ("res", "s_va", 1e-3), "0.00", 10), ("PF computed", ("res", "pf"), "0.000", 8),
-    ("Motor derating factor computed", ("res", "derating"), "0.00", 9),
+    ("S computed (kVA)", ("res", "s_va", 1e-3), "0.00", 10), ("PF computed", ("res", "pf"), "0.000", 10),
+    ("Motor derating factor computed", ("res", "derating"), "0.00", 11),
     ("Worst finding", ("worst",), "text", 10), ("Findings", ("findings",), "wrap", 60),
     ("Version", ("meta", "version"), "0", 7), ("After sign-off", ("late",), "text", 14),
-    ("Note", ("meta", "note"), "text", 24), ("Reading id", ("meta", "reading_id"), "text", 12),
+    ("Note", ("meta", "note"), "text", 24), ("Reading id", ("meta", "reading_id"), "text", 38),
 ]
 
 
@@ -150,7 +150,7 @@ def _fill(wb, db, records, *, day, site) -> None:
         for c, (name, width) in enumerate(names_widths):
             ws.write_string(0, c, name, head)
             ws.set_column(c, c, width)
-        ws.set_row(0, 45)
+        ws.set_row(0, 60)
         ws.freeze_panes(1, 0)
         ws.set_landscape()
         ws.set_paper(9)  # A4; a printer set to Letter scales it
