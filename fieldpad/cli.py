@@ -39,11 +39,21 @@ def build_parser() -> argparse.ArgumentParser:
     e = sub.add_parser("export", parents=[db_opt], help="current readings with results and findings")
     e.add_argument("--day", metavar="YYYY-MM-DD", help="readings taken on this local day")
     e.add_argument("--site", metavar="NAME")
-    e.add_argument("--format", choices=("csv", "json", "html"), required=True)
-    e.add_argument("-o", "--output", metavar="FILE", help="write to FILE (default: standard output)")
+    e.add_argument("--format", choices=("csv", "json", "html", "xlsx"), required=True)
+    e.add_argument("-o", "--output", metavar="FILE", help="write to FILE (default: standard output; "
+                   "xlsx needs a FILE)")
     e.add_argument("--server", metavar="URL", help="export the crew's records from this PostgreSQL server "
                    "instead of this laptop's database")
     e.set_defaults(command_module="export")
+
+    so = sub.add_parser("signoff", parents=[db_opt], help="sign off a day or a round (a record of its own)")
+    so.add_argument("--day", metavar="YYYY-MM-DD", help="the local day to sign off (with --round: narrows the "
+                    "round's name to that day's rounds)")
+    so.add_argument("--round", metavar="ID", help="the round to sign off: its id, or its name exactly")
+    so.add_argument("--by", metavar="NAME", required=True, help="the supervisor's name")
+    so.add_argument("--note", metavar="TEXT")
+    so.add_argument("--site", metavar="NAME", help="the site (needed when the database holds several)")
+    so.set_defaults(command_module="signoff")
 
     m = sub.add_parser("merge", parents=[db_opt], help="bring in the records of other fieldpad databases")
     m.add_argument("others", nargs="+", metavar="OTHER.db")

@@ -1,4 +1,4 @@
-"""``fieldpad export``: current readings with results and findings as CSV, JSON or the HTML report."""
+"""``fieldpad export``: current readings with results and findings as CSV, JSON, the HTML report or a workbook."""
 from __future__ import annotations
 
 import sys
@@ -24,6 +24,9 @@ def run(args) -> int:
             _dt.date.fromisoformat(args.day)
         except ValueError:
             return report_problems([f"--day: {args.day!r} is not a date (YYYY-MM-DD)"])
+    if args.format == "xlsx" and (not args.output or args.output == "-"):
+        return report_problems(["--format xlsx: give the file to write with -o FILE.xlsx (a workbook is not "
+                                "text for standard output); nothing was written"])
     out_path = None
     if args.output and args.output != "-":
         from ..storage.files import check_target
@@ -37,6 +40,12 @@ def run(args) -> int:
         return report_problems([f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
                                  f"(sites: {names}); nothing was written"])
     records = export_records(db, day=args.day, site=args.site)
+    if args.format == "xlsx":
+        from ..report.xlsx import write_xlsx
+
+        write_xlsx(db, records, out_path, day=args.day, site=args.site, protect=(resolve_path(args.db),))
+        print(f"wrote {len(records)} reading(s) to {out_path}", file=sys.stderr)
+        return 0
     if args.format == "csv":
         text = to_csv(records)
     elif args.format == "json":

@@ -45,7 +45,9 @@ def phasor_svg(arrows, size: int = 220, rotation: str | None = None, title: str 
         lx, ly = c + (length + 12) * math.cos(a), c - (length + 12) * math.sin(a)
         out.append(f'<text x="{lx:.1f}" y="{ly + 4:.1f}" font-size="12" font-weight="bold" text-anchor="middle" '
                    f'fill="#222" stroke="#fff" stroke-width="3" paint-order="stroke">{escape(label)}</text>')
-    legend = "V solid, I dashed; own scales" + (f"; rotation {rotation}" if rotation else "")
-    out.append(f'<text x="4" y="{size - 4}" font-size="9" fill="#555">{escape(legend)}</text>')
+    out.append(f'<text x="4" y="{size - (15 if rotation else 4)}" font-size="9" fill="#555">'
+               'V solid, I dashed; own scales</text>')
+    if rotation:
+        out.append(f'<text x="4" y="{size - 4}" font-size="9" fill="#555">rotation {escape(rotation)}</text>')
     out.append("</svg>")
     return "".join(out)

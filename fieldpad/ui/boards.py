@@ -245,7 +245,8 @@ class BoardList(Screen):
         title = f"[b]{markup_safe(site['name'])}[/b] — boards"
         if rnd:
             done, total = rounds.round_progress(app.db, rnd)
-            title += f" · round: {done}/{total} boards read"
+            name = rounds.round_name(rounds.get_round(app.db, rnd))
+            title += f" · {markup_safe(name[:32] + ('…' if len(name) > 32 else ''))}: {done}/{total} boards read"
         else:
             title += " · no round (r: start one)"
         if app.db.read_only:
@@ -301,12 +302,35 @@ class BoardList(Screen):
                 app.round_id = None
                 self.notify(f"Round finished: {done} of {total} boards read.")
             else:
-                app.round_id = rounds.start_round(app.db, app.site_id, app.technician)
-                self.notify("Round started: readings saved now belong to it.")
+                self._ask_round_name()
+                return
         except StorageError as e:
             self.notify(f"NOT SAVED: the round was not {'finished' if app.round_id else 'started'}: {e}",
                         severity="error", timeout=12)
         self.reload()
+
+    def _ask_round_name(self) -> None:
+        """A new round's name or purpose; Enter alone gives it the suggested "Round N — date time"."""
+        from .dialogs import AskText
+
+        app = self.app
+        if app.db.read_only:  # say so now, not after a name has been typed
+            self.notify(f"NOT SAVED: the round was not started: the database is read-only "
+                        f"({app.db.read_only_reason})", severity="error", timeout=12)
+            return
+        suggested = rounds.default_label(app.db, app.site_id)
+
+        def named(text) -> None:
+            if text is None:
+                return
+            try:
+                app.round_id = rounds.start_round(app.db, app.site_id, app.technician, label=text or suggested)
+                self.notify(f"Round started: {printable(text or suggested)}. Readings saved now belong to it.")
+            except StorageError as e:
+                self.notify(f"NOT SAVED: the round was not started: {e}", severity="error", timeout=12)
+            self.reload()
+        app.push_screen(AskText(f"Start a round: type its name or purpose.\nEnter alone calls it: "
+                                f"{markup_safe(suggested)}", placeholder=suggested, required=False), named)
 
     def action_sites(self) -> None:
         def chosen(sid):

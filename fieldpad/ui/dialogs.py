@@ -17,7 +17,8 @@ HELP = """\
 [b]Board list[/b]
   Enter   open the board's reading sheet
   n / e   new board / edit board (arc-flash label data too)
-  r       start or finish a round      h   board history
+  r       start (named) or finish a round
+  h       board history
   v       day review                   s   sites
   q       quit
 
@@ -37,6 +38,8 @@ HELP = """\
   f  findings only    b / t  filter by board / technician
   o  change the sort  [ ]    previous / next day
   Enter  a reading in full;  c  compare rounds;  x  export
+  s  sign off the day or a round (name, note): a record
+     of its own; * marks a reading changed after it
 
 [b]Typing values[/b]
   277  277.5  277,5  277V  13.8kV  12A

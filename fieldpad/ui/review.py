@@ -5,6 +5,7 @@ import time
 from datetime import date, timedelta
 from pathlib import Path
 
+from rich.markup import escape as markup_escape
 from rich.text import Text
 from textual import work
 from textual.app import ComposeResult
@@ -13,8 +14,9 @@ from textual.containers import Vertical
 from textual.screen import ModalScreen, Screen
 from textual.widgets import DataTable, ProgressBar, Static
 
-from ..report.export import export_records
-from ..storage import rounds, sites, versions
+from ..report.export import day_range_utc, export_records
+from ..storage import rounds, signoffs, sites, versions
+from ..storage.db import StorageError
 from ..storage.ids import local_text
 from .dialogs import AskText, TextPage
 from .key_strip import KeyStrip
@@ -38,6 +40,7 @@ def _f(x, fmt="{:.2f}"):
 class DayReview(Screen):
     BINDINGS = [
         Binding("f", "findings_only", "Findings only"),
+        Binding("s", "sign_off", "Sign off"),
         Binding("b", "filter_board", "Board"),
         Binding("t", "filter_tech", "Technician"),
         Binding("o", "sort", "Sort"),
@@ -45,6 +48,7 @@ class DayReview(Screen):
         Binding("right_square_bracket", "day(1)", "Next day"),
         Binding("c", "compare", "Compare rounds"),
         Binding("x", "export", "Export"),
+        Binding("f1", "help", "Help"),
         Binding("escape", "back", "Back"),
     ]
 
@@ -55,10 +59,13 @@ class DayReview(Screen):
         self.tech_filter = ""
         self.sort = 0
         self.records: list = []
+        self.signoffs: list = []
+        self.late: dict = {}  # reading_id -> the sign-off a later version of it came after
 
     def compose(self) -> ComposeResult:
         yield Static(id="review-title")
         yield DataTable(id="review", cursor_type="row", zebra_stripes=True)
+        yield Static(id="review-signoff")
         yield Static(id="review-hint")
         yield KeyStrip()
 
@@ -87,13 +94,16 @@ class DayReview(Screen):
             shown.sort(key=lambda r: -(r["results"][f] if r["results"][f] is not None else -1))
         else:
             shown.sort(key=lambda r: r["taken_at"])
+        self._load_signoffs(site)
         t = self.query_one(DataTable)
         t.clear()
         for r in shown:
             res = r["results"]
             w = r["findings"][0] if r["findings"] else None
-            t.add_row(local_text(r["taken_at"], "%H:%M"), printable(r["board"]), printable(r["technician"])[:14],
-                      printable(r["round"]), _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
+            taken = local_text(r["taken_at"], "%H:%M")
+            t.add_row(Text(taken + "*", f"bold {WARN}") if r["reading_id"] in self.late else taken,
+                      printable(r["board"]), printable(r["technician"])[:14],
+                      _short(printable(r["round"]), 12), _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
                       _f(_neutral(r), "{:.0f}"),
                       Text(f"{w['severity'].upper()} {w['code']}", f"bold {ALARM}" if w["severity"] == "alarm"
                            else WARN if w["severity"] == "warning" else INFO) if w else "",
@@ -110,9 +120,36 @@ class DayReview(Screen):
         if filters:
             title.append(" · " + ", ".join(filters))
         self.query_one("#review-title", Static).update(title)
+        self.query_one("#review-signoff", Static).update(self._signoff_line())
         self.query_one("#review-hint", Static).update(
-            "Enter: reading in full · [ ]: day · c: compare rounds · x: export · F1: help" if self.records
+            "Enter: in full · [ ]: day · s: sign off · c: compare · x: export · F1: help" if self.records
             else "No readings on this day: [ and ] change the day.")
+
+    def _load_signoffs(self, site) -> None:
+        """The sign-offs of this day and its rounds, and which readings changed after one of them."""
+        start, end = day_range_utc(self.day.isoformat())
+        self.signoffs = signoffs.signoffs_for_range(self.app.db, site["id"], start, end)
+        self.late = {}
+        if not self.signoffs:
+            return
+        for row in versions.current_readings(self.app.db, day_start_utc=start, day_end_utc=end,
+                                             site_id=site["id"]):
+            for v in versions.history(self.app.db, row["reading_id"]) if row["version"] > 1 else [row]:
+                so = signoffs.signed_before(self.signoffs, site_id=site["id"], round_id=row["round_id"],
+                                            taken_at=v["taken_at"], recorded_at=v["recorded_at"])
+                if so:
+                    self.late[row["reading_id"]] = so
+                    break
+
+    def _signoff_line(self) -> Text:
+        if not self.signoffs:
+            return Text("Not signed off · s: sign off the day or a round", WARN)
+        t = Text("Signed off: ", "bold")
+        t.append(" · ".join(f"{printable(signoffs.scope_text(so))} by {printable(so['signed_by'])} "
+                            f"{local_text(so['signed_at'], '%m-%d %H:%M')}" for so in self.signoffs))
+        if self.late:
+            t.append(f"  * {len(self.late)} changed after sign-off", f"bold {WARN}")
+        return t
 
     def _selected(self):
         rid = selected_key(self.query_one(DataTable))
@@ -131,9 +168,18 @@ class DayReview(Screen):
         t.append("\n")
         t.append_text(findings_text(rec["findings"], detail=True))
         t.append("\nVersions:\n", "bold")
+        site = sites.get_site(self.app.db, self.app.site_id)
         for v in versions.history(self.app.db, rec["reading_id"]):
             t.append(f"  v{v['version']} {local_text(v['recorded_at'])} by {printable(v['recorded_by']) or '—'}"
-                     + (f": {printable(v['reason'])}" if v["reason"] else "") + "\n")
+                     + (f": {printable(v['reason'])}" if v["reason"] else ""))
+            so = signoffs.signed_before(self.signoffs, site_id=site["id"], round_id=v["round_id"],
+                                        taken_at=v["taken_at"], recorded_at=v["recorded_at"])
+            if so:
+                t.append(f" — {'corrected' if v['version'] > 1 else 'added'} after sign-off "
+                         f"({printable(signoffs.describe(so))})", f"bold {WARN}")
+            t.append("\n")
+        if rec["round"]:
+            t.append(f"\nRound: {printable(rec['round'])}\n")
         self.app.push_screen(TextPage(t, "Reading in full"))
 
     def action_findings_only(self) -> None:
@@ -162,14 +208,85 @@ class DayReview(Screen):
         self.day += timedelta(days=step)
         self.reload()
 
+    def action_sign_off(self) -> None:
+        """Sign off the day or one of its rounds: what, then who (the app's technician suggested), then a note."""
+        if self.app.db.read_only:
+            self.notify(f"NOT SAVED: the database is read-only ({self.app.db.read_only_reason})",
+                        severity="error", timeout=12)
+            return
+        site = sites.get_site(self.app.db, self.app.site_id)
+        start, end = day_range_utc(self.day.isoformat())
+        choices = [("the whole day " + self.day.isoformat(), {"day": self.day.isoformat()})]
+        choices += [(f"round “{rounds.round_name(r)}”", {"round_id": r["id"]})
+                    for r in rounds.rounds_of_day(self.app.db, site["id"], start, end)][:9]
+
+        def chosen(pick) -> None:
+            if pick is None:
+                return
+            what, scope = choices[pick]
+
+            def named(name) -> None:
+                if name is None:
+                    return
+
+                def noted(note) -> None:
+                    if note is None:
+                        return
+                    try:
+                        signoffs.sign_off(self.app.db, site["id"], by=name, note=note or None, **scope)
+                    except StorageError as e:
+                        self.notify(f"NOT SAVED: the sign-off was not recorded: {e}", severity="error", timeout=12)
+                        return
+                    self.notify(f"Signed off {what} by {printable(name)}.")
+                    self.reload()
+                self.app.push_screen(AskText(f"Sign off {what}: a note (optional, Enter to sign):",
+                                             required=False), noted)
+            self.app.push_screen(AskText(f"Sign off {what}. Signed by (your name):", "name (required)",
+                                         value=self.app.technician or ""), named)
+        self.app.push_screen(SignOffScope([c[0] for c in choices]), chosen)
+
     def action_compare(self) -> None:
         self.app.push_screen(RoundCompare())
 
     def action_export(self) -> None:
         self.app.push_screen(ExportDialog(self.day.isoformat()))
 
+    def action_help(self) -> None:
+        from .dialogs import help_page
+        self.app.push_screen(help_page())
+
     def action_back(self) -> None:
         self.app.pop_screen()
+
+
+def _short(text: str, width: int) -> str:
+    return text if len(text) <= width else text[: width - 1] + "…"
+
+
+class SignOffScope(ModalScreen[int | None]):
+    """What to sign off: the day (d) or one of its rounds (1-9); Esc cancels."""
+
+    BINDINGS = [Binding("escape", "pick(-1)", "Cancel"), Binding("d", "pick(0)", "The day", show=False),
+                *[Binding(str(k), f"pick({k})", f"Round {k}", show=False) for k in range(1, 10)]]
+
+    def __init__(self, choices: list[str]) -> None:
+        super().__init__()
+        self.choices = choices
+
+    def compose(self) -> ComposeResult:
+        lines = [f"[b]d[/b]  {markup_escape(self.choices[0])}"]
+        lines += [f"[b]{k}[/b]  {markup_escape(printable(c))}" for k, c in enumerate(self.choices[1:], start=1)]
+        with Vertical(classes="dialog"):
+            yield Static("Sign off what? A sign-off is a record of its own: no reading is changed.",
+                         classes="question")
+            yield Static("\n".join(lines))
+            yield Static("a key from the list · Esc cancel", classes="hint")
+
+    def action_pick(self, k: int) -> None:
+        if k < 0:
+            self.dismiss(None)
+        elif k < len(self.choices):
+            self.dismiss(k)
 
 
 #: A change between rounds worth a look (common practice): percentage points of unbalance, amps of neutral.
@@ -267,10 +384,11 @@ def _neutral(rec):
 
 
 class ExportDialog(ModalScreen[None]):
-    """Export the day (this site) to CSV, JSON or the printable HTML report."""
+    """Export the day (this site) to CSV, JSON, the printable HTML report or a spreadsheet."""
 
     BINDINGS = [Binding("c", "run('csv')", "CSV"), Binding("j", "run('json')", "JSON"),
-                Binding("h", "run('html')", "HTML report"), Binding("escape", "close", "Close")]
+                Binding("h", "run('html')", "HTML report"), Binding("s", "run('xlsx')", "Spreadsheet"),
+                Binding("escape", "close", "Close")]
 
     def __init__(self, day: str) -> None:
         super().__init__()
@@ -278,8 +396,8 @@ class ExportDialog(ModalScreen[None]):
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
-            yield Static(f"Export {self.day} (this site): [b]c[/b] CSV · [b]j[/b] JSON · [b]h[/b] printable HTML",
-                         classes="question")
+            yield Static(f"Export {self.day} (this site): [b]c[/b] CSV · [b]j[/b] JSON · [b]h[/b] printable HTML"
+                         " · [b]s[/b] spreadsheet (xlsx)", classes="question")
             yield ProgressBar(total=3, show_eta=False, id="export-progress")
             yield Static("", id="export-status")
 
@@ -298,7 +416,10 @@ class ExportDialog(ModalScreen[None]):
             site = sites.get_site(db, self.app.site_id)
             records = export_records(db, day=self.day, site=site["name"])
             self.app.call_from_thread(bar.update, progress=1)
-            if fmt == "csv":
+            text = None
+            if fmt == "xlsx":
+                pass  # written straight to its file below
+            elif fmt == "csv":
                 text = to_csv(records)
             elif fmt == "json":
                 text = to_json(records, day=self.day, site=site["name"])
@@ -311,7 +432,11 @@ class ExportDialog(ModalScreen[None]):
             # Made at a time of its own: a second export of the same day never replaces the first.
             stamp = time.strftime("%H%M%S")
             path = folder / f"fieldpad-{safe_name}-{self.day}-{stamp}.{fmt}"
-            atomic_write_text(path, text, protect=(self.app.db_path,))
+            if fmt == "xlsx":
+                from ..report.xlsx import write_xlsx
+                write_xlsx(db, records, path, day=self.day, site=site["name"], protect=(self.app.db_path,))
+            else:
+                atomic_write_text(path, text, protect=(self.app.db_path,))
             self.app.call_from_thread(bar.update, progress=3)
             msg = f"Wrote {len(records)} reading(s) to\n{_home_short(path)}"
         except Exception as e:  # disk full, permissions: say so, nothing else is touched

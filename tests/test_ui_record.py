@@ -1,0 +1,79 @@
+"""The supervisor's record in the app: a round named when it starts, a sign-off from the day review."""
+from datetime import date
+
+from textual.widgets import DataTable, Static
+
+from fieldpad.demo_site import build_demo
+from fieldpad.storage import rounds, signoffs, sites, versions
+from fieldpad.storage.db import open_db
+from fieldpad.ui.app import FieldpadApp
+from fieldpad.ui.review import DayReview
+
+
+async def test_a_round_starts_with_the_name_typed_or_the_suggested_one(tmp_path):
+    path = tmp_path / "demo.db"
+    build_demo(path, day=date(2026, 3, 10))
+    app = FieldpadApp(path, technician="Sam")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("r")
+        await pilot.pause()
+        await pilot.press(*"Pump room check", "enter")
+        await pilot.pause()
+        assert app.round_id and rounds.get_round(app.db, app.round_id)["label"] == "Pump room check"
+        assert "Pump room check: 0/12 boards read" in str(app.screen.query_one("#home-title", Static).render())
+        await pilot.press("r")  # finish it
+        await pilot.pause()
+        assert app.round_id is None
+        await pilot.press("r")
+        await pilot.pause()
+        await pilot.press("enter")  # Enter alone: the suggested name
+        await pilot.pause()
+        assert rounds.get_round(app.db, app.round_id)["label"].startswith("Round 4 — ")
+        await pilot.press("r", "r")
+        await pilot.pause()
+        await pilot.press("escape")  # Esc: no round started
+        await pilot.pause()
+        assert app.round_id is None and len(rounds.list_rounds(app.db, app.site_id)) == 4
+
+
+async def test_day_review_signs_off_a_round_and_marks_a_later_correction(tmp_path):
+    path = tmp_path / "demo.db"
+    build_demo(path, day=date(2026, 3, 10))
+    app = FieldpadApp(path, technician="Carla Lind")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("v")
+        await pilot.pause()
+        scr = app.screen
+        assert isinstance(scr, DayReview)
+        assert "Not signed off" in str(scr.query_one("#review-signoff", Static).render())
+        await pilot.press("s")
+        await pilot.pause()
+        await pilot.press("1")  # the first round of the day (AM)
+        await pilot.pause()
+        await pilot.press("enter")  # the app's technician suggested as the name
+        await pilot.pause()
+        await pilot.press(*"all boards read", "enter")
+        await pilot.pause()
+        so = signoffs.signoffs_of_site(app.db, app.site_id)
+        assert len(so) == 1 and so[0]["signed_by"] == "Carla Lind" and so[0]["note"] == "all boards read"
+        assert so[0]["round_id"] and rounds.get_round(app.db, so[0]["round_id"])["label"] == "AM"
+        line = str(scr.query_one("#review-signoff", Static).render())
+        assert "Signed off: round “AM” by Carla Lind" in line and "changed after sign-off" not in line
+        # A correction of an AM reading after the sign-off is marked on its row.
+        rec = next(r for r in scr.records if r["round"] == "AM")
+        typed = versions.inputs_of(versions.current_version(app.db, rec["reading_id"]))
+        versions.correct_reading(app.db, rec["reading_id"], {**typed, "ia": "101"}, reason="re-read", by="Ben")
+        scr.reload()
+        await pilot.pause()
+        assert "* 1 changed after sign-off" in str(scr.query_one("#review-signoff", Static).render())
+        table = scr.query_one(DataTable)
+        marked = [table.get_row_at(i)[0] for i in range(table.row_count)]
+        assert sum(str(m).endswith("*") for m in marked) == 1
+        await pilot.press("s", "escape")  # Esc on the choice: nothing signed
+        await pilot.pause()
+        assert len(signoffs.signoffs_of_site(app.db, app.site_id)) == 1
+    db = open_db(path)
+    assert sites.list_sites(db)
+    db.close()
