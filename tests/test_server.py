@@ -103,12 +103,28 @@ def sync(db, url):
 
 def test_init_is_idempotent_and_refuses_a_newer_schema(cluster, crew_db):
     url = cluster.url(database=crew_db)
+    latest = server._migration_files()[-1][0]
     code, out, _ = _cli("server", "init", "--server", url)
-    assert code == 0 and "schema up to date (0001_crew)" in out
+    assert code == 0 and f"schema up to date ({latest})" in out
     with psycopg.connect(url, autocommit=True) as conn:
         conn.execute("INSERT INTO fieldpad_migrations (name) VALUES ('9999_from_the_future')")
     code, _, err = _cli("server", "init", "--server", url)
     assert code == 1 and "newer than this fieldpad" in err and "9999_from_the_future" in err
+
+
+def test_init_upgrades_a_server_of_an_earlier_fieldpad(cluster):
+    with psycopg.connect(cluster.url(), autocommit=True) as conn:
+        conn.execute("CREATE DATABASE older_one")
+    url = cluster.url(database="older_one")
+    first, sql = server._migration_files()[0]
+    with psycopg.connect(url) as conn:  # as an earlier fieldpad left it: the first migration only
+        conn.execute(f"CREATE TABLE {server.MIGRATION_TABLE} (name TEXT PRIMARY KEY, applied_at TIMESTAMPTZ "
+                     "NOT NULL DEFAULT now(), applied_by NAME NOT NULL DEFAULT current_user)")
+        conn.execute(sql)
+        conn.execute(f"INSERT INTO {server.MIGRATION_TABLE} (name) VALUES (%s)", [first])
+    code, out, _ = _cli("server", "init", "--server", url)
+    rest = [n for n, _ in server._migration_files()[1:]]
+    assert code == 0 and f"applied {', '.join(rest)} (already there: {first})" in out
 
 
 def test_two_laptops_converge_and_a_second_sync_moves_nothing(cluster, crew_db, tmp_path):
@@ -300,3 +316,26 @@ def test_what_waits_is_counted_and_received_rows_do_not_wait(cluster, crew_db, t
     assert server.pending_count(b, "ben") == 2
     sync(b, as_role(cluster, crew_db, "ben"))
     assert server.pending_count(b, "ben") == 0
+
+
+def test_a_supervisor_sends_sign_offs_only_and_only_as_themselves(cluster, crew_db, tmp_path):
+    from fieldpad.storage import signoffs
+
+    a, sid, (b1,) = laptop(tmp_path, "ana")
+    versions.save_reading(a, b1, BAL, technician="ana")
+    sync(a, as_role(cluster, crew_db, "ana"))
+    boss = open_db(tmp_path / "sue.db")
+    rep = sync(boss, as_role(cluster, crew_db, SUPERVISOR))  # the crew's record comes to the supervisor
+    assert rep.received["reading"] == 1 and sum(rep.sent.values()) == 0
+    day = next(boss.query("SELECT substr(taken_at, 1, 10) AS d FROM reading"))["d"]
+    signoffs.sign_off(boss, sid, by=SUPERVISOR, day=day, note="checked against the drawings")
+    signoffs.sign_off(boss, sid, by="someone else", day=day)  # not Sue's to send
+    versions.save_reading(boss, b1, BAL, technician=SUPERVISOR)  # a supervisor adds no readings
+    rep = sync(boss, as_role(cluster, crew_db, SUPERVISOR))
+    assert rep.sent == {"signoff": 1}
+    with psycopg.connect(as_role(cluster, crew_db, "ana")) as conn:
+        assert conn.execute("SELECT signed_by, note FROM signoff").fetchall() == [
+            (SUPERVISOR, "checked against the drawings")]
+        with pytest.raises(psycopg.errors.InsufficientPrivilege):
+            conn.execute("INSERT INTO signoff (id, site_id, day, day_start_utc, day_end_utc, signed_by, signed_at)"
+                         f" VALUES ('x', '{sid}', '{day}', 'a', 'b', 'ana', 'now')")

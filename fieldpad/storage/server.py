@@ -35,7 +35,10 @@ from .db import write
 ENV_VAR = "FIELDPAD_SERVER"
 MIGRATION_TABLE = "fieldpad_migrations"
 # Laptop tables sent and received, parents first (a board needs its site, a reading its board and round).
-TABLES = ("site", "board", "round", "reading")
+TABLES = ("site", "board", "round", "reading", "signoff")
+# What each role sends: a technician the record of the boards, a supervisor their sign-offs.
+TECHNICIAN_TABLES = ("site", "board", "round", "reading")
+SUPERVISOR_TABLES = ("signoff",)
 CONNECT_TIMEOUT_S = 10
 
 
@@ -229,23 +232,30 @@ def sync(db, url: str) -> SyncReport:
 
 def _send(db, conn, sid: str, role: str, report: SyncReport) -> None:
     state = _state(db, sid)
+    tech, boss = conn.execute("SELECT pg_has_role('fieldpad_technician', 'MEMBER'), "
+                              "pg_has_role('fieldpad_supervisor', 'MEMBER')").fetchone()
+    conn.commit()
+    tables = (TECHNICIAN_TABLES if tech else ()) + (SUPERVISOR_TABLES if boss else ())
     batches, marks = {}, {}
-    for table in TABLES:
+    for table in tables:
         cols = _cols(db, table)
         since = state.get(table, (0, "0"))[0]
         rows = db.conn.execute(f"SELECT rowid, {', '.join(cols)} FROM {table} WHERE rowid > ? ORDER BY rowid",
                                [since]).fetchall()
         top = rows[-1][0] if rows else since
+        held_from = None
         if table == "reading":
             rows, held_from = _sendable_versions(conn, cols, rows, role, report)
-            # The mark stops below the first version still waiting, so it is looked at again next time.
-            top = min(top, held_from - 1) if held_from is not None else top
+        elif table == "signoff":
+            rows, held_from = _sendable_signoffs(conn, cols, rows, role, report)
+        # The mark stops below the first row still waiting, so it is looked at again next time.
+        top = min(top, held_from - 1) if held_from is not None else top
         batches[table] = (cols, [r[1:] for r in rows])
         marks[table] = top
     with conn.transaction():
         # This send's own transaction: the receive that follows need not bring its rows back.
         report.send_tx = str(conn.execute("SELECT pg_current_xact_id()").fetchone()[0])
-        for table in TABLES:
+        for table in tables:
             cols, rows = batches[table]
             if not rows:
                 report.sent[table] = 0
@@ -292,6 +302,27 @@ def _sendable_versions(conn, cols, rows, role, report):
         sup = r[i_sup]
         if sup is None or sup in on_server or sup in ok:
             ok.add(r[i_id])
+            send.append(r)
+        else:
+            report.waiting += 1
+            held.append(r[0])
+    return send, (held[0] if held else None)
+
+
+def _sendable_signoffs(conn, cols, rows, role, report):
+    """This supervisor's sign-offs whose site (and round) are on the server; the rest are held."""
+    i_by, i_site, i_round = (cols.index(c) + 1 for c in ("signed_by", "site_id", "round_id"))
+    mine = [r for r in rows if r[i_by] == role]
+    sites = {x[0] for x in conn.execute("SELECT id FROM site WHERE id = ANY(%s)",
+                                        [sorted({r[i_site] for r in mine})])}
+    rounds = {x[0] for x in conn.execute("SELECT id FROM round WHERE id = ANY(%s)",
+                                         [sorted({r[i_round] for r in mine if r[i_round]})])}
+    conn.commit()
+    send, held = [], []
+    for r in rows:
+        if r[i_by] != role:
+            continue  # another supervisor's: theirs to send
+        if r[i_site] in sites and (r[i_round] is None or r[i_round] in rounds):
             send.append(r)
         else:
             report.waiting += 1
@@ -369,7 +400,8 @@ def _write_snapshot(db, path: Path, got: dict) -> None:
 
 
 _PARENTS = (("board", "site_id", "site"), ("round", "site_id", "site"), ("reading", "board_id", "board"),
-            ("reading", "round_id", "round"), ("reading", "supersedes", "reading"))
+            ("reading", "round_id", "round"), ("reading", "supersedes", "reading"), ("signoff", "site_id", "site"),
+            ("signoff", "round_id", "round"))
 
 
 def _fill_parents(db, snap) -> None:
