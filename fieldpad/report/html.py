@@ -83,25 +83,38 @@ def _arrows(inputs: dict, labels, colours):
 def to_html(db, records: list[dict], *, day=None, site=None, today: date | None = None) -> str:
     # Labels are judged on the day reported (or today for an undated report): the same report, the same words.
     on = date.fromisoformat(day) if day else (today or date.today())
-    site_by_name = {}
+    # Sites and boards by id: two of one name (one from each laptop) are two sections, each with its own label.
+    site_by_id = {}
     by_board: dict = defaultdict(list)
     for rec in records:
-        if rec["site"] not in site_by_name:
-            site_by_name[rec["site"]] = sites.find_site(db, rec["site"])
-        by_board[(rec["site"], rec["board"])].append(rec)
+        if rec["site_id"] not in site_by_id:
+            site_by_id[rec["site_id"]] = sites.get_site(db, rec["site_id"])
+        by_board[(rec["site_id"], rec["board_id"])].append(rec)
+    site_by_name = {s_["name"]: s_ for s_ in site_by_id.values()}
+    names = defaultdict(set)
+    for site_id, board_id in by_board:
+        names[site_by_id[site_id]["name"]].add(site_id)
+        names[(site_id, sites.get_board(db, board_id)["name"])].add(board_id)
+
+    def _tell_apart(name, key, ident):
+        return f"{name} (id {ident[:13]}…)" if len(names[key]) > 1 else name
 
     summary = {sev: {"readings": 0, "boards": []} for sev in ("alarm", "warning", "info")}
     boards = []
-    for (site_name, board_name), recs in sorted(by_board.items()):
-        s = site_by_name[site_name]
-        b = sites.find_board(db, s["id"], board_name)
+    for (site_id, board_id), recs in sorted(by_board.items(), key=lambda kv: (kv[1][0]["site"], kv[0][0],
+                                                                              kv[1][0]["board"], kv[0][1])):
+        s = site_by_id[site_id]
+        b = sites.get_board(db, board_id)
+        site_name = _tell_apart(s["name"], s["name"], site_id)
+        board_name = _tell_apart(b["name"], (site_id, b["name"]), board_id)
+        conflicted = sum(r.get("conflict", False) for r in recs)
         labels = sites.site_labels(s)
         colours = phase_colours.colours(s["colour_set"], "print")
         for sev in summary:
             hits = [r for r in recs if any(f["severity"] == sev for f in r["findings"])]
             summary[sev]["readings"] += len(hits)
             if hits:
-                summary[sev]["boards"].append(board_name if len(site_by_name) == 1 else f"{site_name} / {board_name}")
+                summary[sev]["boards"].append(board_name if len(site_by_id) == 1 else f"{site_name} / {board_name}")
         latest = max(recs, key=lambda r: r["taken_at"])
         rows = []
         corrections = []
@@ -114,24 +127,25 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
                 "vuf": _n(res["vuf_pct"]), "lvur": _n(res["lvur_pct"]), "rotation": res["rotation"] or "",
                 "neutral": _n(res["i_n_calc"] if res["i_n_calc"] is not None else inp.get("i_n"), "{:.1f}"),
                 "p_kw": _n(None if res["p_w"] is None else res["p_w"] / 1000.0), "pf": _n(res["pf"]),
-                "version": r["version"], "note": r["note"],
+                "version": r["version"], "note": r["note"], "conflict": r.get("conflict", False),
             })
-            if r["version"] > 1:
+            if r["version"] > 1 or r.get("conflict"):
                 for v in versions.history(db, r["reading_id"]):
                     corrections.append({
+                        "competing": v["is_head"] and r.get("conflict"),
                         "taken": local_text(r["taken_at"]), "version": v["version"],
                         "recorded": local_text(v["recorded_at"]), "by": v["recorded_by"], "reason": v["reason"],
                         "void": bool(v["void"]),
                         "values": ", ".join(f"{k}={val}" for k, val in versions.inputs_of(v).items()
                                             if k not in ("system", "standard", "nominal_v")),
                     })
-        title = board_name if len(site_by_name) == 1 else f"{site_name} / {board_name}"
+        title = board_name if len(site_by_id) == 1 else f"{site_name} / {board_name}"
         boards.append({
             "name": title, "location": b["location"] if b else None, "system": b["system"] if b else "",
             "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
             "label": _label(b, s["label_review_years"], on) if b else "—",
             "findings": latest["findings"], "readings": rows,
-            "corrections": corrections,
+            "corrections": corrections, "conflicts": conflicted,
             "svg": phasor_svg(_arrows(latest["inputs"], labels, colours), 220, latest["results"]["rotation"],
                               f"phasor diagram of {title}"),
         })

@@ -51,11 +51,14 @@ class BoardHistory(Screen):
         rows = versions.board_history(self.app.db, self.board_id, 50)
         results = analyze_rows([{**r, "thresholds_json": self.site["thresholds_json"],
                                  "phase_labels": self.site["phase_labels"]} for r in rows])
+        competing = versions.conflicts(self.app.db, {r["reading_id"] for r in rows})
         for r, res in zip(rows, results):
             worst = res["findings"][0] if res["findings"] else None
             worst_text = f"{worst['severity']}: {worst['code']}" if worst else ""
             if r["void"]:
                 worst_text = "VOID: " + printable(r["reason"])
+            if r["reading_id"] in competing:  # two laptops changed the same version
+                worst_text = "⚠ CONFLICT (Enter: versions) " + worst_text
             table.add_row(local_text(r["taken_at"]), str(r["version"]), printable(r["technician"]),
                           _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "", worst_text,
                           key=r["reading_id"])
@@ -71,9 +74,13 @@ class BoardHistory(Screen):
         if not rid:
             return
         t = Text()
-        for v in versions.history(self.app.db, rid):
+        every = versions.history(self.app.db, rid)
+        forked = sum(x["is_head"] for x in every) > 1
+        for v in every:
             t.append(f"version {v['version']}  recorded {local_text(v['recorded_at'], '%Y-%m-%d %H:%M:%S')}"
-                     f" by {printable(v['recorded_by']) or '—'}\n", "bold")
+                     f" by {printable(v['recorded_by']) or '—'}"
+                     + (" ⚠ competing" + (" (shown)" if v["is_current"] else "")
+                        if v["is_head"] and forked else "") + "\n", "bold")
             if v["reason"]:
                 t.append(f"  {'VOID' if v['void'] else 'reason'}: {printable(v['reason'])}\n")
             t.append("  " + ", ".join(f"{k}={printable(val)}" for k, val in versions.inputs_of(v).items()) + "\n\n")

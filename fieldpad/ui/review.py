@@ -72,7 +72,7 @@ class DayReview(Screen):
 
     def reload(self) -> None:
         site = sites.get_site(self.app.db, self.app.site_id)
-        self.records = export_records(self.app.db, day=self.day.isoformat(), site=site["name"])
+        self.records = export_records(self.app.db, day=self.day.isoformat(), site_id=site["id"])
         shown = [r for r in self.records
                  if (not self.findings_only or r["findings"])
                  and (not self.board_filter or self.board_filter.lower() in (r["board"] or "").lower())
@@ -92,12 +92,13 @@ class DayReview(Screen):
         for r in shown:
             res = r["results"]
             w = r["findings"][0] if r["findings"] else None
+            cell = (Text(f"{w['severity'].upper()} {w['code']}", f"bold {ALARM}" if w["severity"] == "alarm"
+                         else WARN if w["severity"] == "warning" else INFO) if w else Text(""))
+            if r.get("conflict"):  # two laptops changed the same version: for the supervisor to settle
+                cell = Text("⚠ CONFLICT ", f"bold {ALARM}") + cell
             t.add_row(local_text(r["taken_at"], "%H:%M"), printable(r["board"]), printable(r["technician"])[:14],
                       printable(r["round"]), _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
-                      _f(_neutral(r), "{:.0f}"),
-                      Text(f"{w['severity'].upper()} {w['code']}", f"bold {ALARM}" if w["severity"] == "alarm"
-                           else WARN if w["severity"] == "warning" else INFO) if w else "",
-                      key=r["reading_id"])
+                      _f(_neutral(r), "{:.0f}"), cell, key=r["reading_id"])
         filters = []
         if self.findings_only:
             filters.append("findings only")
@@ -133,7 +134,12 @@ class DayReview(Screen):
         t.append("\nVersions:\n", "bold")
         for v in versions.history(self.app.db, rec["reading_id"]):
             t.append(f"  v{v['version']} {local_text(v['recorded_at'])} by {printable(v['recorded_by']) or '—'}"
-                     + (f": {printable(v['reason'])}" if v["reason"] else "") + "\n")
+                     + (f": {printable(v['reason'])}" if v["reason"] else "")
+                     + (" ⚠ competing" + (" (shown)" if v["is_current"] else "") if v["is_head"] and rec.get("conflict")
+                        else "") + "\n")
+        if rec.get("conflict"):
+            t.append("⚠ CONFLICT: two laptops changed the same version. Settle with a new version: fieldpad settle "
+                     f"{rec['reading_id']} VERSION_ID --reason TEXT\n", f"bold {ALARM}")
         self.app.push_screen(TextPage(t, "Reading in full"))
 
     def action_findings_only(self) -> None:
@@ -213,9 +219,10 @@ class RoundCompare(Screen):
         latest = {}
         for side, r in (("a", ra), ("b", rb)):
             for rec in export_records(self.app.db, round_id=r["id"]):
-                latest.setdefault(rec["board"], {})[side] = rec  # later readings of a round replace earlier
-        for board in sorted(latest):
-            a, b = latest[board].get("a"), latest[board].get("b")
+                latest.setdefault(rec["board_id"], {})[side] = rec  # later readings of a round replace earlier
+        for board_id in sorted(latest, key=lambda k: (next(iter(latest[k].values()))["board"], k)):
+            a, b = latest[board_id].get("a"), latest[board_id].get("b")
+            board = (a or b)["board"]
             cells, drift = [], False
             for key in ("vuf_pct", "lvur_pct"):
                 va = a["results"][key] if a else None
@@ -296,7 +303,7 @@ class ExportDialog(ModalScreen[None]):
         try:
             db = self.app.worker_db()  # its own connection: this runs in a worker thread
             site = sites.get_site(db, self.app.site_id)
-            records = export_records(db, day=self.day, site=site["name"])
+            records = export_records(db, day=self.day, site_id=site["id"])
             self.app.call_from_thread(bar.update, progress=1)
             if fmt == "csv":
                 text = to_csv(records)
