@@ -83,7 +83,7 @@ def _refuse_self(db, path: Path) -> None:
         a, b = os.stat(main_file), os.stat(path)  # follows symlinks; a hard link has the same inode
         if (a.st_dev, a.st_ino) == (b.st_dev, b.st_ino):
             raise StorageError(f"{path} is the database being merged into (the same file"
-                               + (", through a link" if os.path.realpath(path) != os.path.realpath(main_file)
+                               + (", through a link" if os.path.abspath(path) != os.path.abspath(main_file)
                                   else "") + "): nothing to bring in")
 
 
