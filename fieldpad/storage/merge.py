@@ -54,7 +54,9 @@ class MergeRefused(StorageError):
 
     def __init__(self, problems: list[str]):
         self.problems = problems
-        super().__init__(problems[0] if len(problems) == 1 else f"{problems[0]} (and {len(problems) - 1} more)")
+        more = sum(not p.endswith("nothing was merged") for p in problems[1:])
+        super().__init__(problems[0] + (f" (and {more} more problem(s))" if more else "")
+                         + ("" if problems[0].endswith("nothing was merged") else "; nothing was merged"))
 
 
 @dataclass
@@ -524,7 +526,7 @@ def _legacy_settings(conn, ck: _Check) -> list:
         have = {(r[0], r[1]) for r in conn.execute(
             "SELECT DISTINCT entity_id, field FROM other.setting_version WHERE entity = ?", [entity])}
         cols = [c for c, _ in _columns(conn, "other", entity)]
-        for v, kinds in _fetch(conn, entity, cols, ""):
+        for v, _kinds in _fetch(conn, entity, cols, ""):
             if not isinstance(v.get("id"), str) or not isinstance(v.get("created_at"), str):
                 ck.bad(entity, v.get("id"), "id", "a settings row without a text id and creation time")
                 continue

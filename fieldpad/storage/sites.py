@@ -250,7 +250,7 @@ def materialize(db, entity: str, ids=None) -> int:
         params += ids
     latest: dict = {}
     span: dict = {}
-    for eid, f, value_json, at, vid in db.conn.execute(
+    for eid, f, value_json, at, _vid in db.conn.execute(
             "SELECT entity_id, field, value_json, recorded_at, id FROM setting_version WHERE entity = ?"
             + where + " ORDER BY entity_id, field, recorded_at, id", params):
         if f in fields:

@@ -222,7 +222,8 @@ def previous_reading(db, board_id, before_reading_id=None) -> dict | None:
     """The latest current, non-void reading of the board (other than ``before_reading_id``)."""
     rows = list(db.query(
         "SELECT * FROM reading_current WHERE board_id IN (SELECT id FROM board WHERE id = :b OR joined_into = :b) "
-        "AND void = 0 AND reading_id IS NOT :r ORDER BY taken_at DESC LIMIT 1", {"b": board_id, "r": before_reading_id}))
+        "AND void = 0 AND reading_id IS NOT :r ORDER BY taken_at DESC LIMIT 1",
+        {"b": board_id, "r": before_reading_id}))
     return rows[0] if rows else None
 
 
