@@ -31,8 +31,8 @@ def run(args) -> int:
         if rep.conflicts:
             print(f"warning: {len(rep.conflicts)} reading(s) have competing versions (two laptops changed the "
                   "same version); the latest recorded is shown, every version is kept. A supervisor settles "
-                  "each with: fieldpad settle READING_ID VERSION_ID --reason TEXT (fieldpad conflicts lists "
-                  "them)", file=sys.stderr)
+                  "each with: fieldpad settle READING_ID VERSION_ID --reason TEXT ('fieldpad settle' alone "
+                  "lists them)", file=sys.stderr)
     return status
 
 

@@ -543,13 +543,30 @@ def _legacy_settings(conn, ck: _Check) -> list:
     return out
 
 
+class _Versions(dict):
+    """Reading versions by id -> (reading id, version): those coming in, and those here looked up one by one
+    (a database of a million readings is not read into memory to check a day's merge)."""
+
+    def __init__(self, conn):
+        super().__init__()
+        self.conn = conn
+
+    def get(self, key, default=None):
+        if key in self:
+            return self[key]
+        if not isinstance(key, str):
+            return default
+        row = self.conn.execute("SELECT reading_id, version FROM main.reading WHERE id = ?", [key]).fetchone()
+        return (row[0], row[1]) if row else default
+
+
 def _known(conn, rows: dict) -> dict:
     """Ids that rows may refer to: here already, or coming in."""
     known = {
         "site": {r[0] for r in conn.execute("SELECT id FROM main.site")},
         "board": {r[0] for r in conn.execute("SELECT id FROM main.board")},
         "round": {r[0] for r in conn.execute("SELECT id FROM main.round")},
-        "reading": {r[0]: (r[1], r[2]) for r in conn.execute("SELECT id, reading_id, version FROM main.reading")},
+        "reading": _Versions(conn),
     }
     for v, _ in rows["setting_version"][1]:
         if v.get("entity") in ("site", "board") and isinstance(v.get("entity_id"), str) and v.get("field") == "name":
