@@ -361,3 +361,53 @@ def test_merge_of_a_file_from_before_the_settings_history(tmp_path):
     assert sites.get_board(main, "b-old")["af_ppe"] == "2"
     assert main["setting_version"].count == len(set(r["id"] for r in main["setting_version"].rows))
     assert versions.current_version(main, "r1")["va"] == 277.0
+
+
+# ---- the app: the day review and a board's history flag the conflict ------------------------------
+
+
+async def test_app_day_review_and_history_flag_competing_versions(tmp_path):
+    from textual.widgets import DataTable
+
+    from fieldpad.ui import history, review
+    from fieldpad.ui.app import FieldpadApp
+
+    a, b, bid, rid = two_laptops_share(tmp_path)
+    versions.correct_reading(a, rid, {**BAL, "va": "275"}, reason="re-read", by="Ana")
+    versions.correct_reading(b, rid, {**BAL, "va": "279"}, reason="other meter", by="Sam")
+    b.close()
+    merge_file(a, tmp_path / "b.db")
+    a.close()
+    app = FieldpadApp(tmp_path / "a.db", technician="Sup")
+    async with app.run_test(size=(110, 30)) as pilot:
+        await pilot.pause()
+        await pilot.press("v")
+        await pilot.pause()
+        assert isinstance(app.screen, review.DayReview)
+        (row,) = [app.screen.query_one(DataTable).get_row_at(0)]
+        assert "CONFLICT" in str(row[-1])
+        await pilot.press("escape")
+        await pilot.pause()
+        await pilot.press("h")
+        await pilot.pause()
+        assert isinstance(app.screen, history.BoardHistory)
+        assert "CONFLICT" in str(app.screen.query_one(DataTable).get_row_at(0)[-1])
+
+
+async def test_app_day_review_of_each_same_named_site_shows_its_own_readings(fernwick):
+    from textual.widgets import DataTable
+
+    from fieldpad.ui import review
+    from fieldpad.ui.app import FieldpadApp
+
+    fernwick["db"].close()
+    for sid, reading in zip(fernwick["sites"], fernwick["readings"]):
+        app = FieldpadApp(fernwick["path"], technician="Sup")
+        async with app.run_test(size=(110, 30)) as pilot:
+            await pilot.pause()
+            app.site_id = sid
+            app.push_screen(review.DayReview())
+            await pilot.pause()
+            table = app.screen.query_one(DataTable)
+            assert table.row_count == 1
+            assert [r["reading_id"] for r in app.screen.records] == [reading.reading_id]
