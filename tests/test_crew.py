@@ -411,3 +411,61 @@ async def test_app_day_review_of_each_same_named_site_shows_its_own_readings(fer
             table = app.screen.query_one(DataTable)
             assert table.row_count == 1
             assert [r["reading_id"] for r in app.screen.records] == [reading.reading_id]
+
+
+def test_settings_from_before_the_history_merge_field_by_field_after_the_upgrade(tmp_path):
+    """Two laptops upgraded from schema 0002 with the same board: a rename on one and a PPE change on the
+    other both survive (the settings stored before get history rows made from their content)."""
+    import sqlite_utils
+
+    from fieldpad.storage.db import _migrations, connect
+
+    old = sqlite_utils.Database(connect(tmp_path / "a.db"))
+    _migrations().apply(old, stop_before="0004_crew_identity")
+    now = "2026-01-01T00:00:00.000000Z"
+    old["site"].insert({"id": "s-old", "name": "Depot", "created_at": now, "updated_at": now})
+    old["board"].insert({"id": "b-old", "site_id": "s-old", "name": "DB-2", "system": "wye", "af_ppe": "2",
+                         "created_at": now, "updated_at": now})
+    old.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    old.close()
+    shutil.copy(tmp_path / "a.db", tmp_path / "b.db")
+    a, b = open_db(tmp_path / "a.db"), open_db(tmp_path / "b.db")  # both upgraded
+    sites.update_board(a, "b-old", name="DB-2 east")
+    sites.update_board(b, "b-old", af_ppe="3")
+    b.close()
+    merge_file(a, tmp_path / "b.db")
+    a.close()
+    b = open_db(tmp_path / "b.db")
+    merge_file(b, tmp_path / "a.db")
+    a = open_db(tmp_path / "a.db")
+    for d in (a, b):
+        board = sites.get_board(d, "b-old")
+        assert (board["name"], board["af_ppe"]) == ("DB-2 east", "3")
+    assert sorted(r["id"] for r in a["setting_version"].rows) == sorted(r["id"] for r in b["setting_version"].rows)
+
+
+def test_settings_that_differed_before_the_history_agree_in_either_order(tmp_path):
+    """The same board id with different settings on two laptops from before the history (schema 0002),
+    never changed since: merged either way, both laptops show the same value and keep both in history."""
+    import sqlite_utils
+
+    from fieldpad.storage.db import _migrations, connect
+
+    for name, ppe in (("x.db", "1"), ("y.db", "4")):
+        old = sqlite_utils.Database(connect(tmp_path / name))
+        _migrations().apply(old, stop_before="0004_crew_identity")
+        now = "2026-01-01T00:00:00.000000Z"
+        old["site"].insert({"id": "s-old", "name": "Depot", "created_at": now, "updated_at": now})
+        old["board"].insert({"id": "b-old", "site_id": "s-old", "name": "DB-2", "system": "wye", "af_ppe": ppe,
+                             "created_at": now, "updated_at": now})
+        old.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+        old.close()
+    for name in ("x.db", "y.db"):
+        shutil.copy(tmp_path / name, tmp_path / f"pristine-{name}")
+    x = open_db(tmp_path / "x.db")
+    merge_file(x, tmp_path / "pristine-y.db")
+    y = open_db(tmp_path / "y.db")
+    merge_file(y, tmp_path / "pristine-x.db")
+    assert sites.get_board(x, "b-old")["af_ppe"] == sites.get_board(y, "b-old")["af_ppe"]
+    assert {h["value"] for h in sites.setting_history(x, "board", "b-old") if h["field"] == "af_ppe"} == {"1", "4"}
+    assert sorted(r["id"] for r in x["setting_version"].rows) == sorted(r["id"] for r in y["setting_version"].rows)

@@ -598,11 +598,16 @@ def _check_new_entities(ck: _Check, conn, rows: dict) -> None:
 
 def _bring_in(db, incoming: dict, report: MergeReport) -> None:
     conn = db.conn
+    # This database's own settings from before there was a history first (rows made from their content:
+    # the other file may bring the very same ones, which are then here already).
+    sites.backfill_history(db)
     for table in ("setting_version", "id_join"):
+        added = 0
         for v, _ in incoming[table][1]:
-            insert(db, table, v)
-        report.added[table] = len(incoming[table][1])
-    sites.backfill_history(db)  # this database's own settings from before there was a history
+            if not conn.execute(f"SELECT 1 FROM {table} WHERE id = ?", [v["id"]]).fetchone():
+                insert(db, table, v)
+                added += 1
+        report.added[table] = added
     before = {e: {r[0] for r in conn.execute(f"SELECT id FROM {e}")} for e in ("site", "board")}
     sites.materialize(db, "site")
     round_cols, round_rows = incoming["round"]

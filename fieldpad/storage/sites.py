@@ -205,6 +205,13 @@ def _change(db, entity: str, entity_id: str, values: dict, by=None) -> None:
     changed = {f: v for f, v in values.items() if row.get(f) != v}
     if not changed:
         return
+    # Settings from before there was a history: their rows first (made from their content, as of the row's
+    # creation), so the history is whole and every laptop that had the same settings makes the same rows.
+    have = {r[0] for r in db.conn.execute("SELECT DISTINCT field FROM setting_version WHERE entity = ? AND "
+                                          "entity_id = ?", [entity, entity_id])}
+    for f in HISTORY_FIELDS[entity]:
+        if f not in have and f in row:
+            insert(db, "setting_version", legacy_setting(entity, row, f))
     marks = ", ".join("?" * len(changed))
     latest = db.conn.execute(f"SELECT MAX(recorded_at) FROM setting_version WHERE entity = ? AND entity_id = ? "
                              f"AND field IN ({marks})", [entity, entity_id, *changed]).fetchone()[0]
