@@ -186,8 +186,12 @@ class SitePicker(ModalScreen[str | None]):
     def on_mount(self) -> None:
         t = self.query_one(DataTable)
         t.add_columns("site", "boards")
-        for s in sites.list_sites(self.app.db):
-            t.add_row(printable(s["name"]), str(len(sites.list_boards(self.app.db, s["id"]))), key=s["id"])
+        listed = sites.list_sites(self.app.db)
+        for s in listed:
+            # Two sites of one name (one from each laptop): told apart by id, never mixed.
+            twin = sum(o["name"] == s["name"] for o in listed) > 1
+            t.add_row(printable(s["name"]) + (f" (id {s['id'][:13]}…)" if twin else ""),
+                      str(len(sites.list_boards(self.app.db, s["id"]))), key=s["id"])
         t.focus()
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:

@@ -261,7 +261,8 @@ def run_merge(tmp, n):
     figure("merge: damaged incoming files tried (byte flips and bad values): main databases broken",
            c["tried"], c["broke"] + c["crashes"],
            extra=f"{c['flips']} with byte flips, {c['values']} with bad values; {c['refused']} refused with a "
-                 f"message, {c['merged']} merged (the damage missed every row), {c['crashes']} crashes, "
+                 f"message, {c['merged']} merged (every row still passed the checks: damage in unused space, a file "
+                 f"SQLite could still read whole, or a value a save could store), {c['crashes']} crashes, "
                  f"{c['broke']} broke the main database")
 
 
