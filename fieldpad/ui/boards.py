@@ -260,9 +260,12 @@ class BoardList(Screen):
         read_in_round = set()
         if rnd:
             read_in_round = rounds.boards_read_in_round(app.db, rnd)
-        for b in sites.list_boards(app.db, app.site_id):
+        listed = sites.list_boards(app.db, app.site_id)
+        for b in listed:
             last = versions.previous_reading(app.db, b["id"])
-            t.add_row(printable(b["name"]), printable(b["location"]), b["system"],
+            twin = sum(o["name"] == b["name"] for o in listed) > 1  # one from each laptop: told apart by id
+            t.add_row(printable(b["name"]) + (f" (id {b['id'][:13]}…)" if twin else ""), printable(b["location"]),
+                      b["system"],
                       f"{b['nominal_v']:g}" if b["nominal_v"] else "", local_text(last["taken_at"]) if last else "—",
                       "✔ done" if b["id"] in read_in_round else ("to do" if rnd else ""), key=b["id"])
         hint = "Enter: open the board's sheet · n: new board · r: round · F1: help"
