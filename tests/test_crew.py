@@ -392,6 +392,18 @@ async def test_app_day_review_and_history_flag_competing_versions(tmp_path):
         await pilot.pause()
         assert isinstance(app.screen, history.BoardHistory)
         assert "CONFLICT" in str(app.screen.query_one(DataTable).get_row_at(0)[-1])
+        shown = versions.heads(app.db, rid)
+        await pilot.press("s")
+        await pilot.pause()
+        await pilot.press("2", "enter")  # the second listed (not the one shown) stands
+        await pilot.pause()
+        await pilot.press(*"checked both meters", "enter")
+        await pilot.pause()
+        assert isinstance(app.screen, history.BoardHistory)
+        assert versions.conflicts(app.db) == {}
+        cur = versions.current_version(app.db, rid)
+        assert cur["va"] == shown[1]["va"] and cur["reason"] == "checked both meters" and cur["recorded_by"] == "Sup"
+        assert "CONFLICT" not in str(app.screen.query_one(DataTable).get_row_at(0)[-1])
 
 
 async def test_app_day_review_of_each_same_named_site_shows_its_own_readings(fernwick):
