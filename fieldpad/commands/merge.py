@@ -19,8 +19,12 @@ def run(args) -> int:
             report_problems(e.problems)
             status = 2
             continue
-        added = ", ".join(f"{n} {t}(s)" for t, n in rep.added.items()
-                          if t in ("site", "board", "round", "reading") or n)
+        words = (("site", "site(s)"), ("board", "board(s)"), ("round", "round(s)"),
+                 ("reading", "reading(s) (versions)"), ("setting_version", "site/board setting change(s)"),
+                 ("id_join", "join(s)"),
+                 ("version_parent", "settled conflict link(s)"))
+        added = ", ".join(f"{rep.added.get(t, 0)} {w}" for t, w in words
+                          if t in ("site", "board", "round", "reading") or rep.added.get(t))
         print(f"{printable(other)}: added {added}")
         for t, n in rep.updated.items():
             if n:
