@@ -481,3 +481,17 @@ def test_settings_that_differed_before_the_history_agree_in_either_order(tmp_pat
     assert sites.get_board(x, "b-old")["af_ppe"] == sites.get_board(y, "b-old")["af_ppe"]
     assert {h["value"] for h in sites.setting_history(x, "board", "b-old") if h["field"] == "af_ppe"} == {"1", "4"}
     assert sorted(r["id"] for r in x["setting_version"].rows) == sorted(r["id"] for r in y["setting_version"].rows)
+
+
+def test_a_healthy_file_is_never_refused_for_texts_its_writer_keeps_as_given(tmp_path):
+    """A round started with a technician name as the login gave it (white space and all) still merges."""
+    from fieldpad.storage import rounds
+
+    main, *_ = laptop(tmp_path / "main.db", 1, "1")
+    other, sid, bid, _ = laptop(tmp_path / "other.db", 2, "2")
+    rnd = rounds.start_round(other, sid, " Sam ", label="AM")
+    versions.save_reading(other, bid, BAL, round_id=rnd)
+    sites.update_board(other, bid, af_ppe="3", by=" Sam ")
+    other.close()
+    rep = merge_file(main, tmp_path / "other.db")
+    assert rep.added["round"] == 1 and rep.added["reading"] == 2

@@ -9,6 +9,7 @@ import json
 
 from ..core.fields import SYSTEMS
 from ..core.phase_colours import COLOUR_SETS, phase_labels
+from ..core.readings import stored_text
 from ..core.thresholds import Thresholds
 from .db import StorageError, write
 from .ids import local_text, stamp_after, utc_now, uuid7
@@ -99,7 +100,7 @@ def get_site(db, site_id) -> dict:
 
 
 def find_site(db, name) -> dict | None:
-    """The first site (by id) of that name that is not joined into another; :func:`sites_named` for all."""
+    """The first site (by id) of that name that is not joined into another; :func:`sites_matching` for all."""
     rows = list(db.query("SELECT * FROM site WHERE name = ? AND joined_into IS NULL ORDER BY id LIMIT 1", [name]))
     return rows[0] if rows else None
 
@@ -187,11 +188,11 @@ def list_boards(db, site_id) -> list[dict]:
                          [site_id]))
 
 
-
 # ---- history of settings, field by field -------------------------------------
 
 
 def _record(db, entity: str, entity_id: str, values: dict, recorded_at: str, by=None) -> None:
+    by = stored_text(by, 200)[0]
     for f, v in values.items():
         insert(db, "setting_version", {"id": uuid7(), "entity": entity, "entity_id": entity_id, "field": f,
                                        "value_json": json.dumps(v, ensure_ascii=False), "recorded_at": recorded_at,

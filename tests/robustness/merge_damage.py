@@ -33,7 +33,7 @@ BAD_VALUES = [
     ("reading", "inputs_json", "'[1, 2]'"), ("reading", "system", "'star'"), ("reading", "standard", "'nema'"),
     ("reading", "note", "'x' || char(0) || 'y'"), ("reading", "note", "printf('%.20000c', 'a')"),
     ("reading", "reason", "NULL"), ("reading", "id", "CAST(X'c3' AS TEXT)"), ("reading", "reading_id", "'other'"),
-    ("reading", "recorded_by", "' Sam '"), ("reading", "nominal_v", "0"),
+    ("reading", "technician", "' Sam '"), ("reading", "nominal_v", "0"),
     ("setting_version", "value_json", "'{'"), ("setting_version", "value_json", "'\"x\"'"),
     ("setting_version", "value_json", "'-3'"), ("setting_version", "value_json", "'[1]'"),
     ("setting_version", "value_json", "CAST(X'22ff22' AS TEXT)"), ("setting_version", "field", "'colour'"),
