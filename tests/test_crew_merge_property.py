@@ -1,6 +1,7 @@
 """Property: random histories on three laptops (new readings and boards, corrections, voids, renames, label
-edits, merges of each other's files along the way), merged in every order and repeatedly, give databases
-identical by content, and no version of anything is lost.  Real database files, as the laptops keep them."""
+edits, joins of two boards, settled conflicts, merges of each other's files along the way), merged in every
+order and repeatedly, give databases identical by content, and no version of anything is lost.  Real database
+files, as the laptops keep them."""
 import itertools
 import json
 import shutil
@@ -38,6 +39,7 @@ OPS = st.lists(st.one_of(
     st.tuples(st.just("board"), st.integers(0, 5), st.just(0)),
     st.tuples(st.just("pull"), st.integers(0, 2), st.just(0)),
     st.tuples(st.just("settle"), st.integers(0, 5), st.integers(0, 3)),
+    st.tuples(st.just("join"), st.integers(0, 5), st.integers(0, 5)),
 ), max_size=10)
 
 
@@ -65,13 +67,18 @@ def play(db, name, ops, paths):
             if found:
                 rid = sorted(found)[k % len(found)]
                 versions.settle_reading(db, rid, found[rid][x % len(found[rid])], reason="checked", by=name)
+        elif op == "join":
+            keep, other = boards[k % len(boards)], boards[x % len(boards)]
+            if keep != other:
+                sites.join(db, "board", keep, other, by=name)
         elif paths[k] != paths[name]:
             merge_file(db, paths[k])
 
 
 @settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
-@given(OPS, OPS, OPS)
-def test_three_laptops_merged_in_every_order_agree_and_lose_nothing(tmp_path_factory, ops_a, ops_b, ops_c):
+@given(OPS, OPS, OPS, OPS, OPS, OPS)
+def test_three_laptops_merged_in_every_order_agree_and_lose_nothing(tmp_path_factory, ops_a, ops_b, ops_c,
+                                                                     later_a, later_b, later_c):
     d = tmp_path_factory.mktemp("crew")
     base = open_db(d / "base.db")
     sid = sites.create_site(base, "Fernwick")
@@ -86,6 +93,10 @@ def test_three_laptops_merged_in_every_order_agree_and_lose_nothing(tmp_path_fac
     laptops = {name: open_db(paths[name]) for name in "ABC"}
     for name, ops in zip("ABC", (ops_a, ops_b, ops_c)):
         play(laptops[name], name, ops, paths)
+    for name in "ABC":  # the crew meets and merges: conflicts are now seen (and some settled) on each laptop
+        play(laptops[name], name, [("pull", k, 0) for k in range(3)], paths)
+    for name, ops in zip("ABC", (later_a, later_b, later_c)):
+        play(laptops[name], name, [("settle", 0, 0), *ops], paths)
     every = set().union(*(ids(db) for db in laptops.values()))
     for db in laptops.values():
         db.close()
