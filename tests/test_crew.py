@@ -495,3 +495,30 @@ def test_a_healthy_file_is_never_refused_for_texts_its_writer_keeps_as_given(tmp
     other.close()
     rep = merge_file(main, tmp_path / "other.db")
     assert rep.added["round"] == 1 and rep.added["reading"] == 2
+
+
+def test_a_round_finished_on_two_laptops_and_open_on_a_third_comes_out_the_same_in_any_order(tmp_path):
+    import itertools
+
+    from fieldpad.storage import rounds
+
+    base, sid, *_ = laptop(tmp_path / "base.db", 1, "1")
+    rnd = rounds.start_round(base, sid, "Sam", label="AM")
+    base.close()
+    for name in "ABC":
+        shutil.copy(tmp_path / "base.db", tmp_path / f"{name}.db")
+    for name, note in (("B", "gate locked"), ("C", "all read")):  # A leaves it open
+        d = open_db(tmp_path / f"{name}.db")
+        rounds.finish_round(d, rnd, note=note)
+        d.close()
+    seen = set()
+    for order in itertools.permutations("ABC"):
+        out = tmp_path / f"m-{''.join(order)}.db"
+        shutil.copy(tmp_path / f"{order[0]}.db", out)
+        d = open_db(out)
+        for name in order[1:]:
+            merge_file(d, tmp_path / f"{name}.db")
+        seen.add(tuple(d["round"].get(rnd).items()))
+        d.close()
+    (row,) = seen
+    assert dict(row)["finished_at"] is not None and dict(row)["note"] == "gate locked"

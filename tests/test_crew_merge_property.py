@@ -1,7 +1,7 @@
 """Property: random histories on three laptops (new readings and boards, corrections, voids, renames, label
-edits, joins of two boards, settled conflicts, merges of each other's files along the way), merged in every
-order and repeatedly, give databases identical by content, and no version of anything is lost.  Real database
-files, as the laptops keep them."""
+edits, joins of two boards, settled conflicts, rounds started and finished, merges of each other's files along
+the way), merged in every order and repeatedly, give databases identical by content, and no version of
+anything is lost.  Real database files, as the laptops keep them."""
 import itertools
 import json
 import shutil
@@ -10,7 +10,7 @@ from conftest import BAL
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from fieldpad.storage import sites, versions
+from fieldpad.storage import rounds, sites, versions
 from fieldpad.storage.db import check, open_db
 from fieldpad.storage.merge import merge_file
 
@@ -40,6 +40,8 @@ OPS = st.lists(st.one_of(
     st.tuples(st.just("pull"), st.integers(0, 2), st.just(0)),
     st.tuples(st.just("settle"), st.integers(0, 5), st.integers(0, 3)),
     st.tuples(st.just("join"), st.integers(0, 5), st.integers(0, 5)),
+    st.tuples(st.just("start"), st.integers(0, 5), st.integers(0, 3)),
+    st.tuples(st.just("finish"), st.integers(0, 5), st.integers(0, 3)),
 ), max_size=10)
 
 
@@ -67,6 +69,12 @@ def play(db, name, ops, paths):
             if found:
                 rid = sorted(found)[k % len(found)]
                 versions.settle_reading(db, rid, found[rid][x % len(found[rid])], reason="checked", by=name)
+        elif op == "start":
+            rounds.start_round(db, site, name, label=f"R{x}")
+        elif op == "finish":
+            found = [r["id"] for r in rounds.list_rounds(db, site)]
+            if found:
+                rounds.finish_round(db, sorted(found)[k % len(found)], note=f"{name} {x}")
         elif op == "join":
             keep, other = boards[k % len(boards)], boards[x % len(boards)]
             if keep != other:

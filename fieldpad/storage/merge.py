@@ -599,6 +599,11 @@ def _check_new_entities(ck: _Check, conn, rows: dict) -> None:
                     ck.bad("setting_version", eid, f, f"a new {entity} without its {f}")
 
 
+def _round_order(r: dict) -> list:
+    """A total order of a round's contents, its finish aside: a text given ranks above none."""
+    return [(r[c] is not None, str(r[c]) if r[c] is not None else "") for c in sorted(r) if c != "finished_at"]
+
+
 def _bring_in(db, incoming: dict, report: MergeReport) -> None:
     conn = db.conn
     # This database's own settings from before there was a history first (rows made from their content:
@@ -622,7 +627,9 @@ def _bring_in(db, incoming: dict, report: MergeReport) -> None:
             added_rounds += 1
             continue
         m = {c: here[0][c] for c in round_cols}
-        winner = dict(max(v, m, key=lambda r: json.dumps(r, sort_keys=True, default=str)))
+        # The larger contents (finish aside), and the later finish: each a maximum, so three laptops' edits
+        # of one round come to the same in any order.
+        winner = dict(max(v, m, key=_round_order))
         # A round finished on either laptop is finished; keep the later finish.
         winner["finished_at"] = max(filter(None, (v.get("finished_at"), m.get("finished_at"))), default=None)
         if winner != m:
