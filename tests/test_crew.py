@@ -522,3 +522,24 @@ def test_a_round_finished_on_two_laptops_and_open_on_a_third_comes_out_the_same_
         d.close()
     (row,) = seen
     assert dict(row)["finished_at"] is not None and dict(row)["note"] == "gate locked"
+
+
+def test_a_file_copied_with_its_wal_but_no_shm_is_read_whole_and_nothing_is_made_beside_it(tmp_path):
+    """Copied off a laptop whose fieldpad was still open: the file and its -wal, no -shm."""
+    import subprocess
+    import sys
+
+    other, _, bid, _ = laptop(tmp_path / "live.db", 2, "2")
+    other.close()
+    code = ("import os, sys\nfrom fieldpad.storage.db import open_db\nfrom fieldpad.storage import versions\n"
+            f"db = open_db(sys.argv[1])\nversions.save_reading(db, {bid!r}, {BAL!r})\nos._exit(0)\n")
+    subprocess.run([sys.executable, "-c", code, str(tmp_path / "live.db")], check=True)  # killed, -wal left
+    (tmp_path / "stick").mkdir()
+    for side in ("", "-wal"):
+        shutil.copyfile(f"{tmp_path / 'live.db'}{side}", f"{tmp_path / 'stick' / 'laptop 2.db'}{side}")
+    before = files_beside(tmp_path / "stick" / "laptop 2.db")
+    assert sorted(before) == ["laptop 2.db", "laptop 2.db-wal"]
+    main, *_ = laptop(tmp_path / "main.db", 1, "1")
+    rep = merge_file(main, tmp_path / "stick" / "laptop 2.db")
+    assert rep.added["reading"] == 2  # the one in the -wal too
+    assert files_beside(tmp_path / "stick" / "laptop 2.db") == before  # no -shm made, nothing written

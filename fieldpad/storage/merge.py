@@ -125,10 +125,11 @@ def _open_other(path: Path) -> tuple[sqlite3.Connection, str, str | None]:
     return conn, read_only_uri(path, immutable=bool(note)), note
 
 
-def _inspect_other(path: Path) -> tuple[list[str], str, str | None]:
+def _inspect_other(path: Path, name: Path) -> tuple[list[str], str, str | None]:
     """Integrity and schema of the other file, through a read-only connection: its applied migrations,
     the URI to attach it by, and a note if its WAL cannot be read (read-only medium)."""
     conn, uri, note = _open_other(path)
+    path = name  # the file as the person named it (``path`` may be a copy of it), in every message
     try:
         try:
             bad = [r[0] for r in conn.execute("PRAGMA integrity_check(20)").fetchall() if r[0] != "ok"]
@@ -153,6 +154,26 @@ def _inspect_other(path: Path) -> tuple[list[str], str, str | None]:
         raise StorageError(f"{path} was written by a newer fieldpad (schema {max(unknown)}); update fieldpad "
                            "first; nothing was merged")
     return applied, uri, note
+
+
+@contextlib.contextmanager
+def _unshared_copy(path: Path):
+    """A -wal with no -shm beside it (the files were copied off a laptop, or its fieldpad was stopped and
+    the -shm removed): no process has it open, and reading it with SQLite would create a -shm beside it.
+    Then the file and its -wal are copied to a temporary folder and the copy is read.  (This process has
+    no connection to the other file, so reading its bytes drops no lock of ours.)"""
+    wal, shm = _wal(path), path.with_name(path.name + "-shm")
+    if not wal.exists() or shm.exists():
+        yield path
+        return
+    folder = Path(tempfile.mkdtemp(prefix="fieldpad-merge-"))
+    try:
+        copy = folder / "incoming.db"
+        shutil.copyfile(path, copy)
+        shutil.copyfile(wal, folder / "incoming.db-wal")
+        yield copy
+    finally:
+        shutil.rmtree(folder, ignore_errors=True)
 
 
 @contextlib.contextmanager
@@ -456,23 +477,24 @@ def merge_file(db, other: str | os.PathLike) -> MergeReport:
     path = Path(other)
     _refuse_self(db, path)
     seen = _fingerprint(path)
-    applied, uri, note = _inspect_other(path)
     report = MergeReport()
-    if note:
-        report.notes.append(f"{path}: {note}")
-    with _readable_copy(path, applied) as source:
-        if source != path:
-            uri = read_only_uri(source)
-        db.conn.execute("ATTACH DATABASE ? AS other", [uri])
-        try:
-            incoming = _collect(db, path)
-            if "immutable=1" in uri and _fingerprint(path) != seen:  # read as unchanging: was it?
-                raise StorageError(f"{path} changed while it was being read (another fieldpad wrote to it); "
-                                   "nothing was merged: try again")
-            with write(db):
-                _bring_in(db, incoming, report)
-        finally:
-            db.conn.execute("DETACH DATABASE other")
+    with _unshared_copy(path) as readable:
+        applied, uri, note = _inspect_other(readable, path)
+        if note:
+            report.notes.append(f"{path}: {note}")
+        with _readable_copy(readable, applied) as source:
+            if source != readable:
+                uri = read_only_uri(source)
+            db.conn.execute("ATTACH DATABASE ? AS other", [uri])
+            try:
+                incoming = _collect(db, path)
+                if "immutable=1" in uri and _fingerprint(path) != seen:  # read as unchanging: was it?
+                    raise StorageError(f"{path} changed while it was being read (another fieldpad wrote to "
+                                       "it); nothing was merged: try again")
+                with write(db):
+                    _bring_in(db, incoming, report)
+            finally:
+                db.conn.execute("DETACH DATABASE other")
     report.same_name_sites = [[{**s, "summary": sites.site_summary(db, s["id"])} for s in group]
                               for group in sites.same_name_sites(db)]
     report.same_name_boards = sites.same_name_boards(db)
