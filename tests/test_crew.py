@@ -109,6 +109,8 @@ def test_join_sites_then_boards_travels_to_every_laptop(fernwick):
     recs = export_records(db, site="Fernwick")
     assert len(recs) == 2 and {r["board_id"] for r in recs} == {ba}
     assert len(versions.board_history(db, ba)) == 2
+    html = to_html(db, export_records(db, day=DAY), day=DAY)
+    assert "has a different arc-flash label" in html and "38 cal/cm², PPE 4" in html
     # A third laptop that merges the first sees the same joins; the second, merged again, too.
     c, *_ = laptop(fernwick["tmp"] / "c.db", 5, "2")
     merge_file(c, fernwick["path"])

@@ -39,6 +39,11 @@ SOURCE_NAMES = [
 ]
 
 
+#: Arc-flash label fields: where a board joined into this one recorded other values, the report says so.
+AF_FIELDS = {"af_incident_energy_cal_cm2": "{:g} cal/cm²", "af_working_distance_mm": "working distance {:g} mm",
+             "af_boundary_mm": "arc-flash boundary {:g} mm", "af_ppe": "PPE {}", "af_label_date": "dated {}"}
+
+
 def _n(x, fmt="{:.2f}"):
     return "" if x is None else fmt.format(x)
 
@@ -144,6 +149,8 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
             "name": title, "location": b["location"] if b else None, "system": b["system"] if b else "",
             "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
             "label": _label(b, s["label_review_years"], on) if b else "—",
+            "label_joined": [AF_FIELDS[f].format(v) for f, v, _ in
+                             sites.joined_differences(db, "board", board_id, AF_FIELDS)],
             "findings": latest["findings"], "readings": rows,
             "corrections": corrections, "conflicts": conflicted,
             "svg": phasor_svg(_arrows(latest["inputs"], labels, colours), 220, latest["results"]["rotation"],

@@ -373,6 +373,19 @@ def join(db, entity: str, keep_id: str, other_id: str, *, by=None, reason=None) 
     return [(f, keep[f], other[f]) for f in fields if keep.get(f) != other.get(f)]
 
 
+def joined_differences(db, entity: str, keep_id: str, fields=None) -> list[tuple[str, object, str]]:
+    """Settings of the sites (boards) joined into ``keep_id`` that differ from the kept one's: ``(field,
+    their value, their id)``, so a report can say that another laptop recorded, say, another arc-flash
+    label for the same board."""
+    keep = db[entity].get(keep_id)
+    out = []
+    for other in db.query(f"SELECT * FROM {entity} WHERE joined_into = ? ORDER BY id", [keep_id]):
+        for f in fields or [f for f in HISTORY_FIELDS[entity] if f != "site_id"]:
+            if other.get(f) is not None and other.get(f) != keep.get(f):
+                out.append((f, other[f], other["id"]))
+    return out
+
+
 def same_name_sites(db) -> list[list[dict]]:
     """Sites that stand on their own and share a name: each group's rows, by id."""
     out: dict = {}
