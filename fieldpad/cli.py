@@ -38,7 +38,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     e = sub.add_parser("export", parents=[db_opt], help="current readings with results and findings")
     e.add_argument("--day", metavar="YYYY-MM-DD", help="readings taken on this local day")
-    e.add_argument("--site", metavar="NAME")
+    e.add_argument("--site", metavar="NAME|ID", help="one site, by name or (where two share a name) by id")
     e.add_argument("--format", choices=("csv", "json", "html", "xlsx"), required=True)
     e.add_argument("-o", "--output", metavar="FILE", help="write to FILE (default: standard output; "
                    "xlsx needs a FILE)")
@@ -72,6 +72,20 @@ def build_parser() -> argparse.ArgumentParser:
                         "and bring back the rest")
     sy.set_defaults(command_module="sync")
 
+    for name, what, fn in (("join-sites", "site", "run_sites"), ("join-boards", "board", "run_boards")):
+        j = sub.add_parser(name, parents=[db_opt, who_opt()],
+                           help=f"two {what} ids are the same {what}: show OTHER_ID as KEEP_ID (recorded, merged)")
+        j.add_argument("keep_id", metavar="KEEP_ID")
+        j.add_argument("other_id", metavar="OTHER_ID")
+        j.add_argument("--reason", metavar="TEXT")
+        j.set_defaults(command_module=f"join:{fn}")
+    st_ = sub.add_parser("settle", parents=[db_opt, who_opt()],
+                         help="list readings whose versions compete, or settle one with a new version")
+    st_.add_argument("reading_id", nargs="?", metavar="READING_ID")
+    st_.add_argument("version_id", nargs="?", metavar="VERSION_ID", help="the version whose values stand")
+    st_.add_argument("--reason", metavar="TEXT")
+    st_.set_defaults(command_module="settle")
+
     d = sub.add_parser("db", parents=[db_opt], help="database check, backup and info")
     d.add_argument("action", choices=("check", "backup", "info"))
     d.add_argument("dest", nargs="?", metavar="DEST")
@@ -86,6 +100,13 @@ def build_parser() -> argparse.ArgumentParser:
                         help="open the app on a fresh copy of the invented demo site (own file)")
     dm.set_defaults(command_module="app:run_demo")
     return p
+
+
+def who_opt() -> argparse.ArgumentParser:
+    who = argparse.ArgumentParser(add_help=False)
+    who.add_argument("--technician", metavar="NAME", default=argparse.SUPPRESS,
+                     help="name that signs the change (default: $FIELDPAD_TECHNICIAN, else your login name)")
+    return who
 
 
 def main(argv=None) -> int:

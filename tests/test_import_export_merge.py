@@ -171,7 +171,7 @@ def test_merge_reports_same_named_board(tmp_path):
     sites.create_board(b, sa, "MDB")
     b.close()
     rep = merge_file(a, tmp_path / "b.db")
-    assert rep.same_name_boards == ["Depot / MDB"]
+    assert [[(b["site_name"], b["name"]) for b in g] for g in rep.same_name_boards] == [[("Depot", "MDB")] * 2]
     assert a["board"].count == 2  # kept, reported, not silently joined
 
 

@@ -229,7 +229,7 @@ def test_merge_warnings_and_messages_are_terminal_safe(tmp_path):
     a, b = tmp_path / "a.db", tmp_path / "b.db"
     for p in (a, b):
         d = open_db(p)
-        sites.create_board(d, sites.create_site(d, "Quay"), evil)
+        sites.create_board(d, sites.create_site(d, "Quay", site_id="01900000-0000-7000-8000-0000000000aa"), evil)
         d.close()
     r = cli("merge", str(b), "--db", str(a))
     assert r.returncode == 0, r.stderr

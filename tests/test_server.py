@@ -26,7 +26,7 @@ pytestmark = pytest.mark.skipif(_BIN is None, reason=_WHY)
 
 TECHS = ("ana", "ben")
 SUPERVISOR = "sue"
-LAPTOP_TABLES = ("site", "board", "round", "reading")
+LAPTOP_TABLES = ("site", "board", "round", "setting_version", "id_join", "reading", "version_parent", "signoff")
 
 
 @pytest.fixture(scope="module")
@@ -131,17 +131,19 @@ def test_two_laptops_converge_and_a_second_sync_moves_nothing(cluster, crew_db, 
     a, sid, (b1,) = laptop(tmp_path, "ana")
     # Ben's laptop got the site by a file merge earlier (same site id) and reads a second board.
     b = open_db(tmp_path / "ben.db")
-    b["site"].insert(dict(next(a.query("SELECT * FROM site"))))
+    merge_file(b, tmp_path / "ana.db")
     b2 = sites.create_board(b, sid, "DB-2", system="wye", nominal_v=208)
     r1 = versions.save_reading(a, b1, BAL, technician="ana")
     versions.save_reading(b, b2, {**BAL, "va": "120", "vb": "121", "vc": "119"}, technician="ben")
     versions.correct_reading(a, r1.reading_id, {**BAL, "ia": "101"}, reason="clamp re-seated", by="ana")
 
     ra = sync(a, as_role(cluster, crew_db, "ana"))
-    assert ra.sent == {"site": 1, "board": 1, "round": 0, "reading": 2}
+    assert {k: ra.sent[k] for k in ("site", "board", "round", "reading")} == {
+        "site": 1, "board": 1, "round": 0, "reading": 2}
+    assert ra.sent["setting_version"] > 0  # the site's and board's settings, field by field
     rb = sync(b, as_role(cluster, crew_db, "ben"))
-    assert rb.sent["reading"] == 1 and rb.sent["site"] == 0  # the site was there already
-    assert rb.received["reading"] == 2 and rb.received["board"] == 1
+    assert rb.sent["reading"] == 1 and rb.sent["site"] == 0 and rb.sent["board"] == 1  # the site was there
+    assert rb.received["reading"] == 2 and rb.received["board"] == 0  # MDB-1 came by the file merge
     ra2 = sync(a, as_role(cluster, crew_db, "ana"))
     assert ra2.received["reading"] == 1 and ra2.received["board"] == 1
     assert content(a) == content(b)
@@ -339,3 +341,33 @@ def test_a_supervisor_sends_sign_offs_only_and_only_as_themselves(cluster, crew_
         with pytest.raises(psycopg.errors.InsufficientPrivilege):
             conn.execute("INSERT INTO signoff (id, site_id, day, day_start_utc, day_end_utc, signed_by, signed_at)"
                          f" VALUES ('x', '{sid}', '{day}', 'a', 'b', 'ana', 'now')")
+
+
+def test_settings_changed_on_two_laptops_both_survive_through_the_server(cluster, crew_db, tmp_path):
+    # Issue "One crew, one record", rule 4, through the server instead of a file: a rename on one laptop
+    # and a new arc-flash label on another both stand, on every laptop and in the server's export.
+    a, sid, (b1,) = laptop(tmp_path, "ana")
+    sync(a, as_role(cluster, crew_db, "ana"))
+    b = open_db(tmp_path / "ben.db")
+    sync(b, as_role(cluster, crew_db, "ben"))
+    sites.update_board(a, b1, name="MDB-1 (north)")
+    sites.update_board(b, b1, af_incident_energy_cal_cm2=38.0, af_ppe="4")
+    versions.save_reading(b, b1, BAL, technician="ben")
+    for db, who in ((a, "ana"), (b, "ben"), (a, "ana")):
+        sync(db, as_role(cluster, crew_db, who))
+    for db in (a, b):
+        row = sites.get_board(db, b1)
+        assert (row["name"], row["af_incident_energy_cal_cm2"], row["af_ppe"]) == ("MDB-1 (north)", 38.0, "4")
+    assert content(a) == content(b)
+    boss = open_db(tmp_path / "sue.db")
+    sync(boss, as_role(cluster, crew_db, SUPERVISOR))
+    from fieldpad.storage import signoffs
+
+    day = next(boss.query("SELECT substr(taken_at, 1, 10) AS d FROM reading"))["d"]
+    signoffs.sign_off(boss, sid, by=SUPERVISOR, day=day)
+    sync(boss, as_role(cluster, crew_db, SUPERVISOR))
+    sync(a, as_role(cluster, crew_db, "ana"))
+    assert [r["signed_by"] for r in a.query("SELECT signed_by FROM signoff")] == [SUPERVISOR]
+    code, out, err = _cli("export", "--format", "csv", "--server", as_role(cluster, crew_db, SUPERVISOR))
+    assert code == 0, err
+    assert "MDB-1 (north)" in out and ",MDB-1," not in out

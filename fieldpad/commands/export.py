@@ -35,11 +35,22 @@ def run(args) -> int:
         # Before any work: refuse a FIFO, device or folder, and the database itself or any of its files.
         check_target(Path(out_path), overwrite=True, protect=(resolve_path(args.db),), stdout_hint=True)
     db = open_server_copy(args.server) if getattr(args, "server", None) else open_database(args)
-    if args.site and not any(s_["name"] == args.site for s_ in sites.list_sites(db)):
-        names = ", ".join(printable(s_["name"]) for s_ in sites.list_sites(db)) or "none"
-        return report_problems([f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
-                                 f"(sites: {names}); nothing was written"])
-    records = export_records(db, day=args.day, site=args.site)
+    site_id = None
+    if args.site:
+        # By id everywhere: a name is looked up once, here, and two sites of one name are never mixed.
+        found = sites.sites_matching(db, args.site)
+        if not found:
+            names = ", ".join(printable(s_["name"]) for s_ in sites.list_sites(db)) or "none"
+            return report_problems([f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
+                                     f"(sites: {names}); nothing was written"])
+        if len(found) > 1:
+            return report_problems(
+                [f"--site: {len(found)} sites are named '{printable(args.site)}' (two laptops each created one); "
+                 "nothing was written. Give the id with --site ID, or if they are the same site join them first "
+                 "(fieldpad join-sites KEEP_ID OTHER_ID):"]
+                + [f"  {s_['id']}  {printable(sites.site_summary(db, s_['id']))}" for s_ in found])
+        site_id, args.site = found[0]["id"], found[0]["name"]
+    records = export_records(db, day=args.day, site_id=site_id)
     if args.format == "xlsx":
         from ..report.xlsx import write_xlsx
 

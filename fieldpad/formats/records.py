@@ -75,7 +75,8 @@ def _flat_export_record(rec):
     if not isinstance(rec, dict):
         return rec
     inputs = rec.get("inputs") if isinstance(rec.get("inputs"), dict) else {}
-    flat = {k: v for k, v in rec.items() if k not in ("inputs", "results", "findings", "board_id")}
+    flat = {k: v for k, v in rec.items()
+            if k not in ("inputs", "results", "findings", "board_id", "site_id", "conflict")}
     return {**flat, **inputs}
 
 

@@ -16,6 +16,7 @@ from ..core.results import RESULT_FIELDS, analyze_records
 from ..core.thresholds import Thresholds
 from ..formats.records import EXPORT_FORMAT, findings_cell, formula_guard
 from ..storage import sites, versions
+from ..storage.db import StorageError
 from ..storage.ids import local_text, to_utc_text, utc_now
 
 FORMAT_VERSION = 1
@@ -52,19 +53,23 @@ def analyze_rows(rows: list[dict]) -> list[dict]:
     return out
 
 
-def export_records(db, *, day=None, site=None, round_id=None) -> list[dict]:
-    """One record per current reading: meta, inputs, results, findings."""
+def export_records(db, *, day=None, site=None, site_id=None, round_id=None) -> list[dict]:
+    """One record per current reading: meta, inputs, results, findings.  ``site_id`` picks one site (a site
+    joined into it included); ``site`` by name only where one site has it (two: StorageError)."""
     start = end = None
     if day:
         start, end = day_range_utc(day)
-    site_id = None
-    if site:
-        s = sites.find_site(db, site)
-        if s is None:
+    if site and not site_id:
+        found = sites.sites_matching(db, site)
+        if len(found) > 1:
+            raise StorageError(f"{len(found)} sites are named {site!r}: choose one by id "
+                               f"({', '.join(s['id'] for s in found)})")
+        if not found:
             return []
-        site_id = s["id"]
+        site_id = found[0]["id"]
     rows = versions.current_readings(db, day_start_utc=start, day_end_utc=end, site_id=site_id, round_id=round_id)
     results = analyze_rows(rows)
+    competing = versions.conflicts(db, {r["reading_id"] for r in rows})
     out = []
     for r, res in zip(rows, results):
         out.append({
@@ -72,7 +77,8 @@ def export_records(db, *, day=None, site=None, round_id=None) -> list[dict]:
             "taken_at_local": local_text(r["taken_at"], "%Y-%m-%d %H:%M:%S %z"),
             "technician": r["technician"], "instrument": r["instrument"], "round": r["round_label"],
             "note": r["note"], "reading_id": r["reading_id"], "version": r["version"], "reason": r["reason"],
-            "recorded_at": r["recorded_at"], "board_id": r["board_id"],
+            "recorded_at": r["recorded_at"], "board_id": r["shown_board_id"], "site_id": r["site_id"],
+            "conflict": r["reading_id"] in competing,
             "inputs": {f: r[f] for f in INPUT_FIELDS},
             "results": {f: res[f] for f in RESULT_COLUMNS},
             "findings": res["findings"],

@@ -64,6 +64,11 @@ FIELD_NAMES = {
 LABEL_SHORT = {"missing": "⚠ none recorded", "undated": "⚠ undated", "unreadable date": "⚠ date unreadable"}
 
 
+#: Arc-flash label fields: where a board joined into this one recorded other values, the report says so.
+AF_FIELDS = {"af_incident_energy_cal_cm2": "{:g} cal/cm²", "af_working_distance_mm": "working distance {:g} mm",
+             "af_boundary_mm": "arc-flash boundary {:g} mm", "af_ppe": "PPE {}", "af_label_date": "dated {}"}
+
+
 def _n(x, fmt="{:.2f}"):
     return "" if x is None else fmt.format(x)
 
@@ -196,24 +201,25 @@ def record_context(db, records: list[dict], *, day=None, site=None) -> dict:
     from .export import day_range_utc
 
     start, end = day_range_utc(day) if day else (None, None)
-    site_by_name: dict = {}
+    # Sites and boards by id: two of one name (one from each laptop) are never mixed.
+    site_by_id: dict = {}
     if site:
-        s = sites.find_site(db, site)
-        if s is not None:
-            site_by_name[site] = s
+        for s in sites.sites_matching(db, site)[:1]:
+            site_by_id[s["id"]] = s
     for rec in records:
-        if rec["site"] not in site_by_name:
-            site_by_name[rec["site"]] = sites.find_site(db, rec["site"])
+        if rec["site_id"] not in site_by_id:
+            site_by_id[rec["site_id"]] = sites.get_site(db, rec["site_id"])
+    site_by_name = {s_["name"]: s_ for s_ in site_by_id.values()}
     stored = {}
     voids: dict = defaultdict(list)
-    for s in site_by_name.values():
+    for s in site_by_id.values():
         for row in versions.current_readings(db, day_start_utc=start, day_end_utc=end, site_id=s["id"],
                                              include_void=True):
             stored[row["reading_id"]] = row
             if row["void"]:
-                voids[(row["site_name"], row["board_name"])].append(row)
+                voids[(row["site_id"], row["shown_board_id"])].append(row)
     signoffs, round_rows = [], {}
-    for s in site_by_name.values():
+    for s in site_by_id.values():
         if day:
             signoffs += signoff_store.signoffs_for_range(db, s["id"], start, end)
             for r in rounds_store.rounds_of_day(db, s["id"], start, end):
@@ -224,8 +230,8 @@ def record_context(db, records: list[dict], *, day=None, site=None) -> dict:
         if row["round_id"] and row["round_id"] not in round_rows:
             round_rows[row["round_id"]] = rounds_store.get_round(db, row["round_id"])
     signoffs.sort(key=lambda so: so["signed_at"])
-    return {"site_by_name": site_by_name, "stored": stored, "voids": voids, "signoffs": signoffs,
-            "round_rows": round_rows}
+    return {"site_by_id": site_by_id, "site_by_name": site_by_name, "stored": stored, "voids": voids,
+            "signoffs": signoffs, "round_rows": round_rows}
 
 
 def after_signoff(ctx: dict, row: dict, version: dict) -> dict | None:
@@ -235,8 +241,9 @@ def after_signoff(ctx: dict, row: dict, version: dict) -> dict | None:
 
 
 def version_trail(db, ctx: dict, tfmt: str = "%Y-%m-%d %H:%M") -> tuple[dict, dict]:
-    """Every correction and void of the stored readings, by (site, board), oldest reading first; and which
-    readings were added, corrected or voided after a sign-off (reading_id -> words)."""
+    """Every correction and void of the stored readings, by (site id, board id), oldest reading first; and which
+    readings were added, corrected or voided after a sign-off (reading_id -> words).  Where two versions
+    supersede the same one (changed on two laptops), the competing ones are marked."""
     by_board: dict = defaultdict(list)
     late: dict = {}
     for row in sorted(ctx["stored"].values(), key=lambda x: x["taken_at"]):
@@ -245,19 +252,22 @@ def version_trail(db, ctx: dict, tfmt: str = "%Y-%m-%d %H:%M") -> tuple[dict, di
                 late[row["reading_id"]] = "added after sign-off"
             continue
         prev = None
-        for v in versions.history(db, row["reading_id"]):
+        hist = versions.history(db, row["reading_id"])
+        conflict = sum(bool(v["is_head"]) for v in hist) > 1
+        for v in hist:
             if prev is None and after_signoff(ctx, row, v):
                 late[row["reading_id"]] = "added after sign-off"
             if prev is not None:
                 so = after_signoff(ctx, row, v)
                 if so and row["reading_id"] not in late:
                     late[row["reading_id"]] = "voided after sign-off" if v["void"] else "corrected after sign-off"
-                by_board[(row["site_name"], row["board_name"])].append({
+                by_board[(row["site_id"], row["shown_board_id"])].append({
                     "site": row["site_name"], "board": row["board_name"], "taken_at": row["taken_at"],
                     "taken": local_text(row["taken_at"], tfmt), "version": v["version"],
                     "changes": changes(prev, v) or ["no value changed"], "reason": v["reason"],
                     "by": v["recorded_by"], "recorded_at": v["recorded_at"], "recorded": local_text(v["recorded_at"]),
                     "void": bool(v["void"]), "after_signoff": signoff_store.describe(so) if so else None,
+                    "competing": conflict and bool(v["is_head"]),
                 })
             prev = v
     return by_board, late
@@ -268,31 +278,45 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
     # Labels are judged on the day reported (or today for an undated report): the same report, the same words.
     on = date.fromisoformat(day) if day else (today or date.today())
     ctx = record_context(db, records, day=day, site=site)
-    site_by_name, voids, signoffs, round_rows = (ctx["site_by_name"], ctx["voids"], ctx["signoffs"],
-                                                 ctx["round_rows"])
+    site_by_id, site_by_name, voids, signoffs, round_rows = (
+        ctx["site_by_id"], ctx["site_by_name"], ctx["voids"], ctx["signoffs"], ctx["round_rows"])
     tfmt = "%H:%M" if day else "%Y-%m-%d %H:%M"
     trail, late = version_trail(db, ctx, tfmt)
+    # Sites and boards by id: two of one name (one from each laptop) are two sections, each with its own label.
     by_board: dict = defaultdict(list)
     for rec in records:
-        by_board[(rec["site"], rec["board"])].append(rec)
+        by_board[(rec["site_id"], rec["board_id"])].append(rec)
     for key in voids:
         by_board.setdefault(key, [])
+    board_rows = {bid: sites.get_board(db, bid) for _, bid in by_board}
+    names = defaultdict(set)
+    for site_id, board_id in by_board:
+        names[site_by_id[site_id]["name"]].add(site_id)
+        names[(site_id, board_rows[board_id]["name"])].add(board_id)
+
+    def _tell_apart(name, key, ident):
+        return f"{name} (id {ident[:13]}…)" if len(names[key]) > 1 else name
 
     summary = {sev: {"readings": 0, "boards": []} for sev in ("alarm", "warning", "info")}
     boards, table = [], []
     times = []
-    for n, ((site_name, board_name), recs) in enumerate(sorted(by_board.items())):
-        s = site_by_name[site_name]
-        b = sites.find_board(db, s["id"], board_name)
+    order = sorted(by_board.items(), key=lambda kv: (site_by_id[kv[0][0]]["name"], kv[0][0],
+                                                     board_rows[kv[0][1]]["name"], kv[0][1]))
+    for n, ((site_id, board_id), recs) in enumerate(order):
+        s = site_by_id[site_id]
+        b = board_rows[board_id]
+        site_name = _tell_apart(s["name"], s["name"], site_id)
+        board_name = _tell_apart(b["name"], (site_id, b["name"]), board_id)
+        conflicted = sum(r.get("conflict", False) for r in recs)
         labels = sites.site_labels(s)
         colours = phase_colours.colours(s["colour_set"], "print")
-        title = board_name if len(site_by_name) == 1 else f"{site_name} / {board_name}"
+        title = board_name if len(site_by_id) == 1 else f"{site_name} / {board_name}"
         for sev in summary:
             hits = [r for r in recs if any(f["severity"] == sev for f in r["findings"])]
             summary[sev]["readings"] += len(hits)
             if hits:
                 summary[sev]["boards"].append(title)
-        corrections = trail.get((site_name, board_name), [])
+        corrections = trail.get((site_id, board_id), [])
         rows = []
         for r in sorted(recs, key=lambda r: r["taken_at"]):
             res, inp = r["results"], r["inputs"]
@@ -307,10 +331,10 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
                 "p_kw": _n(None if res["p_w"] is None else res["p_w"] / 1000.0), "pf": _n(res["pf"]),
                 "magnitude_only": bool(res["basis"]) and "magnitudes" in res["basis"],
                 "version": r["version"], "note": r["note"], "instrument": r["instrument"],
-                "findings": r["findings"], "late": late.get(r["reading_id"]),
+                "findings": r["findings"], "late": late.get(r["reading_id"]), "conflict": r.get("conflict", False),
             })
         void_rows = []
-        for v in sorted(voids.get((site_name, board_name), []), key=lambda x: x["taken_at"]):
+        for v in sorted(voids.get((site_id, board_id), []), key=lambda x: x["taken_at"]):
             vals = {k: v[k] for k in NUMERIC_FIELDS if v.get(k) is not None}
             so = after_signoff(ctx, v, v)
             void_rows.append({
@@ -341,7 +365,9 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
             "system": b["system"] if b else "",
             "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
             "label": _label(b, s["label_review_years"], on) if b else "—",
-            "readings": rows, "voids": void_rows, "corrections": corrections,
+            "label_joined": [AF_FIELDS[f].format(v) for f, v, _ in
+                             sites.joined_differences(db, "board", board_id, AF_FIELDS)],
+            "readings": rows, "voids": void_rows, "corrections": corrections, "conflicts": conflicted,
             "svg": _svg(latest, labels, colours, title),
         })
     crew = sorted({r["technician"] for r in records if r["technician"]})

@@ -216,7 +216,7 @@ def _fill(wb, db, records, *, day, site) -> None:
     ws = wb.add_worksheet("Corrections")
     header(ws, cols)
     r = 0
-    for key in sorted(trail):
+    for key in sorted(trail, key=lambda k: (trail[k][0]["site"], trail[k][0]["board"], k)):
         for corr in trail[key]:
             r += 1
             fit_row(ws, r, [("\n".join(corr["changes"]), 36), (corr["reason"], 30), (corr["after_signoff"], 40)])

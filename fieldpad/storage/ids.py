@@ -9,7 +9,7 @@ from __future__ import annotations
 import os
 import time
 import uuid
-from datetime import UTC, datetime
+from datetime import UTC, datetime, timedelta
 
 
 def uuid7() -> str:
@@ -26,6 +26,15 @@ def uuid7() -> str:
 
 def utc_now() -> str:
     return to_utc_text(datetime.now(UTC))
+
+
+def stamp_after(stamp: str | None) -> str:
+    """Now, or one microsecond after ``stamp`` where this laptop's clock is not past it (a change made
+    here is then recorded after what it changes, even when another laptop's clock ran ahead)."""
+    now = utc_now()
+    if stamp is None or stamp < now:
+        return now
+    return to_utc_text(datetime.fromisoformat(stamp.replace("Z", "+00:00")) + timedelta(microseconds=1))
 
 
 def to_utc_text(dt: datetime) -> str:

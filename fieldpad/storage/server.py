@@ -35,10 +35,14 @@ from .db import write
 ENV_VAR = "FIELDPAD_SERVER"
 MIGRATION_TABLE = "fieldpad_migrations"
 # Laptop tables sent and received, parents first (a board needs its site, a reading its board and round).
-TABLES = ("site", "board", "round", "reading", "signoff")
+TABLES = ("site", "board", "round", "setting_version", "id_join", "reading", "version_parent", "signoff")
 # What each role sends: a technician the record of the boards, a supervisor their sign-offs.
-TECHNICIAN_TABLES = ("site", "board", "round", "reading")
+TECHNICIAN_TABLES = ("site", "board", "round", "setting_version", "id_join", "reading", "version_parent")
 SUPERVISOR_TABLES = ("signoff",)
+# Who recorded a row (the server takes it only from that role; None: anyone may send it), and the rows of
+# the same table it needs on the server first.
+AUTHOR = {"setting_version": ("recorded_by", True), "id_join": ("recorded_by", True),
+          "reading": ("recorded_by", False), "signoff": ("signed_by", False)}
 CONNECT_TIMEOUT_S = 10
 
 
@@ -203,6 +207,10 @@ def sync(db, url: str) -> SyncReport:
         role = conn.execute("SELECT current_user").fetchone()[0]
         conn.commit()
         report = SyncReport(server=shown_url(url), role=role)
+        from .sites import backfill_history
+
+        with write(db):  # settings from before there was a history get their rows, and are sent as rows
+            backfill_history(db)
         try:
             _send(db, conn, sid, role, report)
             _receive(db, conn, sid, report)
@@ -244,10 +252,8 @@ def _send(db, conn, sid: str, role: str, report: SyncReport) -> None:
                                [since]).fetchall()
         top = rows[-1][0] if rows else since
         held_from = None
-        if table == "reading":
-            rows, held_from = _sendable_versions(conn, cols, rows, role, report)
-        elif table == "signoff":
-            rows, held_from = _sendable_signoffs(conn, cols, rows, role, report)
+        if table in AUTHOR or table == "version_parent":
+            rows, held_from = _sendable(conn, table, cols, rows, role, report, batches)
         # The mark stops below the first row still waiting, so it is looked at again next time.
         top = min(top, held_from - 1) if held_from is not None else top
         batches[table] = (cols, [r[1:] for r in rows])
@@ -277,52 +283,56 @@ def _send(db, conn, sid: str, role: str, report: SyncReport) -> None:
                             [sid, table, top])
 
 
-def _sendable_versions(conn, cols, rows, role, report):
-    """This technician's versions whose superseded version is on the server or sent with them; returns
-    (rows to send, rowid of the first held back or None).  Versions recorded by others that the server
-    lacks are counted (``not_mine``) and held too: they are looked at again until their author's laptop
-    has sent them."""
-    i_id, i_sup, i_by = cols.index("id") + 1, cols.index("supersedes") + 1, cols.index("recorded_by") + 1
-    mine = [r for r in rows if r[i_by] == role]
-    ids = {r[i_id] for r in mine}
-    outside = sorted({r[i_sup] for r in mine if r[i_sup] and r[i_sup] not in ids}
-                     | {r[i_id] for r in rows if r[i_by] != role})
-    on_server = set()
-    if outside:
-        on_server = {x[0] for x in conn.execute("SELECT id FROM reading WHERE id = ANY(%s)", [outside])}
-        conn.commit()
-    ok: set = set()
+def _on_server(conn, table: str, ids) -> set:
+    ids = sorted({i for i in ids if i})
+    if not ids:
+        return set()
+    found = {x[0] for x in conn.execute(f"SELECT id FROM {table} WHERE id = ANY(%s)", [ids])}
+    conn.commit()
+    return found
+
+
+#: The rows of the same send a row needs on the server first: (its column, the table it names).
+NEEDS = {"reading": (("supersedes", "reading"),),
+         "version_parent": (("version_id", "reading"), ("parent_id", "reading")),
+         "signoff": (("site_id", "site"), ("round_id", "round"))}
+
+
+def _sendable(conn, table, cols, rows, role, report, batches):
+    """The rows of ``table`` this role may send and the server can take now; returns (rows to send, rowid of
+    the first held back or None).  ``rows`` are (rowid, *cols) in rowid order; ``batches`` what this send
+    already holds of the tables before this one.
+
+    A row recorded by someone else (``AUTHOR``) is theirs to send: where the server lacks it, it is counted
+    (``not_mine``) and held, and looked at again until their laptop has sent it.  A reading version waits
+    for the version it supersedes, a settling version's extra parent for both its versions, a sign-off for
+    its site and round: on the server, or in this send."""
+    col = {c: cols.index(c) + 1 for c in cols}
+    author, anyone = AUTHOR.get(table, (None, True))
+
+    def own(r):
+        return author is None or r[col[author]] == role or (anyone and r[col[author]] is None)
+
+    theirs = {r[0] for r in rows if not own(r)}
+    present = _on_server(conn, table, (r[col["id"]] for r in rows if r[0] in theirs))
+    known: dict = {}
+    for fk, parent in NEEDS.get(table, ()):
+        ids = known.setdefault(parent, set())
+        ids |= _on_server(conn, parent, (r[col[fk]] for r in rows if r[0] not in theirs))
+        if parent in batches:
+            pcols, prows = batches[parent]
+            ids |= {r[pcols.index("id")] for r in prows}
+    sent: set = set()
     send, held = [], []
-    for r in rows:  # rowid order: a version comes after the one it supersedes
-        if r[i_by] != role:
-            if r[i_id] not in on_server:
+    for r in rows:
+        if r[0] in theirs:
+            if r[col["id"]] not in present:
                 report.not_mine += 1
                 held.append(r[0])
             continue
-        sup = r[i_sup]
-        if sup is None or sup in on_server or sup in ok:
-            ok.add(r[i_id])
-            send.append(r)
-        else:
-            report.waiting += 1
-            held.append(r[0])
-    return send, (held[0] if held else None)
-
-
-def _sendable_signoffs(conn, cols, rows, role, report):
-    """This supervisor's sign-offs whose site (and round) are on the server; the rest are held."""
-    i_by, i_site, i_round = (cols.index(c) + 1 for c in ("signed_by", "site_id", "round_id"))
-    mine = [r for r in rows if r[i_by] == role]
-    sites = {x[0] for x in conn.execute("SELECT id FROM site WHERE id = ANY(%s)",
-                                        [sorted({r[i_site] for r in mine})])}
-    rounds = {x[0] for x in conn.execute("SELECT id FROM round WHERE id = ANY(%s)",
-                                         [sorted({r[i_round] for r in mine if r[i_round]})])}
-    conn.commit()
-    send, held = [], []
-    for r in rows:
-        if r[i_by] != role:
-            continue  # another supervisor's: theirs to send
-        if r[i_site] in sites and (r[i_round] is None or r[i_round] in rounds):
+        if all(r[col[fk]] is None or r[col[fk]] in known[parent] or (parent == table and r[col[fk]] in sent)
+               for fk, parent in NEEDS.get(table, ())):
+            sent.add(r[col["id"]])
             send.append(r)
         else:
             report.waiting += 1
@@ -401,7 +411,8 @@ def _write_snapshot(db, path: Path, got: dict) -> None:
 
 _PARENTS = (("board", "site_id", "site"), ("round", "site_id", "site"), ("reading", "board_id", "board"),
             ("reading", "round_id", "round"), ("reading", "supersedes", "reading"), ("signoff", "site_id", "site"),
-            ("signoff", "round_id", "round"))
+            ("signoff", "round_id", "round"), ("version_parent", "version_id", "reading"),
+            ("version_parent", "parent_id", "reading"))
 
 
 def _fill_parents(db, snap) -> None:
@@ -417,32 +428,50 @@ def _fill_parents(db, snap) -> None:
                         f"INSERT OR IGNORE INTO main.{parent} SELECT * FROM laptop.{parent} WHERE id IN "
                         f"(SELECT {fk} FROM main.{child} WHERE {fk} IS NOT NULL "
                         f"AND {fk} NOT IN (SELECT id FROM main.{parent}))")
+            # A site or board row as first sent is not what it is now: its whole settings history goes with it
+            # (merge computes the row from that history, and would otherwise take the row's content as history).
+            for entity in ("site", "board"):
+                snap.conn.execute(
+                    "INSERT OR IGNORE INTO main.setting_version SELECT * FROM laptop.setting_version "
+                    f"WHERE entity = '{entity}' AND entity_id IN (SELECT id FROM main.{entity})")
     finally:
         snap.conn.execute("DETACH DATABASE laptop")
 
 
 def fetch_all(url: str, dest: Path) -> Path:
-    """The whole crew record from the server as a fieldpad database file at ``dest`` (for export)."""
+    """The whole crew record from the server as a fieldpad database file at ``dest`` (for export): the
+    server's rows written to a file beside it, then brought in by the same merge as a laptop's (which
+    checks every row and computes each site and board from its settings history)."""
+    from .db import open_db
+    from .merge import merge_file
+
     conn = connect(url)
     try:
         _check_schema(conn)
-        from .db import open_db
-
-        snap = open_db(dest, create=True)
-        try:
-            got = {}
-            with conn.transaction():
-                for table in TABLES:
-                    cols = _cols(snap, table)
-                    got[table] = (cols, conn.execute(f"SELECT {', '.join(cols)} FROM {table}").fetchall())
-            with write(snap):
-                for table in TABLES:
-                    cols, rows = got[table]
-                    if rows:
-                        snap.conn.executemany(f"INSERT INTO {table} ({', '.join(cols)}) VALUES "
-                                              f"({', '.join('?' * len(cols))})", rows)
-        finally:
-            snap.close()
+        got = {}
+        with conn.transaction():
+            for table in TABLES:
+                cols = [r[0] for r in conn.execute(
+                    "SELECT column_name FROM information_schema.columns WHERE table_name = %s AND column_name "
+                    "NOT IN ('tx', 'sent_by', 'received_at') ORDER BY ordinal_position", [table])]
+                got[table] = (cols, conn.execute(f"SELECT {', '.join(cols)} FROM {table}").fetchall())
     finally:
         conn.close()
+    raw = dest.with_name(dest.name + ".from-server")
+    snap = open_db(raw, create=True)
+    try:
+        snap.conn.execute("PRAGMA foreign_keys=OFF")
+        with write(snap):
+            for table in TABLES:
+                cols, rows = got[table]
+                if rows:
+                    snap.conn.executemany(f"INSERT INTO {table} ({', '.join(cols)}) VALUES "
+                                          f"({', '.join('?' * len(cols))})", rows)
+    finally:
+        snap.close()
+    db = open_db(dest, create=True)
+    try:
+        merge_file(db, raw)
+    finally:
+        db.close()
     return dest

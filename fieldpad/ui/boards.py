@@ -186,8 +186,12 @@ class SitePicker(ModalScreen[str | None]):
     def on_mount(self) -> None:
         t = self.query_one(DataTable)
         t.add_columns("site", "boards")
-        for s in sites.list_sites(self.app.db):
-            t.add_row(printable(s["name"]), str(len(sites.list_boards(self.app.db, s["id"]))), key=s["id"])
+        listed = sites.list_sites(self.app.db)
+        for s in listed:
+            # Two sites of one name (one from each laptop): told apart by id, never mixed.
+            twin = sum(o["name"] == s["name"] for o in listed) > 1
+            t.add_row(printable(s["name"]) + (f" (id {s['id'][:13]}…)" if twin else ""),
+                      str(len(sites.list_boards(self.app.db, s["id"]))), key=s["id"])
         t.focus()
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
@@ -257,9 +261,12 @@ class BoardList(Screen):
         read_in_round = set()
         if rnd:
             read_in_round = rounds.boards_read_in_round(app.db, rnd)
-        for b in sites.list_boards(app.db, app.site_id):
+        listed = sites.list_boards(app.db, app.site_id)
+        for b in listed:
             last = versions.previous_reading(app.db, b["id"])
-            t.add_row(printable(b["name"]), printable(b["location"]), b["system"],
+            twin = sum(o["name"] == b["name"] for o in listed) > 1  # one from each laptop: told apart by id
+            t.add_row(printable(b["name"]) + (f" (id {b['id'][:13]}…)" if twin else ""), printable(b["location"]),
+                      b["system"],
                       f"{b['nominal_v']:g}" if b["nominal_v"] else "", local_text(last["taken_at"]) if last else "—",
                       "✔ done" if b["id"] in read_in_round else ("to do" if rnd else ""), key=b["id"])
         hint = "Enter: open the board's sheet · n: new board · r: round · F1: help"

@@ -11,7 +11,7 @@ from ..report.export import analyze_rows
 from ..storage import sites, versions
 from ..storage.db import StorageError
 from ..storage.ids import local_text
-from .dialogs import AskReason, TextPage
+from .dialogs import AskReason, AskText, TextPage
 from .key_strip import KeyStrip
 from .messages import OpenSheet
 from .safe import printable
@@ -23,6 +23,7 @@ class BoardHistory(Screen):
         Binding("enter", "versions", "Versions"),
         Binding("c", "correct", "Correct"),
         Binding("x", "void", "Void"),
+        Binding("s", "settle", "Settle conflict"),
         Binding("escape", "back", "Back"),
     ]
 
@@ -33,7 +34,8 @@ class BoardHistory(Screen):
     def compose(self) -> ComposeResult:
         yield Static(id="history-title")
         yield DataTable(id="history", cursor_type="row", zebra_stripes=True)
-        yield Static("Enter: all versions · c: correct · x: void (both keep the old version)", id="history-hint")
+        yield Static("Enter: all versions · c: correct · x: void (both keep the old version) · s: settle a conflict",
+                     id="history-hint")
         yield KeyStrip()
 
     def on_mount(self) -> None:
@@ -51,11 +53,14 @@ class BoardHistory(Screen):
         rows = versions.board_history(self.app.db, self.board_id, 50)
         results = analyze_rows([{**r, "thresholds_json": self.site["thresholds_json"],
                                  "phase_labels": self.site["phase_labels"]} for r in rows])
+        competing = versions.conflicts(self.app.db, {r["reading_id"] for r in rows})
         for r, res in zip(rows, results):
             worst = res["findings"][0] if res["findings"] else None
             worst_text = f"{worst['severity']}: {worst['code']}" if worst else ""
             if r["void"]:
                 worst_text = "VOID: " + printable(r["reason"])
+            if r["reading_id"] in competing:  # two laptops changed the same version
+                worst_text = "⚠ CONFLICT (Enter: versions) " + worst_text
             table.add_row(local_text(r["taken_at"]), str(r["version"]), printable(r["technician"]),
                           _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "", worst_text,
                           key=r["reading_id"])
@@ -71,9 +76,13 @@ class BoardHistory(Screen):
         if not rid:
             return
         t = Text()
-        for v in versions.history(self.app.db, rid):
+        every = versions.history(self.app.db, rid)
+        forked = sum(x["is_head"] for x in every) > 1
+        for v in every:
             t.append(f"version {v['version']}  recorded {local_text(v['recorded_at'], '%Y-%m-%d %H:%M:%S')}"
-                     f" by {printable(v['recorded_by']) or '—'}\n", "bold")
+                     f" by {printable(v['recorded_by']) or '—'}"
+                     + (" ⚠ competing" + (" (shown)" if v["is_current"] else "")
+                        if v["is_head"] and forked else "") + "\n", "bold")
             if v["reason"]:
                 t.append(f"  {'VOID' if v['void'] else 'reason'}: {printable(v['reason'])}\n")
             t.append("  " + ", ".join(f"{k}={printable(val)}" for k, val in versions.inputs_of(v).items()) + "\n\n")
@@ -99,6 +108,42 @@ class BoardHistory(Screen):
                 return
             self.reload()
             self.notify("Reading marked void; every version is kept.")
+
+    def action_settle(self) -> None:
+        """Competing versions (two laptops changed the same one): the supervisor picks the one that stands."""
+        rid = self._selected()
+        if not rid:
+            return
+        tops = versions.heads(self.app.db, rid)
+        if len(tops) < 2:
+            self.notify("This reading has no competing versions: nothing to settle.")
+            return
+        lines = "\n".join(
+            f"{k}: v{v['version']} {local_text(v['recorded_at'])} by {printable(v['recorded_by']) or '—'}"
+            + (" VOID" if v["void"] else "") + f" — {printable(v['reason']) or ''}" for k, v in enumerate(tops, 1))
+
+        def chosen(answer: str | None) -> None:
+            if answer is None:
+                return
+            if not answer.isdigit() or not 1 <= int(answer) <= len(tops):
+                self.notify(f"Give a number from 1 to {len(tops)}.", severity="warning")
+                return
+            keep = tops[int(answer) - 1]["id"]
+            self.app.push_screen(AskReason("Why does this version stand? (every version is kept)"),
+                                 lambda reason: self._settle(rid, keep, reason))
+
+        self.app.push_screen(AskText(f"Competing versions of this reading:\n{lines}\nWhich one stands? (number)"),
+                             chosen)
+
+    def _settle(self, rid: str, keep: str, reason: str | None) -> None:
+        if reason:
+            try:
+                versions.settle_reading(self.app.db, rid, keep, reason=reason, by=self.app.technician)
+            except StorageError as e:
+                self.notify(f"NOT SAVED: the conflict was not settled: {e}", severity="error", timeout=12)
+                return
+            self.reload()
+            self.notify("Conflict settled with a new version; every version is kept.")
 
     def on_screen_resume(self) -> None:
         self.reload()

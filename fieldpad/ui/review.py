@@ -79,7 +79,7 @@ class DayReview(Screen):
 
     def reload(self) -> None:
         site = sites.get_site(self.app.db, self.app.site_id)
-        self.records = export_records(self.app.db, day=self.day.isoformat(), site=site["name"])
+        self.records = export_records(self.app.db, day=self.day.isoformat(), site_id=site["id"])
         shown = [r for r in self.records
                  if (not self.findings_only or r["findings"])
                  and (not self.board_filter or self.board_filter.lower() in (r["board"] or "").lower())
@@ -101,13 +101,14 @@ class DayReview(Screen):
             res = r["results"]
             w = r["findings"][0] if r["findings"] else None
             taken = local_text(r["taken_at"], "%H:%M")
+            cell = (Text(f"{w['severity'].upper()} {w['code']}", f"bold {ALARM}" if w["severity"] == "alarm"
+                         else WARN if w["severity"] == "warning" else INFO) if w else Text(""))
+            if r.get("conflict"):  # two laptops changed the same version: for the supervisor to settle
+                cell = Text("⚠ CONFLICT ", f"bold {ALARM}") + cell
             t.add_row(Text(taken + "*", f"bold {WARN}") if r["reading_id"] in self.late else taken,
                       printable(r["board"]), printable(r["technician"])[:14],
                       _short(printable(r["round"]), 12), _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
-                      _f(_neutral(r), "{:.0f}"),
-                      Text(f"{w['severity'].upper()} {w['code']}", f"bold {ALARM}" if w["severity"] == "alarm"
-                           else WARN if w["severity"] == "warning" else INFO) if w else "",
-                      key=r["reading_id"])
+                      _f(_neutral(r), "{:.0f}"), cell, key=r["reading_id"])
         filters = []
         if self.findings_only:
             filters.append("findings only")
@@ -171,13 +172,18 @@ class DayReview(Screen):
         site = sites.get_site(self.app.db, self.app.site_id)
         for v in versions.history(self.app.db, rec["reading_id"]):
             t.append(f"  v{v['version']} {local_text(v['recorded_at'])} by {printable(v['recorded_by']) or '—'}"
-                     + (f": {printable(v['reason'])}" if v["reason"] else ""))
+                     + (f": {printable(v['reason'])}" if v["reason"] else "")
+                     + (" ⚠ competing" + (" (shown)" if v["is_current"] else "") if v["is_head"] and rec.get("conflict")
+                        else ""))
             so = signoffs.signed_before(self.signoffs, site_id=site["id"], round_id=v["round_id"],
                                         taken_at=v["taken_at"], recorded_at=v["recorded_at"])
             if so:
                 t.append(f" — {'corrected' if v['version'] > 1 else 'added'} after sign-off "
                          f"({printable(signoffs.describe(so))})", f"bold {WARN}")
             t.append("\n")
+        if rec.get("conflict"):
+            t.append("⚠ CONFLICT: two laptops changed the same version. Settle with a new version: fieldpad settle "
+                     f"{rec['reading_id']} VERSION_ID --reason TEXT\n", f"bold {ALARM}")
         if rec["round"]:
             t.append(f"\nRound: {printable(rec['round'])}\n")
         self.app.push_screen(TextPage(t, "Reading in full"))
@@ -330,9 +336,10 @@ class RoundCompare(Screen):
         latest = {}
         for side, r in (("a", ra), ("b", rb)):
             for rec in export_records(self.app.db, round_id=r["id"]):
-                latest.setdefault(rec["board"], {})[side] = rec  # later readings of a round replace earlier
-        for board in sorted(latest):
-            a, b = latest[board].get("a"), latest[board].get("b")
+                latest.setdefault(rec["board_id"], {})[side] = rec  # later readings of a round replace earlier
+        for board_id in sorted(latest, key=lambda k: (next(iter(latest[k].values()))["board"], k)):
+            a, b = latest[board_id].get("a"), latest[board_id].get("b")
+            board = (a or b)["board"]
             cells, drift = [], False
             for key in ("vuf_pct", "lvur_pct"):
                 va = a["results"][key] if a else None
@@ -414,7 +421,7 @@ class ExportDialog(ModalScreen[None]):
         try:
             db = self.app.worker_db()  # its own connection: this runs in a worker thread
             site = sites.get_site(db, self.app.site_id)
-            records = export_records(db, day=self.day, site=site["name"])
+            records = export_records(db, day=self.day, site_id=site["id"])
             self.app.call_from_thread(bar.update, progress=1)
             text = None
             if fmt == "xlsx":

@@ -20,7 +20,7 @@ import time
 from pathlib import Path
 
 HERE = Path(__file__).resolve()
-TABLES = ("site", "board", "round", "reading")
+TABLES = ("site", "board", "round", "setting_version", "id_join", "reading", "version_parent", "signoff")
 BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120",
        "ia": "100", "ib": "100", "ic": "100", "ia_deg": "-30", "ib_deg": "-150", "ic_deg": "90"}
 

@@ -23,6 +23,7 @@ from hypothesis import strategies as st
 
 sys.path.insert(0, str(Path(__file__).parent))
 from crash import WRITER, kill_test, setup  # noqa: E402
+from merge_damage import run_merge_damage  # noqa: E402
 from second_open import second_open_test  # noqa: E402
 
 from fieldpad.commands.compute import check_input, write_results  # noqa: E402
@@ -295,6 +296,18 @@ def run_crew(tmp):
            a["tried"], a["tried"] - a["refused"])
 
 
+# ---- 4. merge of damaged files from another laptop ------------------------------------------------
+
+def run_merge(tmp, n):
+    c = run_merge_damage(tmp, n)
+    figure("merge: damaged incoming files tried (byte flips and bad values): main databases broken",
+           c["tried"], c["broke"] + c["crashes"],
+           extra=f"{c['flips']} with byte flips, {c['values']} with bad values; {c['refused']} refused with a "
+                 f"message, {c['merged']} merged (every row still passed the checks: damage in unused space, a file "
+                 f"SQLite could still read whole, or a value a save could store), {c['crashes']} crashes, "
+                 f"{c['broke']} broke the main database")
+
+
 # ---- 5-8. the rest, as pytest cases ----------------------------------------------------------
 
 CASES = [
@@ -303,6 +316,8 @@ CASES = [
      "terminal-safe messages, export imports back", ["tests/test_nothing_lost.py"]),
     ("app: drafts through Esc, Ctrl+Q, SIGHUP and a full disk; writes on a read-only database",
      ["tests/test_ui_nothing_lost.py"]),
+    ("crew: merge only reads the other file, refuses bad rows and itself, conflicts kept and flagged, "
+     "three laptops merged in every order agree", ["tests/test_crew.py", "tests/test_crew_merge_property.py"]),
 ]
 
 
@@ -336,6 +351,9 @@ def main():
         run_second_open(tmp, 3 if QUICK else 10)
         run_concurrent(tmp, 8 if QUICK else 30)
         run_crew(tmp)
+
+
+        run_merge(tmp, 120 if QUICK else 400)
     run_cases()
     print(f"robustness run took {time.perf_counter() - t0:.0f} s; figures that must be 0 and are not: "
           f"{len(FAILED)}", flush=True)
