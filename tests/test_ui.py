@@ -42,31 +42,46 @@ async def test_first_run_create_site_board_enter_save_correct(tmp_path):
         await pilot.pause()
         sheet = app.screen
         assert isinstance(sheet, ReadingSheet)
-        keys = ["2", "7", "7", "tab", "tab", "1", "0", "0", "tab", "-", "3", "0", "tab",
+        # The reference angle (VA°) is not a Tab stop: V, Tab, I as one expects.
+        keys = ["2", "7", "7", "tab", "1", "0", "0", "tab", "-", "3", "0", "tab",
                 "2", "7", "7", "tab", "2", "4", "0", "tab", "1", "0", "0", "tab", "-", "1", "5", "0", "tab",
                 "2", "7", "7", "tab", "1", "2", "0", "tab", "1", "0", "0", "tab", "9", "0"]
         await pilot.press(*keys)
-        grid = sheet.query_one(EntryGrid)
-        assert grid.values["vb_deg"] == "240" and grid.values["ic_deg"] == "90"
-        assert sheet.result["rotation"] == "ABC"
+        grid_rows = seen(sheet, "#grid").splitlines()
+        assert grid_rows[1].split()[2:] == ["277", "0", "ref", "100", "-30"]
+        assert grid_rows[2].split()[2:] == ["277", "240", "100", "-150"]
+        assert "Rotation A-B-C (forward)" in seen(sheet, "#results")
         await pilot.press("f2")
         await pilot.pause()
         rows = versions.current_readings(app.db)
         assert len(rows) == 1 and rows[0]["vb_deg"] == 240.0 and rows[0]["technician"] == "Test Tech"
-        assert grid.entered() == {}  # cleared for the next reading
+        assert rows[0]["ia"] == 100.0 and rows[0]["ia_deg"] == -30.0 and rows[0]["va_deg"] is None  # blank: 0° by core.reference
+        assert "SAVED" in seen(sheet, "#status") and "277" not in seen(sheet, "#grid")  # cleared
         # correct it from the history
         await pilot.press("f4")
         await pilot.pause()
         await pilot.press("c")
         await pilot.pause()
-        assert app.screen.correcting == rows[0]["reading_id"]
-        await pilot.press("delete", "2", "7", "6", "f2")
+        assert "CORRECTING" in seen(app.screen, "#sheet-title")
+        await pilot.press("2", "7", "6", "f2")  # entering a filled field, typing replaces its value
         await pilot.pause()
         await pilot.press(*"meter misread", "enter")
         await pilot.pause()
         hist = versions.history(app.db, rows[0]["reading_id"])
         assert [h["version"] for h in hist] == [1, 2]
         assert hist[1]["va"] == 276.0 and hist[1]["reason"] == "meter misread"
+
+
+def seen(screen, selector: str) -> str:
+    """The text a widget draws, as the technician sees it."""
+    w = screen.query_one(selector)
+    r = w.render()
+    return getattr(r, "plain", None) or str(r)
+
+
+def grid_row(screen, n: int) -> list[str]:
+    """Row ``n`` of the entry grid as drawn (0: the column titles), split into words, the caret left out."""
+    return seen(screen, "#grid").replace("▏", " ").splitlines()[n].split()
 
 
 @contextlib.asynccontextmanager
@@ -106,20 +121,62 @@ async def test_leaving_with_unsaved_values_asks_and_keeps_a_draft(tmp_path):
         assert drafts.get_draft(app.db, bid)["values"] == {"va": "275"}
         app.push_screen(ReadingSheet(bid))
         await pilot.pause()
-        await pilot.press("y")  # restore the draft
+        sheet = app.screen
+        # The offer does not take the keyboard and says how old the draft is.
+        assert "DRAFT kept for this board, typed at" in seen(sheet, "#status")
+        assert "(just now)" in seen(sheet, "#status")
+        await pilot.press("4")  # typed right after opening: lands in the grid, not swallowed
+        assert grid_row(sheet, 1)[2] == "4"
+        assert drafts.get_draft(app.db, bid)["earlier"]["values"] == {"va": "275"}  # the draft is not lost
+        await pilot.press("f7")  # put the draft back: asks, because something is typed
         await pilot.pause()
-        assert app.screen.query_one(EntryGrid).values["va"] == "275"
+        await pilot.press("y")
+        await pilot.pause()
+        assert grid_row(sheet, 1)[2] == "275"
+        assert "put back" in seen(sheet, "#status")
+        await pilot.press("4", "0", "2")  # a restored value is replaced by typing, never appended to
+        assert grid_row(sheet, 1)[2] == "402"
 
 
-async def test_mode_switch_and_previous(tmp_path):
+def test_draft_age_in_words():
+    from datetime import datetime, timezone
+
+    from fieldpad.ui.sheet import draft_age
+
+    now = datetime(2026, 12, 2, 14, 30, tzinfo=timezone.utc)
+    assert draft_age({"typed_at": "2026-12-02T14:05:00.000000Z"}, now).endswith("(25 min ago)")
+    assert draft_age({"typed_at": "2026-11-29T14:05:00.000000Z"}, now).endswith("(3 days ago)")
+    assert draft_age({}, now) == "at a time not recorded"  # a draft kept by an older fieldpad
+
+
+async def test_mode_switch_keeps_or_converts_what_is_typed_and_says_so(tmp_path):
     async with sheet_open(tmp_path, "m.db", size=(100, 30)) as (app, pilot):
         sheet = app.screen
-        await pilot.press("f5")
-        assert [c.field for c in sheet.query_one(EntryGrid).cells][:2] == ["vab", "vab_deg"]
-        await pilot.press("f5")
-        assert [c.field for c in sheet.query_one(EntryGrid).cells][:2] == ["vab", "ia"]
+        await pilot.press(*"277", "tab", "tab", "tab", *"277", "tab", *"-120", "tab", "tab", "tab",
+                          *"277", "tab", *"120")
+        await pilot.press("f5")  # line-to-line with angles: converted from the phasors typed
+        assert grid_row(sheet, 0) == ["V", "V°", "I", "I°"]
+        assert grid_row(sheet, 1)[2:4] == ["479.8", "30.0"]
+        assert "computed from the line-to-neutral values" in seen(sheet, "#status")
+        await pilot.press("f5")  # no angles: the V° column is not drawn at all
+        assert grid_row(sheet, 0) == ["V", "I", "I°"]
+        assert "VAB angle, VBC angle, VCA angle" in seen(sheet, "#status") and "kept aside" in seen(sheet, "#status")
+        await pilot.press("f5")  # back to line-to-neutral: the typed voltages come back
+        row_b = grid_row(sheet, 2)
+        assert row_b[2:4] == ["277", "-120"]
+        assert "brought back" in seen(sheet, "#status")
+
+
+async def test_previous_reading_per_phase_with_the_change(tmp_path):
+    async with sheet_open(tmp_path, "p3.db", size=(100, 30)) as (app, pilot):
+        sheet = app.screen
+        await pilot.press(*"280", "f3")
+        shown = seen(sheet, "#results")
+        assert "Previous reading" in shown
+        va = next(line for line in shown.splitlines() if line.startswith("VA "))
+        assert va.split() == ["VA", "277.0", "280.0", "+3.0", "V"]
         await pilot.press("f3")
-        assert sheet.show_previous and sheet.previous["rotation"] == "ABC"
+        assert "Previous reading" not in seen(sheet, "#results")
 
 
 async def test_key_strip_lists_the_screen_keys_and_follows_the_screen(tmp_path):
@@ -150,10 +207,13 @@ def _sheet_app(tmp_path, name):
     app = FieldpadApp(tmp_path / name, technician="T")
 
     async def run_before(pilot):
+        from datetime import date
+
         await pilot.pause()
-        app.push_screen(ReadingSheet(bid))
+        # A fixed "today": the label dated 2024-06-01 is current on it, whatever the computer's date.
+        app.push_screen(ReadingSheet(bid, today=date(2026, 12, 2)))
         await pilot.pause()
-        await pilot.press(*"277", "tab", "tab", *"100", "tab", *"-30", "tab", *"277", "tab", *"240", "tab",
+        await pilot.press(*"277", "tab", *"100", "tab", *"-30", "tab", *"277", "tab", *"240", "tab",
                           *"100", "tab", "-", *"150", "tab", *"277", "tab", *"120", "tab", *"100", "tab",
                           *"270", "tab", *"12")
         await pilot.pause()

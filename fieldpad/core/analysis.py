@@ -32,6 +32,7 @@ from .fields import DELTA, HIGH_LEG, NUMERIC_FIELDS, SPLIT, WYE
 from .neutral import neutral_estimate_3ph, neutral_estimate_split
 from .phasors import SQRT3, polar
 from .power import complex_power, power_factor, two_wattmeter_power
+from .reference import fill_reference
 from .sequence import ln_equivalent_from_ll, sequence_components_cols
 from .thresholds import Thresholds
 from .unbalance import (
@@ -235,9 +236,7 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     ma, mb, mc = col["va"], col["vb"], col["vc"]
     da, db, dc = col["va_deg"], col["vb_deg"], col["vc_deg"]
     # A meter that shows angles relative to VA often shows no angle for VA itself.
-    ref_missing = np.isfinite(ma) & np.isnan(da) & np.isfinite(db)
-    if ref_missing.any():
-        da = np.where(ref_missing, 0.0, da)
+    da = fill_reference(ma, da, db)  # the one rule: core/reference.py
     # Split-phase uses legs A and B only: phase C is taken as absent.
     if split.any():
         mc = np.where(split, np.nan, mc)
@@ -264,9 +263,7 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     # Line-to-line phasors: measured (with angles) or derived from line-to-neutral phasors.
     lab, lbc, lca = col["vab"], col["vbc"], col["vca"]
     # As for VA: a meter showing line-to-line angles relative to Vab often shows none for Vab itself.
-    ll_ref_missing = np.isfinite(lab) & np.isnan(col["vab_deg"]) & np.isfinite(col["vbc_deg"])
-    if ll_ref_missing.any():
-        col["vab_deg"] = np.where(ll_ref_missing, 0.0, col["vab_deg"])
+    col["vab_deg"] = fill_reference(lab, col["vab_deg"], col["vbc_deg"])
     ll_given_ang = _fin(lab, lbc, lca, col["vab_deg"], col["vbc_deg"], col["vca_deg"]) & is3
     ll_from_ln = has_ln_ang & is3 & ~ll_given_ang
     Vab, Vbc, Vca = Va - Vb, Vb - Vc, Vc - Va

@@ -52,6 +52,10 @@ MESSAGES = {
     "NEUTRAL_MISMATCH": "Measured neutral differs from the phasor sum of the phases by {value:+.1f} A: triplen "
                         "harmonics add in the neutral and are not in a fundamental-phasor sum; also check for a "
                         "shared neutral or a CT on the wrong conductor.",
+    # Measured below the phasor sum: harmonics cannot explain it (they only add to a true-RMS reading).
+    "NEUTRAL_MISMATCH_LOW": "Measured neutral is {value:+.1f} A from the phasor sum of the phases (lower): check "
+                            "the neutral clamp's position and direction, a shared neutral or a CT on the wrong "
+                            "conductor.",
     "CT_REVERSED": "Power on {ph} is negative while the other phases are positive: a CT or current lead on {ph} "
                    "is probably reversed.",
     "CT_TWO_REVERSED": "Power is negative on the two phases other than {ph}: two CTs or current leads are "
@@ -130,7 +134,8 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
             ph = int(phase[i])
             iec = bool(std[i] == 1)
             src_key = SOURCE_KEY.get(code) or ("voltage_iec" if iec else "voltage_ansi")
-            msg = MESSAGES[code].format(
+            low = code == "NEUTRAL_MISMATCH" and value[i] < 0  # no triplen hint when measured < computed
+            msg = MESSAGES[code + "_LOW" if low else code].format(
                 ph=phase_label(ph, labels) or "?",
                 value=float(value[i]) if np.isfinite(value[i]) else float("nan"),
                 threshold=float(threshold[i]) if np.isfinite(threshold[i]) else float("nan"),
