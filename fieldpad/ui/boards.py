@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import json
+import re
 
 from rich.text import Text
 from textual.app import ComposeResult
@@ -28,10 +29,34 @@ SYSTEM_LABELS = {"wye": "3-phase 4-wire wye", "delta": "3-phase 3-wire delta (li
 SYSTEM_CHOICES = [(SYSTEM_LABELS[code], code) for code in SYSTEMS]
 
 
-class SettingsForm(TypingTargetScreen, ModalScreen[str | None]):
-    """A form that saves with F2 and says, in place, what stopped the save."""
+INCH_MM = 25.4  # exact, by definition of the inch (1959 international yard and pound agreement)
+_INCHES = re.compile(r'^\s*([0-9]+(?:[.,][0-9]+)?)\s*(?:in|inch|inches|")\s*$', re.IGNORECASE)
 
-    AUTO_FOCUS = "#name"
+
+def inches_to_mm(text: str) -> str:
+    """A length typed in inches ("18 in", '18"', "18 inches") as millimetres; any other text unchanged.
+
+    >>> inches_to_mm("18 in"), inches_to_mm("455")
+    ('457.2', '455')
+    """
+    m = _INCHES.match(text or "")
+    if not m:
+        return text
+    return f"{float(m.group(1).replace(',', '.')) * INCH_MM:.1f}"
+
+
+class FormScroll(VerticalScroll, can_focus=False):
+    """The form's scrolling area: not a Tab stop (Tab goes from field to field)."""
+
+
+class SettingsForm(TypingTargetScreen, ModalScreen[str | None]):
+    """A form that saves with F2 and says, in place, what stopped the save.  It opens scrolled to the top
+    (title and first field in view), and names fields by their labels in its messages."""
+
+    #: field -> its label on the form (for messages in the technician's words).
+    LABELS: dict[str, str] = {}
+
+    AUTO_FOCUS = None  # on_mount focuses the name field and scrolls to the top
     # Not priority bindings: a priority binding runs before the keys typed just ahead of it reach the
     # field, so a fast "…0 F2" could save without the last characters.
     BINDINGS = [Binding("f2", "save", "Save"), Binding("ctrl+s", "save", "Save", show=False),
@@ -39,10 +64,24 @@ class SettingsForm(TypingTargetScreen, ModalScreen[str | None]):
 
     def show_problems(self, error: StorageError) -> None:
         problems = getattr(error, "problems", None)
-        text = "NOT SAVED: " + ("; ".join(f"{f}: {r}" for f, r in problems) if problems else str(error))
+        text = "NOT SAVED: " + ("; ".join(f"{self.label_of(f)}: {self.words(f, r)}" for f, r in problems)
+                                if problems else str(error))
         box = self.query_one("#form-error", Static)
         box.update(Text(text, f"bold {ALARM}"))
         box.scroll_visible()  # the form is taller than an 80x24 screen: bring the reason into view
+
+    def label_of(self, field: str) -> str:
+        return self.LABELS.get(field, field.replace("_", " ")).rstrip(" *")
+
+    @staticmethod
+    def words(field: str, reason: str) -> str:
+        """A storage reason with the internal field name replaced by "it"."""
+        return reason.replace(f"{field}: ", "").replace(field, "it")
+
+    def on_mount(self) -> None:
+        self.query_one("#name", Input).focus()
+        # Focusing the name field scrolls it into view; the form then opens at its top, title in view.
+        self.call_after_refresh(lambda: self.query_one(FormScroll).scroll_home(animate=False))
 
     def action_cancel(self) -> None:
         self.dismiss(None)
@@ -55,9 +94,12 @@ class BoardForm(SettingsForm):
     FIELDS = [("name", "Name / tag *"), ("location", "Location"), ("kind", "Kind (switchboard, panelboard, MCC…)"),
               ("nominal_v", "Nominal voltage, line-to-line (V)"), ("frequency_hz", "Frequency (Hz)"),
               ("af_incident_energy_cal_cm2", "Arc-flash label: incident energy (cal/cm²)"),
-              ("af_working_distance_mm", "Label: working distance (mm)"),
-              ("af_boundary_mm", "Label: arc-flash boundary (mm)"),
+              ("af_working_distance_mm", "Label: working distance (mm, or inches: 18 in)"),
+              ("af_boundary_mm", "Label: arc-flash boundary (mm, or inches: 36 in)"),
               ("af_ppe", "Label: PPE category, or 'none posted'"), ("af_label_date", "Label date (YYYY-MM-DD)")]
+
+    LABELS = {**dict(FIELDS), "system": "System", "voltage_standard": "Voltage limits",
+              "colour_set": "Phase colours"}
 
     def __init__(self, site_id: str, board_id: str | None = None) -> None:
         super().__init__()
@@ -66,8 +108,8 @@ class BoardForm(SettingsForm):
 
     def compose(self) -> ComposeResult:
         board = sites.get_board(self.app.db, self.board_id) if self.board_id else {}
-        with VerticalScroll(classes="form"):
-            yield Static("[b]Edit board[/b]" if self.board_id else "[b]New board[/b]")
+        with FormScroll(classes="form"):
+            yield Static(("[b]Edit board[/b]" if self.board_id else "[b]New board[/b]") + " — F2 to save")
             yield Label("System")
             yield Select(SYSTEM_CHOICES, value=board.get("system", "wye"), allow_blank=False, id="system", compact=True)
             for field, label in self.FIELDS:
@@ -75,15 +117,22 @@ class BoardForm(SettingsForm):
                 v = board.get(field)
                 yield FieldInput(value="" if v is None else (f"{v:g}" if isinstance(v, float) else str(v)), id=field,
                             compact=True)
+            yield Label("Voltage limits for this board (overrides the site's)")
+            yield Select(BOARD_STANDARDS, value=board.get("voltage_standard") or "", allow_blank=False,
+                         id="voltage_standard", compact=True)
+            yield Label("Phase colours for this board (overrides the site's)")
+            yield Select(BOARD_COLOURS, value=board.get("colour_set") or "", allow_blank=False, id="colour_set",
+                         compact=True)
             yield Static(id="form-error")
         yield KeyStrip()
 
-    def on_mount(self) -> None:
-        self.query_one("#name", Input).focus()
-
     def action_save(self) -> None:
         values = {f: self.query_one(f"#{f}", Input).value for f, _ in self.FIELDS}
+        for f in ("af_working_distance_mm", "af_boundary_mm"):
+            values[f] = inches_to_mm(values[f])
         values["system"] = self.query_one("#system", Select).value
+        for f in ("voltage_standard", "colour_set"):
+            values[f] = self.query_one(f"#{f}", Select).value or None
         try:
             if self.board_id:
                 sites.update_board(self.app.db, self.board_id, **values)
@@ -97,6 +146,13 @@ class BoardForm(SettingsForm):
             return
         self.dismiss(bid)
 
+
+STANDARD_CHOICES = [("ANSI C84.1 Range A / B", "ansi"), ("IEC 60038 ±10 %", "iec")]
+COLOUR_CHOICES = [("IEC 60445: brown, black, grey; blue neutral", "iec60445"),
+                  ("208Y/120: black, red, blue; white neutral", "na-208y120"),
+                  ("480Y/277: brown, orange, yellow; grey neutral", "na-480y277")]
+BOARD_STANDARDS = [("as the site", "")] + STANDARD_CHOICES
+BOARD_COLOURS = [("as the site", "")] + COLOUR_CHOICES
 
 #: Threshold fields shown in the site form: (name, label).
 THRESHOLD_FIELDS = [
@@ -114,6 +170,11 @@ THRESHOLD_FIELDS = [
 class SiteForm(SettingsForm):
     """Create a site, or edit its settings and its threshold overrides."""
 
+    LABELS = {"name": "Site name", "description": "Address or description",
+              "voltage_standard": "Voltage limits", "phase_labels": "Phase labels", "colour_set": "Phase colours",
+              "label_review_years": "Arc-flash label review interval (years)",
+              **{name: label for name, label in THRESHOLD_FIELDS}}
+
     def __init__(self, site_id: str | None = None) -> None:
         super().__init__()
         self.site_id = site_id
@@ -122,23 +183,21 @@ class SiteForm(SettingsForm):
         site = sites.get_site(self.app.db, self.site_id) if self.site_id else {}
         overrides = json.loads(site.get("thresholds_json") or "{}")
         defaults = Thresholds()
-        with VerticalScroll(classes="form"):
+        with FormScroll(classes="form"):
             yield Static("[b]Site settings[/b] — F2 to save" if self.site_id else "[b]New site[/b] — F2 to save")
             yield Label("Site name *")
             yield FieldInput(value=site.get("name") or "", id="name")
             yield Label("Address or description")
             yield FieldInput(value=site.get("description") or "", id="description")
             yield Label("Voltage limits for warnings")
-            yield Select([("ANSI C84.1 Range A / B", "ansi"), ("IEC 60038 ±10 %", "iec")],
+            yield Select(STANDARD_CHOICES,
                          value=site.get("voltage_standard", "ansi"), allow_blank=False, id="voltage_standard",
                          compact=True)
             yield Label("Phase labels")
             yield Select([("A / B / C", "ABC"), ("L1 / L2 / L3", "L123")], value=site.get("phase_labels", "ABC"),
                          allow_blank=False, id="phase_labels", compact=True)
             yield Label("Phase colours")
-            yield Select([("IEC 60445: brown, black, grey; blue neutral", "iec60445"),
-                          ("208Y/120: black, red, blue; white neutral", "na-208y120"),
-                          ("480Y/277: brown, orange, yellow; grey neutral", "na-480y277")],
+            yield Select(COLOUR_CHOICES,
                          value=site.get("colour_set", "iec60445"), allow_blank=False, id="colour_set", compact=True)
             yield Label("Arc-flash label review interval (years)")
             yield FieldInput(value=f"{site.get('label_review_years', 5.0):g}", id="label_review_years")
