@@ -188,6 +188,7 @@ async def test_key_strip_lists_the_screen_keys_and_follows_the_screen(tmp_path):
         await pilot.pause()
         board_keys = [e[1] for e in app.screen.query_one(KeyStrip).entries()]
         assert "New board" in board_keys and "Save" not in board_keys
+        assert "q  Quit" in app.screen.query_one(KeyStrip).render().plain  # kept at 80 columns
         app.push_screen(ReadingSheet(bid))
         await pilot.pause()
         strip = app.screen.query_one(KeyStrip)
@@ -195,9 +196,13 @@ async def test_key_strip_lists_the_screen_keys_and_follows_the_screen(tmp_path):
         assert ("f2", "Save", True) in entries
         shown = strip.render().plain
         assert shown.startswith(" F2  Save ") and len(shown) <= 80
-    # Keys that do not fit are left off whole, never cut in the middle of a word.
+    # Keys that do not fit are left off whole, never cut in the middle of a word; back, quit, save and
+    # help stay whatever the width, the others fill the room left.
     text = strip_text([("f2", "Save", True), ("f3", "Previous reading", True), ("esc", "Back", True)], width=33)
-    assert text.plain == " F2  Save  F3  Previous reading "
+    assert text.plain == " F2  Save  Esc  Back "
+    text = strip_text([("f2", "Save", True), ("f3", "Prev", True), ("f9", "Previous reading", True),
+                       ("esc", "Back", True)], width=33)
+    assert text.plain == " F2  Save  F3  Prev  Esc  Back "
     assert key_cap("f12") == "F12" and key_cap("escape") == "Esc" and key_cap("n") == "n"
 
 

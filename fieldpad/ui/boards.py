@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import json
 import re
+import time
 
 from rich.text import Text
 from textual.app import ComposeResult
@@ -26,6 +27,8 @@ from .tables import selected_key
 #: How each system type of the core (``core.fields.SYSTEMS``) is offered in the board form.
 SYSTEM_LABELS = {"wye": "3-phase 4-wire wye", "delta": "3-phase 3-wire delta (line-to-line only)",
                  "high-leg-delta": "4-wire high-leg delta", "split-phase": "120/240 V split-phase"}
+#: The system type in the board list, short enough for 80 columns.
+SYSTEM_SHORT = {"wye": "wye", "delta": "delta", "high-leg-delta": "hi-leg Δ", "split-phase": "split-ph"}
 SYSTEM_CHOICES = [(SYSTEM_LABELS[code], code) for code in SYSTEMS]
 
 
@@ -277,7 +280,19 @@ class BoardList(Screen):
         Binding("v", "review", "Day review"),
         Binding("f1", "help", "Help"),
         Binding("q", "app.quit", "Quit"),
+        Binding("slash", "jump", "Go to", show=False),
+        Binding("home", "first", "First", show=False),
+        Binding("end", "last", "Last", show=False),
     ]
+
+    #: Seconds between two typed characters of one board name (type-to-jump).
+    JUMP_PAUSE_S = 1.2
+
+    def __init__(self) -> None:
+        super().__init__()
+        self._jump = ""
+        self._jump_at = 0.0
+        self._marks_for: tuple = ()
 
     def compose(self) -> ComposeResult:
         yield Static(id="home-title")
@@ -288,7 +303,13 @@ class BoardList(Screen):
 
     def on_mount(self) -> None:
         t = self.query_one(DataTable)
-        t.add_columns("board", "location", "system", "V", "last reading", "round")
+        # Widths that keep every column in view at 80 columns (the round column last).
+        t.add_column("board", key="board")
+        t.add_column("check", key="check", width=7)
+        t.add_column("location", key="location", width=18)
+        t.add_column("system", key="system", width=8)
+        for name in ("V", "last reading", "round"):
+            t.add_column(name, key=name)
         self.query_one("#home-caution", Static).update(Text(
             "⚠ Energised equipment: qualified persons, permit, PPE per each arc-flash label. "
             "Local codes govern. fieldpad never shows that equipment is safe."))
@@ -311,22 +332,103 @@ class BoardList(Screen):
             title = f"[b {WARN}]READ-ONLY[/] · " + title
         self.query_one("#home-title", Static).update(title)
         t = self.query_one(DataTable)
+        keep = self._selected()  # the board under the cursor stays under it (walking 40 boards)
         t.clear()
         read_in_round = set()
         if rnd:
             read_in_round = rounds.boards_read_in_round(app.db, rnd)
-        for b in sites.list_boards(app.db, app.site_id):
+        self.boards = sites.list_boards(app.db, app.site_id)
+        latest = []
+        for b in self.boards:
             last = versions.previous_reading(app.db, b["id"])
-            t.add_row(printable(b["name"]), printable(b["location"]), b["system"],
+            latest.append(last)
+            t.add_row(printable(b["name"]), "", printable(b["location"]), SYSTEM_SHORT[b["system"]],
                       f"{b['nominal_v']:g}" if b["nominal_v"] else "", local_text(last["taken_at"]) if last else "—",
                       "✔ done" if b["id"] in read_in_round else ("to do" if rnd else ""), key=b["id"])
-        hint = "Enter: open the board's sheet · n: new board · r: round · F1: help"
+        keys = [b["id"] for b in self.boards]
+        if keep in keys:
+            t.move_cursor(row=keys.index(keep), animate=False)
+        self._mark_findings(site, latest)
+        hint = "Enter: open sheet · type a name (capitals) or /: go to · r: round · F1: help"
         if t.row_count == 0:
             hint = "No boards yet: press n to create the first board of this site."
         self.query_one("#home-hint", Static).update(hint)
 
     def _selected(self) -> str | None:
         return selected_key(self.query_one(DataTable))
+
+    # ---- markers: the worst finding of each board's latest reading ---------------------------
+    def _mark_findings(self, site: dict, latest: list) -> None:
+        """Fill the "check" column once the list is on screen: the analysis (numpy) loads in a worker
+        thread, so the first screen does not wait for it."""
+        rows = [(b["id"], r) for b, r in zip(self.boards, latest) if r is not None]
+        if rows:
+            self._marks_for = tuple(r["id"] for _, r in rows)
+            self.run_worker(lambda: self._compute_marks(site, rows, self._marks_for), thread=True,
+                            exclusive=True, group="marks")
+
+    def _compute_marks(self, site: dict, rows: list, token: tuple) -> None:
+        from ..report.export import analyze_rows
+
+        results = analyze_rows([{**r, "thresholds_json": site["thresholds_json"],
+                                 "phase_labels": site["phase_labels"]} for _, r in rows])
+        marks = {}
+        for (bid, _), res in zip(rows, results):
+            sev = {f["severity"] for f in res["findings"]}
+            marks[bid] = ("▲ ALARM", f"bold {ALARM}") if "alarm" in sev else (
+                ("△ WARN", f"bold {WARN}") if "warning" in sev else ("", ""))
+        self.app.call_from_thread(self._show_marks, marks, token)
+
+    def _show_marks(self, marks: dict, token: tuple) -> None:
+        if token != self._marks_for or not self.is_attached:
+            return  # the list was reloaded since: a newer worker fills it
+        t = self.query_one(DataTable)
+        for bid, (text, style) in marks.items():
+            try:
+                t.update_cell(bid, "check", Text(text, style) if text else "")
+            except Exception:  # noqa: BLE001 - a row removed by a reload in between
+                continue
+
+    # ---- moving around ---------------------------------------------------------------------
+    def on_key(self, event) -> None:
+        """Type a board's name (capitals, digits, "-"; the lowercase letters are the screen's keys) to
+        jump to it."""
+        ch = event.character
+        if not ch or not event.is_printable or not (ch.isupper() or ch.isdigit() or ch in "-_."):
+            return
+        now = time.monotonic()
+        self._jump = (self._jump if now - self._jump_at < self.JUMP_PAUSE_S else "") + ch
+        self._jump_at = now
+        self._go_to(self._jump)
+        event.stop()
+        event.prevent_default()
+
+    def _go_to(self, text: str) -> bool:
+        t = self.query_one(DataTable)
+        names = [b["name"] or "" for b in getattr(self, "boards", [])]
+        low = text.lower()
+        hit = next((k for k, n in enumerate(names) if n.lower().startswith(low)), None)
+        if hit is None:
+            hit = next((k for k, n in enumerate(names) if low in n.lower()), None)
+        if hit is None:
+            self.query_one("#home-hint", Static).update(Text(f"No board named like {text!r}.", f"bold {WARN}"))
+            return False
+        t.move_cursor(row=hit, animate=False)
+        self.query_one("#home-hint", Static).update(f"Board {printable(names[hit])} · Enter: open its sheet")
+        return True
+
+    def action_jump(self) -> None:
+        from .dialogs import AskText
+
+        self.app.push_screen(AskText("Go to the board whose name begins with (or contains):", required=False),
+                             lambda text: self._go_to(text) if text else None)
+
+    def action_first(self) -> None:
+        self.query_one(DataTable).move_cursor(row=0, animate=False)
+
+    def action_last(self) -> None:
+        t = self.query_one(DataTable)
+        t.move_cursor(row=max(0, t.row_count - 1), animate=False)
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
         self.action_open()
@@ -352,6 +454,23 @@ class BoardList(Screen):
             self.post_message(OpenHistory(bid))
 
     def action_round(self) -> None:
+        app = self.app
+        if app.round_id:
+            read = rounds.boards_read_in_round(app.db, app.round_id)
+            unread = [b["name"] for b in sites.list_boards(app.db, app.site_id) if b["id"] not in read]
+            if unread:
+                from .dialogs import Ask
+
+                shown = ", ".join(printable(n) for n in unread[:12]) + (f" and {len(unread) - 12} more"
+                                                                         if len(unread) > 12 else "")
+                self.app.push_screen(Ask(f"{len(unread)} board(s) NOT read in this round: {shown}.\n"
+                                         "Finish the round anyway? (y/n)"),
+                                     lambda yes: self._round(True) if yes else self.notify(
+                                         "Round still open: the unread boards show 'to do'."))
+                return
+        self._round()
+
+    def _round(self, confirmed: bool = False) -> None:
         app = self.app
         try:
             if app.round_id:

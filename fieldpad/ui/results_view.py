@@ -9,6 +9,27 @@ SEVERITY_TAG = {"alarm": ("ALARM", ON_ALARM), "warning": ("WARN ", ON_WARN),
                 "info": ("info ", INFO)}
 
 
+#: A finding in a few words, for tables where the whole message does not fit (day review, history).
+FINDING_WORDS = {
+    "PHASE_LOST": "phase lost", "ROTATION_REVERSED": "reverse rotation", "ROTATION_UNKNOWN": "rotation unknown",
+    "VOLTAGES_IN_PHASE": "voltages in phase", "VOLTAGE_OUT_OF_RANGE": "voltage out of range",
+    "VOLTAGE_RANGE_B": "voltage in Range B", "VOLTAGE_NO_RANGE": "nominal not known",
+    "VUF_HIGH": "voltage unbalance", "LVUR_EXCESSIVE": "unbalance: no motors", "LVUR_DERATE": "motor derating",
+    "CURRENT_UNBALANCE": "current unbalance", "NEUTRAL_OVERLOAD": "neutral overload", "NEUTRAL_HIGH": "neutral high",
+    "NEUTRAL_MISMATCH": "neutral ≠ phasor sum", "CT_REVERSED": "CT reversed", "CT_TWO_REVERSED": "two CTs reversed",
+    "CLAMPS_ROTATED": "clamps on wrong phases", "NEUTRAL_SHIFT": "neutral shifted",
+    "CURRENT_SEQUENCE": "currents reverse", "HIGH_LEG_POSITION": "high leg not on B",
+    "HIGH_LEG_NOT_FOUND": "no high leg found", "MAGNITUDE_ONLY": "no angles", "ARC_FLASH_LABEL": "arc-flash label",
+}
+SEVERITY_WORD = {"alarm": "ALARM", "warning": "WARN", "info": "info"}
+
+
+def finding_words(f: dict) -> str:
+    """"ALARM reverse rotation": a finding's severity and what it is, in words (never its code alone)."""
+    what = FINDING_WORDS.get(f["code"], f["code"].replace("_", " ").lower())
+    return f"{SEVERITY_WORD[f['severity']]} {what}" + (f" ({f['phase']})" if f.get("phase") else "")
+
+
 def _f(x, fmt="{:.1f}", dash="—"):
     return dash if x is None else fmt.format(x)
 

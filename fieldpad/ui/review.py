@@ -19,7 +19,8 @@ from ..storage.ids import local_text
 from .dialogs import AskText, TextPage
 from .key_strip import KeyStrip
 from .palette import ALARM, INFO, WARN
-from .results_view import findings_text, results_text
+from .results_view import finding_words, findings_text, results_text
+from .sheet_model import field_words
 from .safe import printable
 from .tables import selected_key
 
@@ -47,6 +48,8 @@ class DayReview(Screen):
         Binding("x", "export", "Export"),
         Binding("escape", "back", "Back"),
     ]
+    #: Kept on the key strip at 80 columns with back/quit/save/help (ui/key_strip.py).
+    STRIP_KEEP = ("Compare rounds", "Export")
 
     def __init__(self) -> None:
         super().__init__()
@@ -95,7 +98,7 @@ class DayReview(Screen):
             t.add_row(local_text(r["taken_at"], "%H:%M"), printable(r["board"]), printable(r["technician"])[:14],
                       printable(r["round"]), _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
                       _f(_neutral(r), "{:.0f}"),
-                      Text(f"{w['severity'].upper()} {w['code']}", f"bold {ALARM}" if w["severity"] == "alarm"
+                      Text(finding_words(w), f"bold {ALARM}" if w["severity"] == "alarm"
                            else WARN if w["severity"] == "warning" else INFO) if w else "",
                       key=r["reading_id"])
         filters = []
@@ -125,9 +128,11 @@ class DayReview(Screen):
         t = Text()
         t.append(f"{printable(rec['board'])} · {local_text(rec['taken_at'], '%Y-%m-%d %H:%M')} · "
                  f"{printable(rec['technician'])} · version {rec['version']}\n\n", "bold")
-        t.append("Entered: " + ", ".join(f"{k}={v:g}" for k, v in rec["inputs"].items()
-                                         if isinstance(v, float)) + "\n\n")
-        t.append_text(results_text(rec["results"]))
+        labels = sites.site_labels(sites.get_site(self.app.db, self.app.site_id))
+        t.append("Entered: " + ", ".join(f"{field_words(k, labels)} {v:g}" + ("°" if k.endswith("_deg") else "")
+                                         for k, v in rec["inputs"].items() if isinstance(v, float)) + "\n\n")
+        t.append_text(results_text(rec["results"], rec["inputs"].get("system") or "wye", labels,
+                                   {k: str(v) for k, v in rec["inputs"].items() if v is not None}))
         t.append("\n")
         t.append_text(findings_text(rec["findings"], detail=True))
         t.append("\nVersions:\n", "bold")

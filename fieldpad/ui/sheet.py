@@ -26,7 +26,7 @@ from .key_strip import KeyStrip
 from .messages import OpenHistory
 from .palette import ALARM, INFO, WARN
 from .results_view import compare_text, findings_text, per_phase_text, reasons_text, results_text
-from .safe import markup_safe
+from .safe import markup_safe, short_id
 from .sheet_model import (
     LL,
     LL_MAG,
@@ -408,7 +408,7 @@ class ReadingSheet(Screen):
                 "." if kept else ", but it could not be kept as a draft either: do not leave this sheet "
                 "until it is saved or written down."), error=True)
             return
-        self._after_save(f"✔ SAVED {time.strftime('%H:%M:%S')} (reading {saved.reading_id[:8]}). "
+        self._after_save(f"✔ SAVED {time.strftime('%H:%M:%S')} (reading {short_id(saved.reading_id)}). "
                          "Sheet cleared; F3 shows it.")
 
     def _save_correction(self, reason: str | None) -> None:
