@@ -274,7 +274,8 @@ def test_fast_burst_through_a_real_terminal(tmp_path):
         term.wait("MDB-7")
         term.keys("Enter")
         term.wait("Label:")
-        term.keys("2", "7", "7", "Tab", "0", "Tab", "1", "0", "0", "Tab", "-", "3", "0", "Tab",
+        # V, Tab, I: the reference angle (VA°) is not a Tab stop; blank, it is 0°.
+        term.keys("2", "7", "7", "Tab", "1", "0", "0", "Tab", "-", "3", "0", "Tab",
                   "2", "7", "6", "Tab", "2", "4", "0", "Tab", "9", "9", "Tab", "-", "1", "5", "0", "Enter",
                   "2", "7", "8", "Enter", "1", "2", "0", "Enter", "9", "8", "Enter", "9", "0", "Tab", "7", "F2")
         shown = term.wait("SAVED")
@@ -285,7 +286,7 @@ def test_fast_burst_through_a_real_terminal(tmp_path):
     row = versions.board_history(d, sites.list_boards(d, sites.list_sites(d)[0]["id"])[0]["id"], 1)[0]
     got = {k: row[k] for k in ("va", "va_deg", "ia", "ia_deg", "vb", "vb_deg", "ib", "ib_deg", "vc", "vc_deg",
                                "ic", "ic_deg", "i_n")}
-    assert got == {"va": 277.0, "va_deg": 0.0, "ia": 100.0, "ia_deg": -30.0, "vb": 276.0, "vb_deg": 240.0,
+    assert got == {"va": 277.0, "va_deg": None, "ia": 100.0, "ia_deg": -30.0, "vb": 276.0, "vb_deg": 240.0,
                    "ib": 99.0, "ib_deg": -150.0, "vc": 278.0, "vc_deg": 120.0, "ic": 98.0, "ic_deg": 90.0,
                    "i_n": 7.0}
 
@@ -430,3 +431,285 @@ def test_text_panel_sees_a_change_of_colour_alone():
     assert _same(Text("12 A", "#9ecbff"), Text("12 A", "#9ecbff"))
     assert not _same(Text("12 A", "#9ecbff"), Text("12 A", "bold #ff5050"))  # same words, now an error
     assert not _same(Text("12 A"), Text("12 B"))
+
+
+# ---- the sheet as a technician uses it (issue 14) ------------------------------------------------
+
+
+async def test_typing_into_a_filled_field_replaces_it_after_tab_wraps_and_shift_tab(tmp_path):
+    async with sheet_open(tmp_path, "rep.db") as (app, pilot):
+        sheet = app.screen
+        await pilot.press(*"277.2", "tab", *"10")
+        # Shift+Tab back to VA passes the reference angle by; typing replaces 277.2, Backspace edits.
+        await pilot.press("shift+tab", *"280")
+        assert grid_row(sheet, 1)[2] == "280" and grid_row(sheet, 1)[5] == "10"
+        await pilot.press("tab", "shift+tab", "backspace", "9")  # back on VA: Backspace edits
+        assert grid_row(sheet, 1)[2] == "289"
+        for _ in range(12):  # Tab round the whole sheet (wraps past IN) back to VA
+            await pilot.press("tab")
+        await pilot.press(*"402")
+        assert grid_row(sheet, 1)[2] == "402"
+        assert "VA = 402 V" in seen(sheet, "#understood")
+
+
+async def test_reference_angle_is_shown_as_0_and_reachable_with_the_arrows(tmp_path):
+    async with sheet_open(tmp_path, "ref.db") as (app, pilot):
+        sheet = app.screen
+        assert "0 ref" in seen(sheet, "#grid").splitlines()[1]
+        await pilot.press("right")  # the arrows still reach it
+        assert "VA angle: blank = 0°, the reference" in seen(sheet, "#understood")
+        await pilot.press(*"30", "tab", *"100")
+        assert grid_row(sheet, 1)[3:5] == ["30", "100"]  # VA° = 30 typed, then Tab to IA
+
+
+async def test_an_impossible_set_says_why_at_once(tmp_path):
+    async with sheet_open(tmp_path, "tri.db") as (app, pilot):
+        sheet = app.screen
+        await pilot.press("f5", "f5")  # line-to-line magnitudes only
+        await pilot.press(*"4815", "down", *"478", "down", *"484")
+        results, findings = seen(sheet, "#results"), seen(sheet, "#findings")
+        assert "NO RESULTS" in results and "cannot form a triangle" in results
+        assert "cannot form a triangle" in findings and "No findings" not in findings
+        await pilot.press("up", "up", *"481")  # typing replaces 4815: the results come back
+        assert "NO RESULTS" not in seen(sheet, "#results") and "LVUR" in seen(sheet, "#results")
+
+
+async def test_results_are_labelled_and_split_phase_shows_what_applies(tmp_path):
+    db = open_db(tmp_path / "sp.db")
+    sid = sites.create_site(db, "Split Yard")
+    bid = sites.create_board(db, sid, "OFC-9", system="split-phase", nominal_v=240)
+    db.close()
+    app = FieldpadApp(tmp_path / "sp.db", technician="T")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        app.push_screen(ReadingSheet(bid))
+        await pilot.pause()
+        sheet = app.screen
+        await pilot.press(*"120", "tab", *"30", "tab", "tab", *"121", "tab", *"180", "tab", *"20")
+        shown = seen(sheet, "#results")
+        assert "VAB 241.0 V calc" in shown
+        assert "Rotation" not in shown and "V1 " not in shown and "VUF" not in shown
+        assert "IN typed — A  calc" in shown  # measured (typed), computed and estimated told apart
+
+
+async def test_the_triplen_hint_only_when_the_measured_neutral_is_higher(tmp_path):
+    async with sheet_open(tmp_path, "nm.db", size=(120, 40)) as (app, pilot):
+        sheet = app.screen
+        # Phase C at 60 A: the phasor sum is 40 A (invented values).
+        await pilot.press(*"277", "tab", *"100", "tab", *"-30", "tab", *"277", "tab", *"-120", "tab", *"100",
+                          "tab", *"-150", "tab", *"277", "tab", *"120", "tab", *"60", "tab", *"90", "tab", *"10")
+        assert "triplen" not in seen(sheet, "#findings")
+        assert "Measured neutral is -30.0 A from the phasor sum" in seen(sheet, "#findings")
+        await pilot.press(*"60")
+        assert "triplen harmonics" in seen(sheet, "#findings")
+
+
+async def test_an_expired_label_is_said_in_words_and_is_a_finding(tmp_path):
+    from datetime import date
+
+    bid = seeded(tmp_path / "old.db")
+    app = FieldpadApp(tmp_path / "old.db", technician="T")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        app.push_screen(ReadingSheet(bid, today=date(2030, 1, 1)))  # label dated 2024-06-01, 5-year review
+        await pilot.pause()
+        sheet = app.screen
+        banner = seen(sheet, "#caution").splitlines()[1]
+        assert banner.startswith("⚠ LABEL EXPIRED: dated 2024-06-01")
+        assert "WARN" in seen(sheet, "#findings") and "arc-flash label is dated 2024-06-01" in seen(sheet, "#findings")
+
+
+def _demo_app(tmp_path, size_name="demo.db"):
+    from datetime import date
+
+    from fieldpad.demo_site import build_demo
+
+    build_demo(tmp_path / size_name, day=date(2026, 3, 10))
+    return FieldpadApp(tmp_path / size_name, technician="Sup")
+
+
+def _row_under_cursor(screen) -> str:
+    from textual.widgets import DataTable
+
+    t = screen.query_one(DataTable)
+    return str(t.get_row_at(t.cursor_row)[0])
+
+
+async def test_board_list_keeps_its_place_jumps_by_name_and_marks_findings(tmp_path):
+    from textual.widgets import DataTable
+
+    app = _demo_app(tmp_path)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        home = app.screen
+        await pilot.press(*"MSB2")  # typing a name jumps to it (capitals: the letters are the screen's keys)
+        assert _row_under_cursor(home) == "MSB-2"
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.press("escape")
+        await pilot.pause()
+        assert app.screen is home and _row_under_cursor(home) == "MSB-2"  # not back at the top
+        await pilot.press("end")
+        assert _row_under_cursor(home) == "SKD-1"
+        await pilot.press("home")
+        assert _row_under_cursor(home) == "CH-1"
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        t = home.query_one(DataTable)
+        marks = {str(t.get_row_at(k)[0]): str(t.get_row_at(k)[1]) for k in range(t.row_count)}
+        assert any(m == "▲ ALARM" for m in marks.values()) and any(m == "△ WARN" for m in marks.values())
+        assert "q  Quit" in seen(home, "KeyStrip")
+
+
+async def test_finishing_a_round_with_unread_boards_shows_them_and_asks(tmp_path):
+    bid = seeded(tmp_path / "r.db")
+    db = open_db(tmp_path / "r.db")
+    sites.create_board(db, sites.get_board(db, bid)["site_id"], "LP-4", system="wye", nominal_v=208)
+    db.close()
+    app = FieldpadApp(tmp_path / "r.db", technician="T")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("r")  # start
+        await pilot.pause()
+        await pilot.press("r")  # finish: asks first
+        await pilot.pause()
+        question = seen(app.screen, ".question")
+        assert "2 board(s) NOT read in this round: LP-4, MDB-7" in question
+        await pilot.press("n")
+        await pilot.pause()
+        assert "round: 0/2 boards read" in seen(app.screen, "#home-title")  # still open
+        await pilot.press("r", "y")
+        await pilot.pause()
+        assert "no round" in seen(app.screen, "#home-title")
+
+
+async def test_history_keeps_the_cursor_and_the_void_dialog_names_the_reading(tmp_path):
+    from fieldpad.ui.history import BoardHistory
+
+    bid = seeded(tmp_path / "h.db")
+    db = open_db(tmp_path / "h.db")
+    for minute in ("01", "02"):  # saved in the same hour: their short ids must still differ
+        versions.save_reading(db, bid, BAL, technician="Tech " + minute, taken_at=f"2026-12-01T10:{minute}:00.000000Z")
+    db.close()
+    app = FieldpadApp(tmp_path / "h.db", technician="T")
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        app.push_screen(BoardHistory(bid))
+        await pilot.pause()
+        scr = app.screen
+        from textual.widgets import DataTable
+
+        t = scr.query_one(DataTable)
+        ids = [str(t.get_row_at(k)[1]) for k in range(t.row_count)]
+        assert len(set(ids)) == 3
+        await pilot.press("down")
+        assert str(t.get_row_at(t.cursor_row)[3]) == "Tech 01"
+        await pilot.press("enter")  # the versions popup
+        await pilot.pause()
+        await pilot.press("escape")
+        await pilot.pause()
+        assert str(t.get_row_at(t.cursor_row)[3]) == "Tech 01"
+        await pilot.press("x")
+        await pilot.pause()
+        assert f"reading {ids[1]}, version 1" in seen(app.screen, ".question") and "by Tech 01" in seen(
+            app.screen, ".question")
+        await pilot.press(*"wrong board", "enter")
+        await pilot.pause()
+        assert str(t.get_row_at(t.cursor_row)[3]) == "Tech 01"  # the next void does not hit another reading
+        assert "VOID" in str(t.get_row_at(t.cursor_row)[-1])
+
+
+async def test_board_form_opens_at_the_top_and_speaks_in_labels_and_takes_inches(tmp_path):
+    from fieldpad.ui.boards import BoardForm, FormScroll
+
+    seeded(tmp_path / "f.db")
+    app = FieldpadApp(tmp_path / "f.db", technician="T")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("n")
+        await pilot.pause()
+        await pilot.pause()
+        form = app.screen
+        assert isinstance(form, BoardForm)
+        scroll = form.query_one(FormScroll)
+        assert scroll.scroll_y == 0  # title, System and Name in view
+        assert scroll not in form.focus_chain
+        assert form.focused.id == "name"
+        await pilot.press(*"LP-8")
+        for _ in range(6):
+            await pilot.press("tab")
+        await pilot.press(*"18 in", "tab", *"3 ft", "f2")
+        await pilot.pause()
+        error = seen(form, "#form-error")
+        assert "Label: arc-flash boundary" in error and "af_boundary_mm" not in error
+        await pilot.press("ctrl+u", *"36 in", "f2")
+        await pilot.pause()
+        b = sites.find_board(app.db, app.site_id, "LP-8")
+        assert b["af_working_distance_mm"] == 457.2 and b["af_boundary_mm"] == 914.4  # 25.4 mm per inch, exact
+
+
+async def test_board_overrides_the_sites_voltage_standard(tmp_path):
+    bid = seeded(tmp_path / "o.db")  # an ANSI site
+    db = open_db(tmp_path / "o.db")
+    iec = sites.create_board(db, sites.get_board(db, bid)["site_id"], "SKD-4", system="wye", nominal_v=400,
+                             voltage_standard="iec", colour_set="iec60445")
+    saved = versions.save_reading(db, iec, {"va": "253", "vb": "230", "vc": "230", "vb_deg": "-120",
+                                            "vc_deg": "120"})
+    assert versions.current_version(db, saved.reading_id)["standard"] == "iec"
+    db.close()
+    app = FieldpadApp(tmp_path / "o.db", technician="T")
+    async with app.run_test(size=(120, 40)) as pilot:
+        await pilot.pause()
+        app.push_screen(ReadingSheet(iec))
+        await pilot.pause()
+        await pilot.press(*"254", "tab", "tab", "tab", *"230", "tab", *"-120", "tab", "tab", "tab", *"230", "tab",
+                          *"120")
+        assert "IEC 60038" in seen(app.screen, "#findings")  # 254 V on 230 V: +10.4 %, outside IEC ±10 %
+
+
+@needs_tmux
+def test_real_terminal_typing_replaces_and_the_draft_offer_does_not_swallow_keys(tmp_path):
+    """Through a real terminal, keys in one burst: a filled field entered by Tab or Shift+Tab is replaced
+    by what is typed; keys typed right after Enter on a board with a draft land in the grid."""
+    db = tmp_path / "rt.db"
+    bid = seeded(db)
+    d = open_db(db)
+    drafts.save_draft(d, bid, {"mode": "ln", "values": {"va": "277.9"}, "typed_at": "2026-12-01T10:00:00.000000Z"})
+    d.close()
+    term = Terminal(db)
+    try:
+        term.wait("MDB-7")
+        term.keys("Enter", "4", "0", "2")  # one burst: Enter opens the sheet, 402 follows at once
+        shown = term.wait("402")
+        assert "DRAFT kept for this board" in shown, shown
+        row_a = next(line for line in shown.splitlines() if "■ A" in line)
+        assert "402" in row_a and "277.9" not in row_a, shown
+        term.keys("Tab", "1", "0", "BTab", "2", "8", "0", "Tab", "9", "9", "F2")
+        shown = term.wait("SAVED")
+        assert "SAVED" in shown, shown
+    finally:
+        term.close()
+    d = open_db(db)
+    row = versions.board_history(d, bid, 1)[0]
+    assert (row["va"], row["ia"]) == (280.0, 99.0)
+    assert drafts.get_draft(d, bid) is None  # saved: the offered draft is done with
+
+
+@needs_tmux
+def test_real_terminal_form_editing_keys_keep_their_order(tmp_path):
+    """X1 Tab loc Shift+Tab Backspace ZZ in one burst gives "XZZ" and "loc", not "X1Z"."""
+    db = tmp_path / "fo.db"
+    seeded(db)
+    term = Terminal(db)
+    try:
+        term.wait("MDB-7")
+        term.keys("n")
+        term.wait("Esc  Cancel")
+        time.sleep(0.5)
+        term.keys("X", "1", "Tab", "l", "o", "c", "BTab", "BSpace", "Z", "Z", "F2")
+        last_screen = term.wait("Esc  Cancel", present=False)
+    finally:
+        term.close()
+    d = open_db(db)
+    b = sites.find_board(d, sites.list_sites(d)[0]["id"], "XZZ")
+    assert b is not None and b["location"] == "loc", last_screen

@@ -281,8 +281,9 @@ class BoardList(Screen):
         Binding("f1", "help", "Help"),
         Binding("q", "app.quit", "Quit"),
         Binding("slash", "jump", "Go to", show=False),
-        Binding("home", "first", "First", show=False),
-        Binding("end", "last", "Last", show=False),
+        # Priority: the table's own Home/End only scroll, without moving the cursor.
+        Binding("home", "first", "First", show=False, priority=True),
+        Binding("end", "last", "Last", show=False, priority=True),
     ]
 
     #: Seconds between two typed characters of one board name (type-to-jump).
@@ -293,6 +294,7 @@ class BoardList(Screen):
         self._jump = ""
         self._jump_at = 0.0
         self._marks_for: tuple = ()
+        self._opening = False  # a sheet was asked for and is not on screen yet
 
     def compose(self) -> ComposeResult:
         yield Static(id="home-title")
@@ -316,6 +318,7 @@ class BoardList(Screen):
         t.focus()  # the rows are filled when the screen becomes current (on_screen_resume)
 
     def on_screen_resume(self) -> None:
+        self._opening = False
         self.reload()
 
     def reload(self) -> None:
@@ -393,6 +396,18 @@ class BoardList(Screen):
     def on_key(self, event) -> None:
         """Type a board's name (capitals, digits, "-"; the lowercase letters are the screen's keys) to
         jump to it."""
+        if event.key == "enter" and not self._opening and self.query_one(DataTable).row_count:
+            # Enter opens the sheet a few turns of the event loop later: what is typed behind it is the
+            # sheet's (the table's own Enter still runs: no stop here).
+            self._opening = True
+            self.app.typed_ahead = []
+            return
+        if self._opening:
+            # Typed right behind Enter, while the sheet opens: kept for the sheet, in order.
+            self.app.typed_ahead.append((event.key, event.character if event.is_printable else None))
+            event.stop()
+            event.prevent_default()
+            return
         ch = event.character
         if not ch or not event.is_printable or not (ch.isupper() or ch.isdigit() or ch in "-_."):
             return
@@ -406,10 +421,14 @@ class BoardList(Screen):
     def _go_to(self, text: str) -> bool:
         t = self.query_one(DataTable)
         names = [b["name"] or "" for b in getattr(self, "boards", [])]
-        low = text.lower()
-        hit = next((k for k, n in enumerate(names) if n.lower().startswith(low)), None)
+
+        def bare(name: str) -> str:  # "MSB2" finds "MSB-2": dashes, spaces and dots are not typed
+            return re.sub(r"[-_. /]", "", name.lower())
+
+        low = bare(text)
+        hit = next((k for k, n in enumerate(names) if bare(n).startswith(low)), None)
         if hit is None:
-            hit = next((k for k, n in enumerate(names) if low in n.lower()), None)
+            hit = next((k for k, n in enumerate(names) if low in bare(n)), None)
         if hit is None:
             self.query_one("#home-hint", Static).update(Text(f"No board named like {text!r}.", f"bold {WARN}"))
             return False
@@ -438,6 +457,9 @@ class BoardList(Screen):
         if bid is None:
             self.notify("No board selected: press n to create one.")
             return
+        if not self._opening:  # opened by the palette or a test's action, not by the Enter key
+            self._opening = True
+            self.app.typed_ahead = []
         self.post_message(OpenSheet(bid))
 
     def action_new_board(self) -> None:

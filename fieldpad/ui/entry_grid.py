@@ -116,9 +116,15 @@ class EntryGrid(Widget, can_focus=True):
             self.move_to(min(same_col, key=lambda k: abs(self.cells[k].row - cur.row)))
 
     def on_key(self, event) -> None:
+        if self.type_key(event.key, event.character if event.is_printable else None):
+            event.stop()
+            event.prevent_default()
+
+    def type_key(self, key: str, character: str | None) -> bool:
+        """Apply one key (``character``: what a printable key types, else None); True if the grid used it.
+        Also called for keys typed ahead on the board list while this sheet was opening."""
         if not self.cells:
-            return
-        key = event.key
+            return False
         field = self.cells[self.cursor].field
         handled = True
         if key in ("tab", "enter", "ctrl+j"):
@@ -141,19 +147,18 @@ class EntryGrid(Widget, can_focus=True):
             self.fresh = False
             self.values[field] = ""
             self._on_change(field)
-        elif event.is_printable and event.character:
+        elif character:
             if self.fresh:  # the first key in a cell just entered replaces what was there
                 self.values[field] = ""
                 self.fresh = False
             if len(self.values[field]) < MAX_CELL:
-                self.values[field] += event.character
+                self.values[field] += character
             self._on_change(field)
         else:
             handled = False
         if handled:
-            event.stop()
-            event.prevent_default()
             self.refresh()
+        return handled
 
     def render(self) -> Text:
         # Fixed-width columns drawn as plain text: a rich Table re-measures every cell on each

@@ -74,8 +74,10 @@ def results_text(r: dict | None, system: str = "wye", labels=("A", "B", "C"), ty
     B = "bold"
     la, lb = labels[0], labels[1]
     if system == "split-phase":
+        from .sheet_model import field_words
+
         v12, how = _split_ll(typed)
-        line((f"V{la}-{lb} ", B), (v12, ""), (f" {how}" if how else "", MUTED))
+        line((f"{field_words('vab', labels)} ", B), (v12, ""), (f" {how}" if how else "", MUTED))
         line(("Legs dev/avg ", B), (f"{_f(r['pvur_pct'], '{:.2f}')} %", ""))
     else:
         line(("V1 ", B), (f"{_f(r['v1'])} V{_ang(r['v1_deg'])}", ""), ("  V2 ", B), (f"{_f(r['v2'], '{:.2f}')} V", ""),

@@ -124,6 +124,7 @@ class ReadingSheet(Screen):
         super().__init__()
         self.today = today
         self.label_finding: dict | None = None
+        self._ready = False
         self.board_id = board_id
         self.round_id = round_id
         self.correcting = correcting
@@ -195,6 +196,19 @@ class ReadingSheet(Screen):
             else:
                 self.set_status("Type the readings. Tab/Enter: next field; typing into a filled field "
                                 "replaces it. F2: save. F1: help.")
+        self._ready = True
+        ahead, self.app.typed_ahead = getattr(self.app, "typed_ahead", []), []
+        grid = self.query_one(EntryGrid)
+        for key, character in ahead:  # typed right behind Enter on the board list: nothing is swallowed
+            grid.type_key(key, character)
+
+    def on_key(self, event) -> None:
+        """Keys that reach the screen before the sheet is set up (typed right behind Enter) are kept and
+        typed into the grid once it is."""
+        if not self._ready:
+            self.app.typed_ahead.append((event.key, event.character if event.is_printable else None))
+            event.stop()
+            event.prevent_default()
 
     def action_restore_draft(self) -> None:
         if self.offered_draft is None:
