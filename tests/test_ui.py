@@ -395,7 +395,8 @@ async def test_site_settings_change_thresholds_and_findings_follow(tmp_path):
         form_again.query_one("#th-vuf_pct").value = "abc"
         await pilot.press("f2")
         await pilot.pause()
-        assert "vuf_pct" in str(form_again.query_one("#form-error").render())
+        error = str(form_again.query_one("#form-error").render())
+        assert "VUF warning above (%)" in error and "vuf_pct" not in error  # its label, not an internal name
 
 
 async def test_text_panel_redraws_on_new_content_and_on_a_style_change(tmp_path):
