@@ -44,7 +44,8 @@ class BoardHistory(Screen):
         self.query_one("#history-title", Static).update(
             Text(f"History of {printable(board['name'])} (last 50 readings, newest first)", "bold"))
         table = self.query_one(DataTable)
-        table.add_columns("taken", "id", "ver", "by", "VUF %", "NEMA %", "rot", "worst finding")
+        # The worst finding (or VOID and its reason) early: in view at 80 columns; who saved it last.
+        table.add_columns("taken", "id", "ver", "worst finding", "VUF %", "NEMA %", "rot", "by")
         table.focus()  # the rows are filled when the screen becomes current (on_screen_resume)
 
     def reload(self) -> None:
@@ -60,8 +61,8 @@ class BoardHistory(Screen):
             worst_text = finding_words(worst) if worst else ""
             if r["void"]:
                 worst_text = "VOID: " + printable(r["reason"])
-            table.add_row(local_text(r["taken_at"]), short_id(r["reading_id"]), str(r["version"]), printable(r["technician"]),
-                          _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "", worst_text,
+            table.add_row(local_text(r["taken_at"]), short_id(r["reading_id"]), str(r["version"]), worst_text,
+                          _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "", printable(r["technician"]),
                           key=r["reading_id"])
         keys = [r["reading_id"] for r in rows]
         if keep in keys:

@@ -24,10 +24,11 @@ FINDING_WORDS = {
 SEVERITY_WORD = {"alarm": "ALARM", "warning": "WARN", "info": "info"}
 
 
-def finding_words(f: dict) -> str:
-    """"ALARM reverse rotation": a finding's severity and what it is, in words (never its code alone)."""
+def finding_words(f: dict, phase: bool = True) -> str:
+    """"ALARM reverse rotation": a finding's severity and what it is, in words (never its code alone);
+    ``phase``: with the phase it is on, "(C)"."""
     what = FINDING_WORDS.get(f["code"], f["code"].replace("_", " ").lower())
-    return f"{SEVERITY_WORD[f['severity']]} {what}" + (f" ({f['phase']})" if f.get("phase") else "")
+    return f"{SEVERITY_WORD[f['severity']]} {what}" + (f" ({f['phase']})" if phase and f.get("phase") else "")
 
 
 def _f(x, fmt="{:.1f}", dash="—"):

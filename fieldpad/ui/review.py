@@ -69,7 +69,8 @@ class DayReview(Screen):
         days = versions.reading_days(self.app.db, self.app.site_id)
         self.day = date.fromisoformat(days[0]) if days else date.today()
         t = self.query_one(DataTable)
-        t.add_columns("time", "board", "by", "rnd", "VUF%", "NEMA%", "rot", "IN A", "worst finding")
+        # The worst finding, in words, beside the board: in view at 80 columns (who and which round last).
+        t.add_columns("time", "board", "worst finding", "VUF%", "NEMA%", "rot", "IN A", "by", "rnd")
         self.reload()
         t.focus()
 
@@ -95,11 +96,11 @@ class DayReview(Screen):
         for r in shown:
             res = r["results"]
             w = r["findings"][0] if r["findings"] else None
-            t.add_row(local_text(r["taken_at"], "%H:%M"), printable(r["board"]), printable(r["technician"])[:14],
-                      printable(r["round"]), _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
-                      _f(_neutral(r), "{:.0f}"),
-                      Text(finding_words(w), f"bold {ALARM}" if w["severity"] == "alarm"
+            t.add_row(local_text(r["taken_at"], "%H:%M"), printable(r["board"]),
+                      Text(finding_words(w, phase=False), f"bold {ALARM}" if w["severity"] == "alarm"
                            else WARN if w["severity"] == "warning" else INFO) if w else "",
+                      _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
+                      _f(_neutral(r), "{:.0f}"), printable(r["technician"])[:14], printable(r["round"]),
                       key=r["reading_id"])
         filters = []
         if self.findings_only:
