@@ -714,3 +714,15 @@ def test_real_terminal_form_editing_keys_keep_their_order(tmp_path):
     d = open_db(db)
     b = sites.find_board(d, sites.list_sites(d)[0]["id"], "XZZ")
     assert b is not None and b["location"] == "loc", last_screen
+
+
+async def test_voltage_triangle_panel_follows_the_sheet(tmp_path):
+    async with sheet_open(tmp_path, "tri2.db") as (app, pilot):
+        sheet = app.screen
+        await pilot.press("f5", "f5", *"481", "down", *"450", "down", *"484", "f6")
+        panel = seen(sheet, "#panel")
+        assert "outer √3·V1 471.4 V" in panel and "V2/V1 4.56 %" in panel
+        assert "VUF V2/V1 4.56 %" in seen(sheet, "#results")  # the same unbalance, two ways
+        assert any(ch in panel for ch in "⠁⠂⠄⡀")  # drawn in braille
+        await pilot.press("up", *"482")  # live: the panel follows the typing
+        assert "V2/V1 4.56 %" not in seen(sheet, "#panel")

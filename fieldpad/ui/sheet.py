@@ -2,7 +2,7 @@
 from __future__ import annotations
 
 import time
-from datetime import date, datetime, timezone
+from datetime import UTC, date, datetime
 
 from rich.text import Text
 from textual.app import ComposeResult
@@ -24,7 +24,7 @@ from .dialogs import Ask, AskReason, help_page
 from .entry_grid import EntryGrid
 from .key_strip import KeyStrip
 from .messages import OpenHistory
-from .palette import ALARM, INFO, WARN
+from .palette import ALARM, INFO, MUTED, WARN
 from .results_view import compare_text, findings_text, per_phase_text, reasons_text, results_text
 from .safe import markup_safe, short_id
 from .sheet_model import (
@@ -32,10 +32,11 @@ from .sheet_model import (
     LL_MAG,
     LN,
     MODE_NAMES,
+    _ln_to_ll,
     caution_lines,
     cells,
-    label_finding,
     field_words,
+    label_finding,
     modes_for,
     row_labels,
     switch_mode,
@@ -45,7 +46,7 @@ from .text_panel import TextPanel
 
 #: How long a keystroke's draft waits for another process's write lock before leaving it to the next key.
 KEYSTROKE_WAIT_MS = 50
-PANELS = ("drawing", "power", "findings")
+PANELS = ("drawing", "triangle", "power", "findings")
 
 
 def live_result(values: dict, board: dict, site: dict, labels=("A", "B", "C")):
@@ -88,7 +89,7 @@ def draft_age(draft: dict, now: datetime | None = None) -> str:
         then = datetime.fromisoformat(typed.replace("Z", "+00:00"))
     except ValueError:
         return "at a time not recorded"
-    minutes = int(((now or datetime.now(timezone.utc)) - then).total_seconds() // 60)
+    minutes = int(((now or datetime.now(UTC)) - then).total_seconds() // 60)
     if minutes < 1:
         ago = "just now"
     elif minutes < 120:
@@ -310,7 +311,30 @@ class ReadingSheet(Screen):
             return
         w = max(20, panel.size.width or 38)
         h = max(6, panel.size.height or 10)
+        if self.panel == "triangle":
+            panel.update(self._triangle(w, h))
+            return
         panel.update(phasor_art.draw(self._arrows(), w, h, self.result["rotation"] if self.result else None))
+
+    def _triangle(self, w: int, h: int) -> Text:
+        """The voltage triangle of the typed line-to-line magnitudes (or of the line-to-neutral phasors)."""
+        from ..core.readings import ReadingError, parse_value
+
+        grid = self.query_one(EntryGrid)
+        try:
+            ll = [parse_value(grid.values.get(f, ""), "V") for f in ("vab", "vbc", "vca")]
+        except ReadingError:
+            ll = [None]
+        how = "typed"  # or computed from the line-to-neutral phasors
+        if any(v is None for v in ll):
+            conv = _ln_to_ll(grid.values)
+            ll, how = ([m for m, _ in conv], "calc") if conv else (None, "")
+        if not ll or self.board["system"] == "split-phase":
+            return Text("Voltage triangle: type VAB, VBC and VCA (or VA, VB, VC with their angles).", MUTED)
+        names = row_labels(LL, self.labels, self.board["system"])[:3]
+        art = phasor_art.draw_triangle(*ll, w, h, labels=tuple(self.labels), colours=tuple(self.colours[:3]))
+        art.append(f"\n{names[0]} {ll[0]:.0f} {names[1]} {ll[1]:.0f} {names[2]} {ll[2]:.0f} V {how}", MUTED)
+        return art
 
     def _arrows(self) -> list:
         grid = self.query_one(EntryGrid)

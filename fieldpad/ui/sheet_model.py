@@ -58,7 +58,7 @@ def row_labels(mode: str, labels: tuple[str, str, str], system: str) -> list[str
         out = [f"{a}-{b}", f"{b}-{c}", f"{c}-{a}"]
     if system == "split-phase":
         out[2] = ""
-    return out + ["N"]
+    return out + ["" if system == "delta" else "N"]  # a 3-wire delta has no neutral row
 
 
 def field_words(field: str, labels=("A", "B", "C")) -> str:
