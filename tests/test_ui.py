@@ -726,3 +726,25 @@ async def test_voltage_triangle_panel_follows_the_sheet(tmp_path):
         assert any(ch in panel for ch in "⠁⠂⠄⡀")  # drawn in braille
         await pilot.press("up", *"482")  # live: the panel follows the typing
         assert "V2/V1 4.56 %" not in seen(sheet, "#panel")
+
+
+async def test_the_day_review_keeps_compare_and_export_on_its_key_line_at_80_columns(tmp_path):
+    app = _demo_app(tmp_path, "rv.db")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("v")
+        await pilot.pause()
+        strip = seen(app.screen, "KeyStrip")
+        assert "Compare rounds" in strip and "Export" in strip and "Esc  Back" in strip and len(strip) <= 80
+
+
+async def test_clearing_the_sheet_asks_first_and_leaves_saved_readings(tmp_path):
+    async with sheet_open(tmp_path, "cl.db") as (app, pilot):
+        sheet = app.screen
+        await pilot.press(*"277", "tab", *"12", "ctrl+l")
+        await pilot.pause()
+        assert "Clear every value typed" in seen(app.screen, ".question")
+        await pilot.press("y")
+        await pilot.pause()
+        assert "277" not in seen(sheet, "#grid") and "Sheet cleared" in seen(sheet, "#status")
+        assert versions.counts(app.db)["reading"] == 1
