@@ -34,7 +34,7 @@ def test_new_file_is_private(db_path, db):
 
 def test_migrations_from_empty_file(db):
     applied = [r["name"] for r in db.query("SELECT name FROM _sqlite_migrations ORDER BY rowid")]
-    assert applied == schema_version_names() == ["0001_initial", "0002_drafts"]
+    assert applied == schema_version_names() == ["0001_initial", "0002_drafts", "0005_board_overrides"]
     assert {"site", "board", "round", "reading", "draft"} <= set(db.table_names())
 
 

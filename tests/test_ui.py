@@ -5,6 +5,7 @@ import shutil
 import subprocess
 import sys
 import time
+from datetime import UTC
 
 import pytest
 from conftest import BAL
@@ -55,7 +56,8 @@ async def test_first_run_create_site_board_enter_save_correct(tmp_path):
         await pilot.pause()
         rows = versions.current_readings(app.db)
         assert len(rows) == 1 and rows[0]["vb_deg"] == 240.0 and rows[0]["technician"] == "Test Tech"
-        assert rows[0]["ia"] == 100.0 and rows[0]["ia_deg"] == -30.0 and rows[0]["va_deg"] is None  # blank: 0° by core.reference
+        # VA's angle left blank is stored blank; the analysis takes it as 0° (core.reference).
+        assert rows[0]["ia"] == 100.0 and rows[0]["ia_deg"] == -30.0 and rows[0]["va_deg"] is None
         assert "SAVED" in seen(sheet, "#status") and "277" not in seen(sheet, "#grid")  # cleared
         # correct it from the history
         await pilot.press("f4")
@@ -139,11 +141,11 @@ async def test_leaving_with_unsaved_values_asks_and_keeps_a_draft(tmp_path):
 
 
 def test_draft_age_in_words():
-    from datetime import datetime, timezone
+    from datetime import datetime
 
     from fieldpad.ui.sheet import draft_age
 
-    now = datetime(2026, 12, 2, 14, 30, tzinfo=timezone.utc)
+    now = datetime(2026, 12, 2, 14, 30, tzinfo=UTC)
     assert draft_age({"typed_at": "2026-12-02T14:05:00.000000Z"}, now).endswith("(25 min ago)")
     assert draft_age({"typed_at": "2026-11-29T14:05:00.000000Z"}, now).endswith("(3 days ago)")
     assert draft_age({}, now) == "at a time not recorded"  # a draft kept by an older fieldpad

@@ -23,7 +23,6 @@ from textual import events
 from textual.widget import Widget
 from textual.widgets import Input
 
-
 #: Editing keys and the Input action each one runs (Textual's own key bindings for them).
 EDIT_ACTIONS = {"backspace": "action_delete_left", "delete": "action_delete_right",
                 "left": "action_cursor_left", "right": "action_cursor_right",

@@ -15,8 +15,8 @@ from .dialogs import AskReason, TextPage
 from .key_strip import KeyStrip
 from .messages import OpenSheet
 from .results_view import finding_words
-from .sheet_model import field_words
 from .safe import printable, short_id
+from .sheet_model import field_words
 from .tables import selected_key
 
 

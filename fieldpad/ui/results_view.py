@@ -96,12 +96,22 @@ def results_text(r: dict | None, system: str = "wye", labels=("A", "B", "C"), ty
     line(("I unbal. ", B), ("" if system == "split-phase" else f"I2/I1 {_f(r['iuf_pct'])} % · ", ""),
          (f"max dev/avg {_f(r['iur_pct'])} %", ""))
     if system != "delta":
-        measured = (r["i_n_calc"] + r["i_n_diff"]) if r.get("i_n_diff") is not None else None
-        line(("IN ", B), ("typed ", MUTED), (f"{_f(measured)} A", ""), ("  calc ", MUTED), (f"{_f(r['i_n_calc'])} A", ""),
-             ("  est ", MUTED), (f"{_f(r['i_n_est'])} A", ""))
+        measured = _typed_number(typed, "i_n", "A")
+        line(("IN ", B), ("typed ", MUTED), (f"{_f(measured)} A", ""), ("  calc ", MUTED),
+             (f"{_f(r['i_n_calc'])} A", ""), ("  est ", MUTED), (f"{_f(r['i_n_est'])} A", ""))
     line(("P ", B), (_si(r["p_w"], "W"), ""), ("  Q ", B), (_si(r["q_var"], "var"), ""), ("  calc", MUTED))
     line(("S ", B), (_si(r["s_va"], "VA"), ""), ("  PF ", B), (_f(r["pf"], "{:.2f}"), ""), ("  calc", MUTED))
     return t
+
+
+def _typed_number(typed: dict, field: str, kind: str):
+    """A typed value as a number (None if empty or unreadable)."""
+    from ..core.readings import ReadingError, parse_value
+
+    try:
+        return parse_value(typed.get(field), kind)
+    except ReadingError:
+        return None
 
 
 def _split_ll(typed: dict) -> tuple[str, str]:

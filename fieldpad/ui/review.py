@@ -20,8 +20,8 @@ from .dialogs import AskText, TextPage
 from .key_strip import KeyStrip
 from .palette import ALARM, INFO, WARN
 from .results_view import finding_words, findings_text, results_text
-from .sheet_model import field_words
 from .safe import printable
+from .sheet_model import field_words
 from .tables import selected_key
 
 SEVERITY_RANK = {"alarm": 0, "warning": 1, "info": 2, None: 3}
