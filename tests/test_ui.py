@@ -750,3 +750,21 @@ async def test_clearing_the_sheet_asks_first_and_leaves_saved_readings(tmp_path)
         await pilot.pause()
         assert "277" not in seen(sheet, "#grid") and "Sheet cleared" in seen(sheet, "#status")
         assert versions.counts(app.db)["reading"] == 1
+
+
+async def test_a_note_and_the_instrument_go_with_the_reading(tmp_path):
+    async with sheet_open(tmp_path, "nt.db") as (app, pilot):
+        sheet = app.screen
+        await pilot.press("f8")
+        await pilot.pause()
+        await pilot.press(*"door 3 open", "enter")
+        await pilot.pause()
+        await pilot.press("f9")
+        await pilot.pause()
+        await pilot.press(*"meter 7", "enter")
+        await pilot.pause()
+        assert "Instrument: meter 7" in seen(sheet, "#status")
+        await pilot.press(*"277", "f2")
+        await pilot.pause()
+        saved = [r for r in versions.current_readings(app.db) if r["note"] == "door 3 open"]
+        assert len(saved) == 1 and saved[0]["instrument"] == "meter 7" and saved[0]["va"] == 277.0

@@ -37,6 +37,7 @@ HELP = """\
   F6  right panel: phasors / voltage triangle / per-phase power /
       findings in full
   F7  put back the draft kept for this board
+  F8  note for this reading;  F9  instrument used
   Ctrl+L  clear the sheet (asks first; saved readings untouched)
   Esc back (asks first if typed values are not saved)
   Ctrl+P  command palette;  F1  this help

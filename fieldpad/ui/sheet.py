@@ -20,7 +20,7 @@ from ..storage.db import BusyError, StorageError
 from ..storage.ids import local_text, utc_now
 from ..storage.rows import ValidationError
 from . import phasor_art
-from .dialogs import Ask, AskReason, help_page
+from .dialogs import Ask, AskReason, AskText, help_page
 from .entry_grid import EntryGrid
 from .key_strip import KeyStrip
 from .messages import OpenHistory
@@ -114,6 +114,8 @@ class ReadingSheet(Screen):
         Binding("f5", "mode", "Mode"),
         Binding("f6", "panel", "Panel"),
         Binding("f7", "restore_draft", "Draft", show=False),
+        Binding("f8", "note", "Note", show=False),
+        Binding("f9", "instrument", "Instrument", show=False),
         Binding("ctrl+l", "clear_sheet", "Clear", show=False),
         Binding("f1", "help", "Help"),
         Binding("escape", "back", "Back"),
@@ -136,6 +138,9 @@ class ReadingSheet(Screen):
         self.show_previous = False
         self.panel = "drawing"
         self.reasons: list[str] = []
+        #: The reading's note (F8) and the instrument used (F9, kept for the next readings of this sheet).
+        self.note: str | None = None
+        self.instrument: str | None = None
         #: Typed values the current entry mode has no cell for (kept, saved in the draft, back with F5).
         self.aside: dict[str, str] = {}
         #: The draft found on opening, not yet restored (F7 restores it; typing does not lose it).
@@ -432,7 +437,7 @@ class ReadingSheet(Screen):
             return
         try:
             saved = versions.save_reading(self.app.db, self.board_id, grid.entered(), technician=self.technician,
-                                      round_id=self.round_id)
+                                          round_id=self.round_id, instrument=self.instrument, note=self.note)
         except ValidationError as e:
             self.set_status(f"NOT SAVED: {e}. Nothing was lost.", error=True)
             return
@@ -456,7 +461,7 @@ class ReadingSheet(Screen):
         grid = self.query_one(EntryGrid)
         try:
             saved = versions.correct_reading(self.app.db, self.correcting, grid.entered(), reason=reason,
-                                         by=self.technician)
+                                             by=self.technician, note=self.note)
         except StorageError as e:
             self.set_status(f"NOT SAVED: {e}. What you typed is still here.", error=True)
             return
@@ -469,6 +474,7 @@ class ReadingSheet(Screen):
         self.previous_row = versions.previous_reading(self.app.db, self.board_id)
         self.previous = self.result
         self.aside = {}
+        self.note = None  # a note belongs to one reading; the instrument stays for the next
         self.offered_draft = None  # a reading is saved: the draft offered on opening is done with
         grid.clear()  # through _changed: the results are recomputed for the empty sheet
         self.dirty = False
@@ -503,6 +509,24 @@ class ReadingSheet(Screen):
         self.recompute()
         self.flush_draft()
         self.set_status(f"Entry mode: {MODE_NAMES[self.mode]}." + (f" {note}." if note else ""))
+
+    def action_note(self) -> None:
+        self.app.push_screen(AskText("Note for this reading (saved with it; empty = none):", required=False,
+                                     value=self.note or ""), self._set_note)
+
+    def _set_note(self, text: str | None) -> None:
+        if text is not None:
+            self.note = text or None
+            self.set_status(f"Note for this reading: {text}" if text else "No note for this reading.")
+
+    def action_instrument(self) -> None:
+        self.app.push_screen(AskText("Instrument used (make, model, serial), kept for the next readings:",
+                                     required=False, value=self.instrument or ""), self._set_instrument)
+
+    def _set_instrument(self, text: str | None) -> None:
+        if text is not None:
+            self.instrument = text or None
+            self.set_status(f"Instrument: {text}" if text else "No instrument recorded.")
 
     def action_clear_sheet(self) -> None:
         grid = self.query_one(EntryGrid)
