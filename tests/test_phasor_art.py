@@ -34,8 +34,9 @@ def test_reading_order_of_cells():
 
 
 def test_understood_says_how_a_value_was_read():
-    assert understood("vb_deg", "240") == ("vb_deg = 240° (same as -120°, lagging)", True)
-    assert understood("va", "277,5 V")[0] == "va = 277.5 V"
+    assert understood("vb_deg", "240") == ("VB angle = 240° (same as -120°, lagging)", True)
+    assert understood("va", "277,5 V")[0] == "VA = 277.5 V"
+    assert understood("vab", "480", ("L1", "L2", "L3"))[0] == "VL1-L2 = 480 V"  # the site's labels, in words
     msg, ok = understood("ia", "12 V")
     assert not ok and "not a unit for a current" in msg
 
@@ -45,7 +46,7 @@ def test_caution_banner_label_states():
     assert caution_lines(board, 5)[2] is True and "NO ARC-FLASH LABEL" in caution_lines(board, 5)[1]
     old = {"af_incident_energy_cal_cm2": 8.0, "af_ppe": "2", "af_label_date": "2018-01-01"}
     first, second, problem = caution_lines(old, 5, today=date(2026, 12, 1))
-    assert problem and "OLDER THAN 5 YEARS" in second
+    assert problem and second.startswith("⚠ LABEL EXPIRED: dated 2018-01-01, older than 5 years")
     assert "Qualified persons" in first and "Local codes govern" in first
     fresh = {**old, "af_label_date": "2025-01-01"}
     assert caution_lines(fresh, 5, today=date(2026, 12, 1))[2] is False

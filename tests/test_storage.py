@@ -35,7 +35,8 @@ def test_new_file_is_private(db_path, db):
 def test_migrations_from_empty_file(db):
     applied = [r["name"] for r in db.query("SELECT name FROM _sqlite_migrations ORDER BY rowid")]
     assert applied == schema_version_names()
-    assert applied[:4] == ["0001_initial", "0002_drafts", "0003_rounds_signoff", "0004_crew_identity"]
+    assert applied[:5] == ["0001_initial", "0002_drafts", "0003_rounds_signoff", "0004_crew_identity",
+                           "0005_board_overrides"]
     assert "0007_sync" in applied
     assert {"site", "board", "round", "reading", "draft", "signoff", "sync_state", "sync_log"} <= set(db.table_names())
 

@@ -64,7 +64,7 @@ def test_readings_sheet_has_units_numbers_dates_words_frozen_header_and_filters(
     assert p_kw.data_type == "n" and p_kw.number_format == "0.00"
     assert p_kw.value == pytest.approx(rec["results"]["p_w"] / 1000)
     assert first["PF computed"].number_format == "0.000"
-    assert first["Findings"].value.startswith("WARNING: Neutral current 420.0 A exceeds the highest phase current")
+    assert first["Findings"].value.startswith("WARNING: Neutral current 420.0 A exceeds 100.0 A")
     assert "NEUTRAL_OVERLOAD" not in first["Findings"].value  # words, not codes
     db4 = [r for r in rows if r["Board"].value == "DB-4"][0]
     assert db4["After sign-off"].value == "corrected after sign-off"

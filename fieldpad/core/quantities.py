@@ -17,6 +17,7 @@ from .fields import ANALYSIS_COLUMNS, DELTA, HIGH_LEG, SPLIT, WYE
 from .neutral import neutral_estimate_3ph, neutral_estimate_split, neutral_phasor_cols
 from .phasors import SQRT3, polar
 from .power import complex_power, power_factor, two_wattmeter_power
+from .reference import fill_reference
 from .sequence import ln_equivalent_from_ll, sequence_components_cols
 from .unbalance import (
     max_deviation_pct_cols,
@@ -56,9 +57,7 @@ def inputs(cols, system, standard) -> _Q:
     q.ma, q.mb, q.mc = col["va"], col["vb"], col["vc"]
     q.da, q.db, q.dc = col["va_deg"], col["vb_deg"], col["vc_deg"]
     # A meter that shows angles relative to VA often shows no angle for VA itself.
-    ref_missing = np.isfinite(q.ma) & np.isnan(q.da) & np.isfinite(q.db)
-    if ref_missing.any():
-        q.da = np.where(ref_missing, 0.0, q.da)
+    q.da = fill_reference(q.ma, q.da, q.db)  # the one rule: core/reference.py
     # Split-phase uses legs A and B only: phase C is taken as absent.
     if split.any():
         q.mc, q.dc = np.where(split, np.nan, q.mc), np.where(split, np.nan, q.dc)
@@ -73,9 +72,7 @@ def voltages(q, th) -> None:
     col, is3, split = q.col, q.is3, q.split
     lab, lbc, lca = col["vab"], col["vbc"], col["vca"]
     # As for VA: a meter showing line-to-line angles relative to Vab often shows none for Vab itself.
-    ll_ref_missing = np.isfinite(lab) & np.isnan(col["vab_deg"]) & np.isfinite(col["vbc_deg"])
-    if ll_ref_missing.any():
-        col["vab_deg"] = np.where(ll_ref_missing, 0.0, col["vab_deg"])
+    col["vab_deg"] = fill_reference(lab, col["vab_deg"], col["vbc_deg"])
     q.ll_given_ang = ll_given = fin(lab, lbc, lca, col["vab_deg"], col["vbc_deg"], col["vca_deg"]) & is3
     ll_from_ln = q.has_ln_ang & is3 & ~ll_given
     Vab, Vbc, Vca = q.Va - q.Vb, q.Vb - q.Vc, q.Vc - q.Va

@@ -135,14 +135,28 @@ def neutral_high(q, th):
     return [("info", (q.i_n_best > lim) & ~q.n_over, q.i_n_best, lim, NONE)]
 
 
+def _neutral_mismatch(q, th):
+    big = np.fmax(q.i_n_meas, q.i_n_calc)
+    mismatch = np.abs(q.i_n_diff) > th.neutral_mismatch_ratio * np.where(big > 0, big, np.nan)
+    return mismatch & (np.abs(q.i_n_diff) >= 1.0) & ~q.i_suspect
+
+
 @finding("NEUTRAL_MISMATCH", ["info"], 220, "A", "neutral_mismatch_ratio",
-         "Measured neutral differs from the phasor sum of the phases by {value:+.1f} A.",
+         "Measured neutral is above the phasor sum of the phases by {value:+.1f} A.",
          "Triplen harmonics add in the neutral and are not in a fundamental-phasor sum; also check for a shared "
          "neutral or a CT on the wrong conductor.")
 def neutral_mismatch(q, th):
-    big = np.fmax(q.i_n_meas, q.i_n_calc)
-    mismatch = np.abs(q.i_n_diff) > th.neutral_mismatch_ratio * np.where(big > 0, big, np.nan)
-    return [("info", mismatch & (np.abs(q.i_n_diff) >= 1.0) & ~q.i_suspect, "i_n_diff", NAN, NONE)]
+    return [("info", _neutral_mismatch(q, th) & (q.i_n_diff > 0), "i_n_diff", NAN, NONE)]
+
+
+# Measured below the phasor sum: harmonics cannot explain it (they only add to a true-RMS reading); common
+# practice.
+@finding("NEUTRAL_BELOW_SUM", ["info"], 221, "A", "neutral_mismatch_ratio",
+         "Measured neutral is below the phasor sum of the phases by {value:+.1f} A.",
+         "Harmonics cannot make a neutral read low: check the neutral clamp's position and direction, a shared "
+         "neutral, or a CT on the wrong conductor.")
+def neutral_below_sum(q, th):
+    return [("info", _neutral_mismatch(q, th) & (q.i_n_diff < 0), "i_n_diff", NAN, NONE)]
 
 
 @finding("POWER_TO_SUPPLY", ["info"], 195, "PF", "power_to_supply",

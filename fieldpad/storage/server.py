@@ -87,10 +87,13 @@ def _psycopg():
 
 
 def connect(url: str):
-    """A psycopg connection (autocommit off).  Refusals and unreachable servers become a ServerError."""
+    """A psycopg connection in autocommit mode: every write is inside an explicit ``conn.transaction()``
+    (a real BEGIN ... COMMIT, never a savepoint inside a transaction a lone query left open).  Refusals and
+    unreachable servers become a ServerError."""
     psycopg = _psycopg()
     try:
-        return psycopg.connect(url, connect_timeout=CONNECT_TIMEOUT_S, application_name="fieldpad")
+        return psycopg.connect(url, connect_timeout=CONNECT_TIMEOUT_S, application_name="fieldpad",
+                               autocommit=True)
     except psycopg.Error as e:
         raise ServerError(f"cannot reach the server {shown_url(url)}: {_first_line(e)}. Nothing was sent or "
                           "received; everything stays on this laptop and waits for the next sync.") from None
@@ -168,8 +171,15 @@ class SyncReport:
     send_tx: str | None = None  # the server transaction that took this sync's rows
 
 
-def _cols(db, table: str) -> list[str]:
-    return [r[1] for r in db.conn.execute(f"PRAGMA main.table_info({table})")]
+def _cols(db, table: str, conn=None) -> list[str]:
+    """The laptop table's columns; with ``conn``, only those the server's table has too (a server one
+    migration behind still takes what it knows: what a site or board is travels as setting_version rows)."""
+    cols = [r[1] for r in db.conn.execute(f"PRAGMA main.table_info({table})")]
+    if conn is None:
+        return cols
+    there = {r[0] for r in conn.execute("SELECT column_name FROM information_schema.columns WHERE table_name = %s",
+                                        [table])}
+    return [c for c in cols if c in there]
 
 
 def _state(db, sid: str) -> dict:
@@ -246,7 +256,7 @@ def _send(db, conn, sid: str, role: str, report: SyncReport) -> None:
     tables = (TECHNICIAN_TABLES if tech else ()) + (SUPERVISOR_TABLES if boss else ())
     batches, marks = {}, {}
     for table in tables:
-        cols = _cols(db, table)
+        cols = _cols(db, table, conn)
         since = state.get(table, (0, "0"))[0]
         rows = db.conn.execute(f"SELECT rowid, {', '.join(cols)} FROM {table} WHERE rowid > ? ORDER BY rowid",
                                [since]).fetchall()
@@ -352,7 +362,7 @@ def _receive(db, conn, sid: str, report: SyncReport) -> None:
             # Every transaction older than this one's xmin has ended: rows added later all have tx >= mark.
             mark = str(conn.execute("SELECT pg_snapshot_xmin(pg_current_snapshot())").fetchone()[0])
             for table in TABLES:
-                cols = _cols(db, table)
+                cols = _cols(db, table, conn)
                 since = state.get(table, (0, "0"))[1] or "0"
                 got[table] = (cols, conn.execute(
                     f"SELECT {', '.join(cols)} FROM {table} WHERE tx >= %s::xid8 AND tx <> %s::xid8",

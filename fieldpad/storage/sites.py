@@ -19,7 +19,8 @@ from .rows import NO_NUMBER, ValidationError, clean_text, insert, number
 SITE_FIELDS = ("name", "description", "voltage_standard", "phase_labels", "colour_set", "thresholds_json",
                "label_review_years")
 BOARD_FIELDS = ("name", "location", "kind", "system", "nominal_v", "frequency_hz", "af_incident_energy_cal_cm2",
-                "af_working_distance_mm", "af_boundary_mm", "af_ppe", "af_label_date")
+                "af_working_distance_mm", "af_boundary_mm", "af_ppe", "af_label_date",
+                "voltage_standard", "colour_set")  # the last two: None = the site's (migration 0005)
 
 #: Fields whose every change is kept (``setting_version``): generic, so a new board field needs only its
 #: column and its place in BOARD_FIELDS.
@@ -135,6 +136,12 @@ def _board_values(fields: dict, problems: list) -> dict:
             if v not in SYSTEMS:
                 problems.append(("system", f"unknown system {v!r}"))
             out[k] = v
+        elif k in ("voltage_standard", "colour_set"):  # a board's own setting; empty = the site's
+            v = None if v is None or str(v).strip() == "" else str(v).strip()
+            allowed = ("ansi", "iec") if k == "voltage_standard" else tuple(COLOUR_SETS)
+            if v is not None and v not in allowed:
+                problems.append((k, f"use one of {', '.join(allowed)}, or leave it to the site"))
+            out[k] = v
         elif k == "af_label_date":
             text = clean_text(v, k, problems, limit=10)
             if text:
@@ -180,6 +187,16 @@ def find_board(db, site_id, name) -> dict | None:
     rows = list(db.query("SELECT * FROM board WHERE site_id = ? AND name = ? AND joined_into IS NULL ORDER BY id "
                          "LIMIT 1", [site_id, name]))
     return rows[0] if rows else None
+
+
+def board_standard(board: dict, site: dict) -> str:
+    """The voltage standard a board's readings are checked against: its own, else its site's."""
+    return board.get("voltage_standard") or site["voltage_standard"]
+
+
+def board_colour_set(board: dict, site: dict) -> str:
+    """The phase colours a board is drawn with: its own set, else its site's."""
+    return board.get("colour_set") or site["colour_set"]
 
 
 def list_boards(db, site_id) -> list[dict]:

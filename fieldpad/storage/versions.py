@@ -50,7 +50,8 @@ def _reading_row(inputs: dict, board: dict) -> tuple[dict, list]:
 
 def _board_for_reading(db, board_id) -> dict:
     # Straight through sqlite3 (on the path of every save; sqlite-utils' query() parses the SQL first).
-    cur = db.conn.execute("SELECT b.*, s.voltage_standard AS _standard FROM board b JOIN site s ON s.id = b.site_id "
+    cur = db.conn.execute("SELECT b.*, COALESCE(b.voltage_standard, s.voltage_standard) AS _standard "
+                          "FROM board b JOIN site s ON s.id = b.site_id "
                           "WHERE b.id = ?", [board_id])
     row = cur.fetchone()
     if row is None:

@@ -31,6 +31,8 @@ class FieldpadApp(App):
         self.round_id: str | None = None
         self.start_note = note
         self._worker_db = None
+        #: Keys typed on the board list right behind Enter, before the sheet was on screen (the sheet types them).
+        self.typed_ahead: list[tuple[str, str | None]] = []
 
     def worker_db(self):
         """The connection for work in a worker thread (exports), opened once and kept for the app's life:

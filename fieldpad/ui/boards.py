@@ -2,6 +2,8 @@
 from __future__ import annotations
 
 import json
+import re
+import time
 
 from rich.text import Text
 from textual.app import ComposeResult
@@ -25,13 +27,39 @@ from .tables import selected_key
 #: How each system type of the core (``core.fields.SYSTEMS``) is offered in the board form.
 SYSTEM_LABELS = {"wye": "3-phase 4-wire wye", "delta": "3-phase 3-wire delta (line-to-line only)",
                  "high-leg-delta": "4-wire high-leg delta", "split-phase": "120/240 V split-phase"}
+#: The system type in the board list, short enough for 80 columns.
+SYSTEM_SHORT = {"wye": "wye", "delta": "delta", "high-leg-delta": "hi-leg Δ", "split-phase": "split-ph"}
 SYSTEM_CHOICES = [(SYSTEM_LABELS[code], code) for code in SYSTEMS]
 
 
-class SettingsForm(TypingTargetScreen, ModalScreen[str | None]):
-    """A form that saves with F2 and says, in place, what stopped the save."""
+INCH_MM = 25.4  # exact, by definition of the inch (1959 international yard and pound agreement)
+_INCHES = re.compile(r'^\s*([0-9]+(?:[.,][0-9]+)?)\s*(?:in|inch|inches|")\s*$', re.IGNORECASE)
 
-    AUTO_FOCUS = "#name"
+
+def inches_to_mm(text: str) -> str:
+    """A length typed in inches ("18 in", '18"', "18 inches") as millimetres; any other text unchanged.
+
+    >>> inches_to_mm("18 in"), inches_to_mm("455")
+    ('457.2', '455')
+    """
+    m = _INCHES.match(text or "")
+    if not m:
+        return text
+    return f"{float(m.group(1).replace(',', '.')) * INCH_MM:.1f}"
+
+
+class FormScroll(VerticalScroll, can_focus=False):
+    """The form's scrolling area: not a Tab stop (Tab goes from field to field)."""
+
+
+class SettingsForm(TypingTargetScreen, ModalScreen[str | None]):
+    """A form that saves with F2 and says, in place, what stopped the save.  It opens scrolled to the top
+    (title and first field in view), and names fields by their labels in its messages."""
+
+    #: field -> its label on the form (for messages in the technician's words).
+    LABELS: dict[str, str] = {}
+
+    AUTO_FOCUS = None  # on_mount focuses the name field and scrolls to the top
     # Not priority bindings: a priority binding runs before the keys typed just ahead of it reach the
     # field, so a fast "…0 F2" could save without the last characters.
     BINDINGS = [Binding("f2", "save", "Save"), Binding("ctrl+s", "save", "Save", show=False),
@@ -39,10 +67,24 @@ class SettingsForm(TypingTargetScreen, ModalScreen[str | None]):
 
     def show_problems(self, error: StorageError) -> None:
         problems = getattr(error, "problems", None)
-        text = "NOT SAVED: " + ("; ".join(f"{f}: {r}" for f, r in problems) if problems else str(error))
+        text = "NOT SAVED: " + ("; ".join(f"{self.label_of(f)}: {self.words(f, r)}" for f, r in problems)
+                                if problems else str(error))
         box = self.query_one("#form-error", Static)
         box.update(Text(text, f"bold {ALARM}"))
         box.scroll_visible()  # the form is taller than an 80x24 screen: bring the reason into view
+
+    def label_of(self, field: str) -> str:
+        return self.LABELS.get(field, field.replace("_", " ")).rstrip(" *")
+
+    @staticmethod
+    def words(field: str, reason: str) -> str:
+        """A storage reason with the internal field name replaced by "it"."""
+        return reason.replace(f"{field}: ", "").replace(field, "it")
+
+    def on_mount(self) -> None:
+        self.query_one("#name", Input).focus()
+        # Focusing the name field scrolls it into view; the form then opens at its top, title in view.
+        self.call_after_refresh(lambda: self.query_one(FormScroll).scroll_home(animate=False))
 
     def action_cancel(self) -> None:
         self.dismiss(None)
@@ -55,9 +97,12 @@ class BoardForm(SettingsForm):
     FIELDS = [("name", "Name / tag *"), ("location", "Location"), ("kind", "Kind (switchboard, panelboard, MCC…)"),
               ("nominal_v", "Nominal voltage, line-to-line (V)"), ("frequency_hz", "Frequency (Hz)"),
               ("af_incident_energy_cal_cm2", "Arc-flash label: incident energy (cal/cm²)"),
-              ("af_working_distance_mm", "Label: working distance (mm)"),
-              ("af_boundary_mm", "Label: arc-flash boundary (mm)"),
+              ("af_working_distance_mm", "Label: working distance (mm, or inches: 18 in)"),
+              ("af_boundary_mm", "Label: arc-flash boundary (mm, or inches: 36 in)"),
               ("af_ppe", "Label: PPE category, or 'none posted'"), ("af_label_date", "Label date (YYYY-MM-DD)")]
+
+    LABELS = {**dict(FIELDS), "system": "System", "voltage_standard": "Voltage limits",
+              "colour_set": "Phase colours"}
 
     def __init__(self, site_id: str, board_id: str | None = None) -> None:
         super().__init__()
@@ -66,8 +111,8 @@ class BoardForm(SettingsForm):
 
     def compose(self) -> ComposeResult:
         board = sites.get_board(self.app.db, self.board_id) if self.board_id else {}
-        with VerticalScroll(classes="form"):
-            yield Static("[b]Edit board[/b]" if self.board_id else "[b]New board[/b]")
+        with FormScroll(classes="form"):
+            yield Static(("[b]Edit board[/b]" if self.board_id else "[b]New board[/b]") + " — F2 to save")
             yield Label("System")
             yield Select(SYSTEM_CHOICES, value=board.get("system", "wye"), allow_blank=False, id="system", compact=True)
             for field, label in self.FIELDS:
@@ -75,15 +120,22 @@ class BoardForm(SettingsForm):
                 v = board.get(field)
                 yield FieldInput(value="" if v is None else (f"{v:g}" if isinstance(v, float) else str(v)), id=field,
                             compact=True)
+            yield Label("Voltage limits for this board (overrides the site's)")
+            yield Select(BOARD_STANDARDS, value=board.get("voltage_standard") or "", allow_blank=False,
+                         id="voltage_standard", compact=True)
+            yield Label("Phase colours for this board (overrides the site's)")
+            yield Select(BOARD_COLOURS, value=board.get("colour_set") or "", allow_blank=False, id="colour_set",
+                         compact=True)
             yield Static(id="form-error")
         yield KeyStrip()
 
-    def on_mount(self) -> None:
-        self.query_one("#name", Input).focus()
-
     def action_save(self) -> None:
         values = {f: self.query_one(f"#{f}", Input).value for f, _ in self.FIELDS}
+        for f in ("af_working_distance_mm", "af_boundary_mm"):
+            values[f] = inches_to_mm(values[f])
         values["system"] = self.query_one("#system", Select).value
+        for f in ("voltage_standard", "colour_set"):
+            values[f] = self.query_one(f"#{f}", Select).value or None
         try:
             if self.board_id:
                 sites.update_board(self.app.db, self.board_id, **values)
@@ -97,6 +149,13 @@ class BoardForm(SettingsForm):
             return
         self.dismiss(bid)
 
+
+STANDARD_CHOICES = [("ANSI C84.1 Range A / B", "ansi"), ("IEC 60038 ±10 %", "iec")]
+COLOUR_CHOICES = [("IEC 60445: brown, black, grey; blue neutral", "iec60445"),
+                  ("208Y/120: black, red, blue; white neutral", "na-208y120"),
+                  ("480Y/277: brown, orange, yellow; grey neutral", "na-480y277")]
+BOARD_STANDARDS = [("as the site", "")] + STANDARD_CHOICES
+BOARD_COLOURS = [("as the site", "")] + COLOUR_CHOICES
 
 #: Threshold fields shown in the site form: (name, label).
 THRESHOLD_FIELDS = [
@@ -114,6 +173,11 @@ THRESHOLD_FIELDS = [
 class SiteForm(SettingsForm):
     """Create a site, or edit its settings and its threshold overrides."""
 
+    LABELS = {"name": "Site name", "description": "Address or description",
+              "voltage_standard": "Voltage limits", "phase_labels": "Phase labels", "colour_set": "Phase colours",
+              "label_review_years": "Arc-flash label review interval (years)",
+              **{name: label for name, label in THRESHOLD_FIELDS}}
+
     def __init__(self, site_id: str | None = None) -> None:
         super().__init__()
         self.site_id = site_id
@@ -122,23 +186,21 @@ class SiteForm(SettingsForm):
         site = sites.get_site(self.app.db, self.site_id) if self.site_id else {}
         overrides = json.loads(site.get("thresholds_json") or "{}")
         defaults = Thresholds()
-        with VerticalScroll(classes="form"):
+        with FormScroll(classes="form"):
             yield Static("[b]Site settings[/b] — F2 to save" if self.site_id else "[b]New site[/b] — F2 to save")
             yield Label("Site name *")
             yield FieldInput(value=site.get("name") or "", id="name")
             yield Label("Address or description")
             yield FieldInput(value=site.get("description") or "", id="description")
             yield Label("Voltage limits for warnings")
-            yield Select([("ANSI C84.1 Range A / B", "ansi"), ("IEC 60038 ±10 %", "iec")],
+            yield Select(STANDARD_CHOICES,
                          value=site.get("voltage_standard", "ansi"), allow_blank=False, id="voltage_standard",
                          compact=True)
             yield Label("Phase labels")
             yield Select([("A / B / C", "ABC"), ("L1 / L2 / L3", "L123")], value=site.get("phase_labels", "ABC"),
                          allow_blank=False, id="phase_labels", compact=True)
             yield Label("Phase colours")
-            yield Select([("IEC 60445: brown, black, grey; blue neutral", "iec60445"),
-                          ("208Y/120: black, red, blue; white neutral", "na-208y120"),
-                          ("480Y/277: brown, orange, yellow; grey neutral", "na-480y277")],
+            yield Select(COLOUR_CHOICES,
                          value=site.get("colour_set", "iec60445"), allow_blank=False, id="colour_set", compact=True)
             yield Label("Arc-flash label review interval (years)")
             yield FieldInput(value=f"{site.get('label_review_years', 5.0):g}", id="label_review_years")
@@ -222,7 +284,21 @@ class BoardList(Screen):
         Binding("v", "review", "Day review"),
         Binding("f1", "help", "Help"),
         Binding("q", "app.quit", "Quit"),
+        Binding("slash", "jump", "Go to", show=False),
+        # Priority: the table's own Home/End only scroll, without moving the cursor.
+        Binding("home", "first", "First", show=False, priority=True),
+        Binding("end", "last", "Last", show=False, priority=True),
     ]
+
+    #: Seconds between two typed characters of one board name (type-to-jump).
+    JUMP_PAUSE_S = 1.2
+
+    def __init__(self) -> None:
+        super().__init__()
+        self._jump = ""
+        self._jump_at = 0.0
+        self._marks_for: tuple = ()
+        self._opening = False  # a sheet was asked for and is not on screen yet
 
     def compose(self) -> ComposeResult:
         yield Static(id="home-title")
@@ -233,13 +309,20 @@ class BoardList(Screen):
 
     def on_mount(self) -> None:
         t = self.query_one(DataTable)
-        t.add_columns("board", "location", "system", "V", "last reading", "round")
+        # Widths that keep every column in view at 80 columns (the round column last).
+        t.add_column("board", key="board")
+        t.add_column("check", key="check", width=7)
+        t.add_column("location", key="location", width=18)
+        t.add_column("system", key="system", width=8)
+        for name in ("V", "last reading", "round"):
+            t.add_column(name, key=name)
         self.query_one("#home-caution", Static).update(Text(
             "⚠ Energised equipment: qualified persons, permit, PPE per each arc-flash label. "
             "Local codes govern. fieldpad never shows that equipment is safe."))
         t.focus()  # the rows are filled when the screen becomes current (on_screen_resume)
 
     def on_screen_resume(self) -> None:
+        self._opening = False
         self.reload()
 
     def reload(self) -> None:
@@ -257,25 +340,121 @@ class BoardList(Screen):
             title = f"[b {WARN}]READ-ONLY[/] · " + title
         self.query_one("#home-title", Static).update(title)
         t = self.query_one(DataTable)
+        keep = self._selected()  # the board under the cursor stays under it (walking 40 boards)
         t.clear()
         read_in_round = set()
         if rnd:
             read_in_round = rounds.boards_read_in_round(app.db, rnd)
-        listed = sites.list_boards(app.db, app.site_id)
-        for b in listed:
+        self.boards = sites.list_boards(app.db, app.site_id)
+        latest = []
+        for b in self.boards:
             last = versions.previous_reading(app.db, b["id"])
-            twin = sum(o["name"] == b["name"] for o in listed) > 1  # one from each laptop: told apart by id
-            t.add_row(printable(b["name"]) + (f" (id {b['id'][:13]}…)" if twin else ""), printable(b["location"]),
-                      b["system"],
+            latest.append(last)
+            twin = sum(o["name"] == b["name"] for o in self.boards) > 1  # one from each laptop: told apart by id
+            t.add_row(printable(b["name"]) + (f" (id {b['id'][:13]}…)" if twin else ""), "",
+                      printable(b["location"]), SYSTEM_SHORT[b["system"]],
                       f"{b['nominal_v']:g}" if b["nominal_v"] else "", local_text(last["taken_at"]) if last else "—",
                       "✔ done" if b["id"] in read_in_round else ("to do" if rnd else ""), key=b["id"])
-        hint = "Enter: open the board's sheet · n: new board · r: round · F1: help"
+        keys = [b["id"] for b in self.boards]
+        if keep in keys:
+            t.move_cursor(row=keys.index(keep), animate=False)
+        self._mark_findings(site, latest)
+        hint = "Enter: open sheet · type a name (capitals) or /: go to · r: round · F1: help"
         if t.row_count == 0:
             hint = "No boards yet: press n to create the first board of this site."
         self.query_one("#home-hint", Static).update(hint)
 
     def _selected(self) -> str | None:
         return selected_key(self.query_one(DataTable))
+
+    # ---- markers: the worst finding of each board's latest reading ---------------------------
+    def _mark_findings(self, site: dict, latest: list) -> None:
+        """Fill the "check" column once the list is on screen: the analysis (numpy) loads in a worker
+        thread, so the first screen does not wait for it."""
+        rows = [(b["id"], r) for b, r in zip(self.boards, latest) if r is not None]
+        if rows:
+            self._marks_for = tuple(r["id"] for _, r in rows)
+            self.run_worker(lambda: self._compute_marks(site, rows, self._marks_for), thread=True,
+                            exclusive=True, group="marks")
+
+    def _compute_marks(self, site: dict, rows: list, token: tuple) -> None:
+        from ..report.export import analyze_rows
+
+        results = analyze_rows([{**r, "thresholds_json": site["thresholds_json"],
+                                 "phase_labels": site["phase_labels"]} for _, r in rows])
+        marks = {}
+        for (bid, _), res in zip(rows, results):
+            sev = {f["severity"] for f in res["findings"]}
+            marks[bid] = ("▲ ALARM", f"bold {ALARM}") if "alarm" in sev else (
+                ("△ WARN", f"bold {WARN}") if "warning" in sev else ("", ""))
+        self.app.call_from_thread(self._show_marks, marks, token)
+
+    def _show_marks(self, marks: dict, token: tuple) -> None:
+        if token != self._marks_for or not self.is_attached:
+            return  # the list was reloaded since: a newer worker fills it
+        t = self.query_one(DataTable)
+        for bid, (text, style) in marks.items():
+            try:
+                t.update_cell(bid, "check", Text(text, style) if text else "")
+            except Exception:  # noqa: BLE001 - a row removed by a reload in between
+                continue
+
+    # ---- moving around ---------------------------------------------------------------------
+    def on_key(self, event) -> None:
+        """Type a board's name (capitals, digits, "-"; the lowercase letters are the screen's keys) to
+        jump to it."""
+        if event.key == "enter" and not self._opening and self.query_one(DataTable).row_count:
+            # Enter opens the sheet a few turns of the event loop later: what is typed behind it is the
+            # sheet's (the table's own Enter still runs: no stop here).
+            self._opening = True
+            self.app.typed_ahead = []
+            return
+        if self._opening:
+            # Typed right behind Enter, while the sheet opens: kept for the sheet, in order.
+            self.app.typed_ahead.append((event.key, event.character if event.is_printable else None))
+            event.stop()
+            event.prevent_default()
+            return
+        ch = event.character
+        if not ch or not event.is_printable or not (ch.isupper() or ch.isdigit() or ch in "-_."):
+            return
+        now = time.monotonic()
+        self._jump = (self._jump if now - self._jump_at < self.JUMP_PAUSE_S else "") + ch
+        self._jump_at = now
+        self._go_to(self._jump)
+        event.stop()
+        event.prevent_default()
+
+    def _go_to(self, text: str) -> bool:
+        t = self.query_one(DataTable)
+        names = [b["name"] or "" for b in getattr(self, "boards", [])]
+
+        def bare(name: str) -> str:  # "MSB2" finds "MSB-2": dashes, spaces and dots are not typed
+            return re.sub(r"[-_. /]", "", name.lower())
+
+        low = bare(text)
+        hit = next((k for k, n in enumerate(names) if bare(n).startswith(low)), None)
+        if hit is None:
+            hit = next((k for k, n in enumerate(names) if low in bare(n)), None)
+        if hit is None:
+            self.query_one("#home-hint", Static).update(Text(f"No board named like {text!r}.", f"bold {WARN}"))
+            return False
+        t.move_cursor(row=hit, animate=False)
+        self.query_one("#home-hint", Static).update(f"Board {printable(names[hit])} · Enter: open its sheet")
+        return True
+
+    def action_jump(self) -> None:
+        from .dialogs import AskText
+
+        self.app.push_screen(AskText("Go to the board whose name begins with (or contains):", required=False),
+                             lambda text: self._go_to(text) if text else None)
+
+    def action_first(self) -> None:
+        self.query_one(DataTable).move_cursor(row=0, animate=False)
+
+    def action_last(self) -> None:
+        t = self.query_one(DataTable)
+        t.move_cursor(row=max(0, t.row_count - 1), animate=False)
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
         self.action_open()
@@ -285,6 +464,9 @@ class BoardList(Screen):
         if bid is None:
             self.notify("No board selected: press n to create one.")
             return
+        if not self._opening:  # opened by the palette or a test's action, not by the Enter key
+            self._opening = True
+            self.app.typed_ahead = []
         self.post_message(OpenSheet(bid))
 
     def action_new_board(self) -> None:
@@ -301,6 +483,23 @@ class BoardList(Screen):
             self.post_message(OpenHistory(bid))
 
     def action_round(self) -> None:
+        app = self.app
+        if app.round_id:
+            read = rounds.boards_read_in_round(app.db, app.round_id)
+            unread = [b["name"] for b in sites.list_boards(app.db, app.site_id) if b["id"] not in read]
+            if unread:
+                from .dialogs import Ask
+
+                shown = ", ".join(printable(n) for n in unread[:12]) + (f" and {len(unread) - 12} more"
+                                                                         if len(unread) > 12 else "")
+                self.app.push_screen(Ask(f"{len(unread)} board(s) NOT read in this round: {shown}.\n"
+                                         "Finish the round anyway? (y/n)"),
+                                     lambda yes: self._round(True) if yes else self.notify(
+                                         "Round still open: the unread boards show 'to do'."))
+                return
+        self._round()
+
+    def _round(self, confirmed: bool = False) -> None:
         app = self.app
         try:
             if app.round_id:

@@ -16,21 +16,29 @@ HELP = """\
 
 [b]Board list[/b]
   Enter   open the board's reading sheet
-  n / e   new board / edit board (arc-flash label data too)
-  r       start (named) or finish a round
-  h       board history
+  MSB2    type a name (capitals, digits) to go to it;  /  go to
+  Home / End   first / last board;  ▲ ALARM / △ WARN: latest reading
+  n / e   new board / edit board (arc-flash label, own standard)
+  r       start (named) or finish a round    h   board history
   v       day review                   s   sites
   q       quit
 
 [b]Reading sheet[/b]
   Tab, Enter   next field: A, B, C (magnitude, angle), then N
-  Shift+Tab    previous field;  Up/Down: same column, other phase
-  Backspace    delete a character;  Delete: clear the field
+               (VA's angle is skipped: blank, it is the 0° reference)
+  Shift+Tab    previous field;  arrows: any cell, VA's angle too
+  typing       in a field just entered, replaces its value
+  Backspace    edit the value;  Delete: clear the field
   F2, Ctrl+S   save: committed at once, the status line says so
   F3  previous reading of this board beside the results
   F4  history of this board (correct, void; old versions kept)
   F5  entry: line-to-neutral / line-to-line + angles / LL only
-  F6  right panel: phasors / per-phase power / findings in full
+      (values with no cell in a mode are kept aside, or converted)
+  F6  right panel: phasors / voltage triangle / per-phase power /
+      findings in full
+  F7  put back the draft kept for this board
+  F8  note for this reading;  F9  instrument used
+  Ctrl+L  clear the sheet (asks first; saved readings untouched)
   Esc back (asks first if typed values are not saved)
   Ctrl+P  command palette;  F1  this help
 
@@ -46,6 +54,8 @@ HELP = """\
   angles: -120  240  30 lag  30 lead  -120°
   Angles are counter-clockwise positive, relative to VA
   (leave VA's angle empty: it is the 0° reference).
+  Results: typed = measured, calc = computed from the
+  phasors, est = estimated from the magnitudes alone.
   A half-typed sheet is kept and offered back next time.
 
 [b]Safety[/b]

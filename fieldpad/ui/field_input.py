@@ -7,6 +7,13 @@ Shift+Tab pick the next field at once and record it on the screen as the
 to the target instead (or dropped if the target is not a text field).  Screens
 with such fields keep that target by being a :class:`TypingTargetScreen`.
 
+Editing keys (Backspace, Delete, arrows, Home, End) are run by the field at
+once (Input's own bindings for them act only after the key has bubbled up to
+the app, behind the characters typed after it) and, in the same burst as a
+Tab, passed on to the target, in the order they arrive: ``X1 Tab loc
+Shift+Tab Backspace ZZ`` gives "XZZ" in the first field and "loc" in the
+second, however fast the keys come.
+
 Only Textual's public handlers are used: ``on_key`` here runs before the
 ``Input``'s own key handling, which ``prevent_default()`` skips.
 """
@@ -15,6 +22,11 @@ from __future__ import annotations
 from textual import events
 from textual.widget import Widget
 from textual.widgets import Input
+
+#: Editing keys and the Input action each one runs (Textual's own key bindings for them).
+EDIT_ACTIONS = {"backspace": "action_delete_left", "delete": "action_delete_right",
+                "left": "action_cursor_left", "right": "action_cursor_right",
+                "home": "action_home", "end": "action_end"}
 
 
 class TypingTargetScreen:
@@ -39,6 +51,15 @@ class FieldInput(Input):
         if pending and event.is_printable and event.character:
             if isinstance(target, Input):
                 target.insert_text_at_cursor(event.character)
+            event.stop()
+            event.prevent_default()
+            return
+        if event.key in EDIT_ACTIONS:
+            # Run here, at once: left to Input's key bindings, the key would first bubble up to the app
+            # and act after the characters typed behind it (a fast "Backspace Z Z" lost a Z instead).
+            field = target if pending else self
+            if isinstance(field, Input):
+                getattr(field, EDIT_ACTIONS[event.key])()
             event.stop()
             event.prevent_default()
             return

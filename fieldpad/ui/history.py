@@ -14,7 +14,9 @@ from ..storage.ids import local_text
 from .dialogs import AskReason, AskText, TextPage
 from .key_strip import KeyStrip
 from .messages import OpenSheet
-from .safe import printable
+from .results_view import finding_words
+from .safe import printable, short_id
+from .sheet_model import field_words
 from .tables import selected_key
 
 
@@ -44,26 +46,32 @@ class BoardHistory(Screen):
         self.query_one("#history-title", Static).update(
             Text(f"History of {printable(board['name'])} (last 50 readings, newest first)", "bold"))
         table = self.query_one(DataTable)
-        table.add_columns("taken", "ver", "by", "VUF %", "NEMA %", "rot", "worst finding")
+        # The worst finding (or VOID and its reason) early: in view at 80 columns; who saved it last.
+        table.add_columns("taken", "id", "ver", "worst finding", "VUF %", "NEMA %", "rot", "by")
         table.focus()  # the rows are filled when the screen becomes current (on_screen_resume)
 
     def reload(self) -> None:
         table = self.query_one(DataTable)
+        keep = self._selected()  # the cursor stays on its reading (a popup closed, a void done)
         table.clear()
         rows = versions.board_history(self.app.db, self.board_id, 50)
+        self.rows = {r["reading_id"]: r for r in rows}
         results = analyze_rows([{**r, "thresholds_json": self.site["thresholds_json"],
                                  "phase_labels": self.site["phase_labels"]} for r in rows])
         competing = versions.conflicts(self.app.db, {r["reading_id"] for r in rows})
         for r, res in zip(rows, results):
             worst = res["findings"][0] if res["findings"] else None
-            worst_text = f"{worst['severity']}: {worst['code']}" if worst else ""
+            worst_text = finding_words(worst) if worst else ""
             if r["void"]:
                 worst_text = "VOID: " + printable(r["reason"])
             if r["reading_id"] in competing:  # two laptops changed the same version
                 worst_text = "⚠ CONFLICT (Enter: versions) " + worst_text
-            table.add_row(local_text(r["taken_at"]), str(r["version"]), printable(r["technician"]),
-                          _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "", worst_text,
+            table.add_row(local_text(r["taken_at"]), short_id(r["reading_id"]), str(r["version"]), worst_text,
+                          _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "", printable(r["technician"]),
                           key=r["reading_id"])
+        keys = [r["reading_id"] for r in rows]
+        if keep in keys:
+            table.move_cursor(row=keys.index(keep), animate=False)
 
     def _selected(self) -> str | None:
         return selected_key(self.query_one(DataTable))
@@ -85,7 +93,9 @@ class BoardHistory(Screen):
                         if v["is_head"] and forked else "") + "\n", "bold")
             if v["reason"]:
                 t.append(f"  {'VOID' if v['void'] else 'reason'}: {printable(v['reason'])}\n")
-            t.append("  " + ", ".join(f"{k}={printable(val)}" for k, val in versions.inputs_of(v).items()) + "\n\n")
+            labels = sites.site_labels(self.site)
+            t.append("  " + ", ".join(f"{field_words(k, labels)} {printable(val)}" for k, val in
+                                      versions.inputs_of(v).items()) + "\n\n")
         self.app.push_screen(TextPage(t, "Every version of this reading (nothing is overwritten)"))
 
     def action_correct(self) -> None:
@@ -96,7 +106,10 @@ class BoardHistory(Screen):
     def action_void(self) -> None:
         rid = self._selected()
         if rid:
-            self.app.push_screen(AskReason("Why is this reading void? (it stays in the history)"),
+            r = self.rows.get(rid, {})
+            what = (f"the reading of {local_text(r.get('taken_at'))} by {printable(r.get('technician')) or '—'} "
+                    f"(reading {short_id(rid)}, version {r.get('version')})")
+            self.app.push_screen(AskReason(f"Void {what}? Why? (it stays in the history)"),
                                  lambda reason: self._void(rid, reason))
 
     def _void(self, rid: str, reason: str | None) -> None:
@@ -107,7 +120,7 @@ class BoardHistory(Screen):
                 self.notify(f"NOT SAVED: the reading was not voided: {e}", severity="error", timeout=12)
                 return
             self.reload()
-            self.notify("Reading marked void; every version is kept.")
+            self.notify(f"Reading {short_id(rid)} marked void; every version is kept.")
 
     def action_settle(self) -> None:
         """Competing versions (two laptops changed the same one): the supervisor picks the one that stands."""

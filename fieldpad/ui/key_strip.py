@@ -26,20 +26,36 @@ def key_cap(display: str) -> str:
     return {"esc": "Esc", "escape": "Esc", "enter": "Enter", "tab": "Tab"}.get(display, display)
 
 
-def strip_text(entries, width: int | None = None) -> Text:
+#: Keys every screen keeps on its strip, however narrow the terminal: back, quit, save, help.
+ESSENTIAL = frozenset({"Save", "Back", "Quit", "Help", "Cancel", "Close"})
+
+
+def strip_text(entries, width: int | None = None, keep_also=()) -> Text:
     """The strip's text from ``(key_display, description, enabled)`` entries.
 
-    Keys whose description would not fit in ``width`` columns are left off the
-    end (they stay in the help screen and the command palette).
+    Where ``width`` columns cannot hold them all, the keys that matter on every
+    screen (:data:`ESSENTIAL`) are kept and the others fill the room left, in
+    their order (``keep_also``: descriptions a screen keeps as well, its own
+    main keys); a key left off is left off whole (it stays in the help screen
+    and the command palette).  The keys shown keep their order.
     """
-    out = Text(no_wrap=True, overflow="crop", end="")
+    pieces = []
     for key, description, enabled in entries:
         piece = Text()
         piece.append(f" {key_cap(key)} ", KEY_STYLE if enabled else KEY_OFF_STYLE)
         piece.append(f" {description} ", "" if enabled else DESC_OFF_STYLE)
-        if width is not None and out.cell_len + piece.cell_len > width:
-            break
-        out.append_text(piece)
+        pieces.append((piece, description in ESSENTIAL or description in keep_also))
+    keep = [True] * len(pieces)
+    if width is not None and sum(p.cell_len for p, _ in pieces) > width:
+        room = width - sum(p.cell_len for p, essential in pieces if essential)
+        for k, (p, essential) in enumerate(pieces):
+            if not essential:
+                keep[k] = p.cell_len <= room
+                room -= p.cell_len if keep[k] else 0
+    out = Text(no_wrap=True, overflow="crop", end="")
+    for (piece, _), shown in zip(pieces, keep):
+        if shown and (width is None or out.cell_len + piece.cell_len <= width):
+            out.append_text(piece)
     return out
 
 
@@ -84,4 +100,4 @@ class KeyStrip(Widget):
         return out
 
     def render(self) -> Text:
-        return strip_text(self.entries(), self.size.width or None)
+        return strip_text(self.entries(), self.size.width or None, getattr(self.screen, "STRIP_KEEP", ()))

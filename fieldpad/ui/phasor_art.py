@@ -113,3 +113,56 @@ def draw(arrows: list[Arrow], width: int, height: int, rotation: str | None = No
     body.append("\n")
     body.append_text(legend)
     return body
+
+
+def draw_triangle(u_ab: float, u_bc: float, u_ca: float, width: int, height: int,
+                  labels=("A", "B", "C"), colours=("#e0e0e0",) * 3) -> Text:
+    """The voltage triangle (solid) with its outer (dotted) and inner (sparse dots) Napoleon triangles
+    (geometry: ``core.triangle``), and two lines saying what their sides are."""
+    from ..core.triangle import napoleon, vertices
+
+    a, b, c = (complex(x) for x in vertices(u_ab, u_bc, u_ca))
+    out = [complex(x) for x in napoleon(a, b, c, outer=True)]
+    inn = [complex(x) for x in napoleon(a, b, c, outer=False)]
+    legend_lines = 3  # two lines here, one the sheet adds
+    cv = BrailleCanvas(width, height - legend_lines)
+    if a != a:  # NaN: no triangle
+        t = Text("These line-to-line voltages cannot form a triangle: re-read them.", f"bold {ALARM_TEXT}")
+        return t
+    span = max(abs(z) for z in (a, b, c, *out, *inn)) or 1.0
+    ox, oy = cv.w, 2 * cv.h
+    scale = min(cv.w - 2, 2 * cv.h - 2) / span
+
+    def xy(z: complex):
+        return ox + z.real * scale, oy - z.imag * scale
+
+    def poly(points, style, every):
+        for p, q in zip(points, points[1:] + points[:1]):
+            (x0, y0), (x1, y1) = xy(p), xy(q)
+            cv.line(x0, y0, x1, y1, style, every=every)
+
+    poly(out, "#7fb3ff", 2)
+    poly(inn, "#ffb000", 3)
+    for (p, q), colour in zip(((a, b), (b, c), (c, a)), colours):
+        (x0, y0), (x1, y1) = xy(p), xy(q)
+        cv.line(x0, y0, x1, y1, colour)
+    for z, lab, colour in zip((a, b, c), labels, colours):
+        x, y = xy(z * 1.12 if abs(z) else z)
+        cv.put(max(0, min(cv.w - len(lab), int(round(x / 2.0)))), max(0, min(cv.h - 1, int(round(y / 4.0)))),
+               lab, f"bold {colour}")
+    body = cv.render()
+    outer_side, inner_side = abs(out[0] - out[1]), abs(inn[0] - inn[1])
+    ratio = 100.0 * inner_side / outer_side if outer_side else float("nan")
+    legend = Text(no_wrap=True, overflow="crop")
+    legend.append("\n")
+    legend.append("outer ", "bold #7fb3ff")
+    legend.append(f"√3·V1 {outer_side:.1f} V", "")
+    legend.append("\n")
+    legend.append("inner ", "bold #ffb000")
+    legend.append(f"√3·V2 {inner_side:.2f} V", "")
+    legend.append(f" · V2/V1 {ratio:.2f} %", MUTED)
+    body.append_text(legend)
+    return body
+
+
+ALARM_TEXT = "#ff5050"

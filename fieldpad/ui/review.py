@@ -21,8 +21,9 @@ from ..storage.ids import local_text
 from .dialogs import AskText, TextPage
 from .key_strip import KeyStrip
 from .palette import ALARM, INFO, WARN
-from .results_view import findings_text, results_text
+from .results_view import finding_words, findings_text, results_text
 from .safe import printable
+from .sheet_model import field_words
 from .tables import selected_key
 
 SEVERITY_RANK = {"alarm": 0, "warning": 1, "info": 2, None: 3}
@@ -51,6 +52,8 @@ class DayReview(Screen):
         Binding("f1", "help", "Help"),
         Binding("escape", "back", "Back"),
     ]
+    #: Kept on the key strip at 80 columns with back/quit/save/help (ui/key_strip.py).
+    STRIP_KEEP = ("Compare rounds", "Export")
 
     def __init__(self) -> None:
         super().__init__()
@@ -73,7 +76,8 @@ class DayReview(Screen):
         days = versions.reading_days(self.app.db, self.app.site_id)
         self.day = date.fromisoformat(days[0]) if days else date.today()
         t = self.query_one(DataTable)
-        t.add_columns("time", "board", "by", "rnd", "VUF%", "NEMA%", "rot", "IN A", "worst finding")
+        # The worst finding, in words, beside the board: in view at 80 columns (who and which round last).
+        t.add_columns("time", "board", "worst finding", "VUF%", "NEMA%", "rot", "IN A", "by", "rnd")
         self.reload()
         t.focus()
 
@@ -101,14 +105,14 @@ class DayReview(Screen):
             res = r["results"]
             w = r["findings"][0] if r["findings"] else None
             taken = local_text(r["taken_at"], "%H:%M")
-            cell = (Text(f"{w['severity'].upper()} {w['code']}", f"bold {ALARM}" if w["severity"] == "alarm"
+            cell = (Text(finding_words(w, phase=False), f"bold {ALARM}" if w["severity"] == "alarm"
                          else WARN if w["severity"] == "warning" else INFO) if w else Text(""))
             if r.get("conflict"):  # two laptops changed the same version: for the supervisor to settle
                 cell = Text("⚠ CONFLICT ", f"bold {ALARM}") + cell
             t.add_row(Text(taken + "*", f"bold {WARN}") if r["reading_id"] in self.late else taken,
-                      printable(r["board"]), printable(r["technician"])[:14],
-                      _short(printable(r["round"]), 12), _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
-                      _f(_neutral(r), "{:.0f}"), cell, key=r["reading_id"])
+                      printable(r["board"]), cell, _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
+                      _f(_neutral(r), "{:.0f}"), printable(r["technician"])[:14], _short(printable(r["round"]), 12),
+                      key=r["reading_id"])
         filters = []
         if self.findings_only:
             filters.append("findings only")
@@ -163,9 +167,11 @@ class DayReview(Screen):
         t = Text()
         t.append(f"{printable(rec['board'])} · {local_text(rec['taken_at'], '%Y-%m-%d %H:%M')} · "
                  f"{printable(rec['technician'])} · version {rec['version']}\n\n", "bold")
-        t.append("Entered: " + ", ".join(f"{k}={v:g}" for k, v in rec["inputs"].items()
-                                         if isinstance(v, float)) + "\n\n")
-        t.append_text(results_text(rec["results"]))
+        labels = sites.site_labels(sites.get_site(self.app.db, self.app.site_id))
+        t.append("Entered: " + ", ".join(f"{field_words(k, labels)} {v:g}" + ("°" if k.endswith("_deg") else "")
+                                         for k, v in rec["inputs"].items() if isinstance(v, float)) + "\n\n")
+        t.append_text(results_text(rec["results"], rec["inputs"].get("system") or "wye", labels,
+                                   {k: str(v) for k, v in rec["inputs"].items() if v is not None}))
         t.append("\n")
         t.append_text(findings_text(rec["findings"], detail=True))
         t.append("\nVersions:\n", "bold")

@@ -12,3 +12,9 @@ def markup_safe(text) -> str:
 
 
 __all__ = ["printable", "markup_safe"]
+
+
+def short_id(reading_id: str) -> str:
+    """A reading id shortened for the screen: its last 8 hex digits.  The first ones of a UUIDv7 are its
+    time, shared by readings saved in the same minute; the last ones are random, so they do not repeat."""
+    return reading_id.replace("-", "")[-8:]

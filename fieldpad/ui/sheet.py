@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import time
+from datetime import UTC, date, datetime
 
 from rich.text import Text
 from textual.app import ComposeResult
@@ -12,42 +13,56 @@ from textual.widgets import Static
 
 from ..core import phase_colours
 from ..core.readings import validate_record
+from ..core.reference import fill_reference
 from ..core.results import analyze_records
 from ..storage import drafts, rounds, sites, versions
 from ..storage.db import BusyError, StorageError
-from ..storage.ids import local_text
+from ..storage.ids import local_text, utc_now
 from ..storage.rows import ValidationError
 from . import phasor_art
-from .dialogs import Ask, AskReason, help_page
+from .dialogs import Ask, AskReason, AskText, help_page
 from .entry_grid import EntryGrid
 from .key_strip import KeyStrip
 from .messages import OpenHistory
-from .palette import ALARM, INFO, PREVIOUS, WARN
-from .results_view import findings_text, per_phase_text, results_text
-from .safe import markup_safe
+from .palette import ALARM, INFO, MUTED, WARN
+from .results_view import compare_text, findings_text, per_phase_text, reasons_text, results_text
+from .safe import markup_safe, short_id
 from .sheet_model import (
     LL,
     LL_MAG,
     LN,
     MODE_NAMES,
+    _ln_to_ll,
     caution_lines,
     cells,
+    field_words,
+    label_finding,
     modes_for,
     row_labels,
+    switch_mode,
     understood,
 )
 from .text_panel import TextPanel
 
 #: How long a keystroke's draft waits for another process's write lock before leaving it to the next key.
 KEYSTROKE_WAIT_MS = 50
-PANELS = ("drawing", "power", "findings")
+PANELS = ("drawing", "triangle", "power", "findings")
 
 
-def live_result(values: dict, board: dict, site: dict):
-    """Core results for what is typed so far (cells that cannot be read are left out)."""
-    record = {"system": board["system"], "nominal_v": board["nominal_v"], "standard": site["voltage_standard"]}
+def live_result(values: dict, board: dict, site: dict, labels=("A", "B", "C")):
+    """Core results for what is typed so far: ``(result or None, reasons)``.
+
+    A cell that cannot be read is left out (the grid marks it red and the line
+    under the grid says why).  ``reasons`` are the problems of the set as a
+    whole, worded for the sheet (three line-to-line voltages that cannot form
+    a triangle): with them there is no result, and the sheet says why at once
+    instead of looking as if nothing were wrong.
+    """
+    record = {"system": board["system"], "nominal_v": board["nominal_v"],
+              "standard": sites.board_standard(board, site)}
     record.update(values)
     clean, problems = validate_record(record)
+    whole = [(f, r) for f, r in problems if "," in f]  # about several fields at once
     bad = {f for f, _ in problems}
     if bad:
         record = {k: v for k, v in record.items() if k not in bad}
@@ -56,10 +71,34 @@ def live_result(values: dict, board: dict, site: dict):
             record = {k: v for k, v in record.items() if k not in {f for f, _ in problems}}
             clean, problems = validate_record(record)
             if problems:
-                return None
+                whole += [(f, r) for f, r in problems if (f, r) not in whole]
+    reasons = [f"{field_words(f, labels)}: {r}" for f, r in whole]
+    if reasons:
+        return None, reasons
     if not any(clean[f] is not None for f in ("va", "vb", "vab", "vbc", "ia", "ib")):
-        return None
-    return analyze_records([clean], sites.site_thresholds(site), sites.site_labels(site))[0]
+        return None, []
+    return analyze_records([clean], sites.site_thresholds(site), labels)[0], []
+
+
+def draft_age(draft: dict, now: datetime | None = None) -> str:
+    """When a draft was typed, in words: "at 2026-12-02 14:02 (25 min ago)"."""
+    typed = draft.get("typed_at")
+    if not typed:
+        return "at a time not recorded"
+    try:
+        then = datetime.fromisoformat(typed.replace("Z", "+00:00"))
+    except ValueError:
+        return "at a time not recorded"
+    minutes = int(((now or datetime.now(UTC)) - then).total_seconds() // 60)
+    if minutes < 1:
+        ago = "just now"
+    elif minutes < 120:
+        ago = f"{minutes} min ago"
+    elif minutes < 48 * 60:
+        ago = f"{minutes // 60} h ago"
+    else:
+        ago = f"{minutes // 1440} days ago"
+    return f"at {local_text(typed)} ({ago})"
 
 
 class ReadingSheet(Screen):
@@ -74,13 +113,21 @@ class ReadingSheet(Screen):
         Binding("f4", "history", "Hist"),
         Binding("f5", "mode", "Mode"),
         Binding("f6", "panel", "Panel"),
+        Binding("f7", "restore_draft", "Draft", show=False),
+        Binding("f8", "note", "Note", show=False),
+        Binding("f9", "instrument", "Instrument", show=False),
+        Binding("ctrl+l", "clear_sheet", "Clear", show=False),
         Binding("f1", "help", "Help"),
         Binding("escape", "back", "Back"),
     ]
 
     def __init__(self, board_id: str, round_id: str | None = None, correcting: str | None = None,
-                 technician: str | None = None) -> None:
+                 technician: str | None = None, today: date | None = None) -> None:
+        """``today``: the day the arc-flash label's age is counted to (None: the computer's date)."""
         super().__init__()
+        self.today = today
+        self.label_finding: dict | None = None
+        self._ready = False
         self.board_id = board_id
         self.round_id = round_id
         self.correcting = correcting
@@ -90,6 +137,14 @@ class ReadingSheet(Screen):
         self.previous = None
         self.show_previous = False
         self.panel = "drawing"
+        self.reasons: list[str] = []
+        #: The reading's note (F8) and the instrument used (F9, kept for the next readings of this sheet).
+        self.note: str | None = None
+        self.instrument: str | None = None
+        #: Typed values the current entry mode has no cell for (kept, saved in the draft, back with F5).
+        self.aside: dict[str, str] = {}
+        #: The draft found on opening, not yet restored (F7 restores it; typing does not lose it).
+        self.offered_draft: dict | None = None
 
     # ---- layout -------------------------------------------------------------
     def compose(self) -> ComposeResult:
@@ -111,7 +166,7 @@ class ReadingSheet(Screen):
         self.board = sites.get_board(db, self.board_id)
         self.site = sites.get_site(db, self.board["site_id"])
         self.labels = sites.site_labels(self.site)
-        self.colours = phase_colours.colours(self.site["colour_set"], "terminal")
+        self.colours = phase_colours.colours(sites.board_colour_set(self.board, self.site), "terminal")
         self.mode = modes_for(self.board["system"])[0]
         values = None
         if self.correcting:
@@ -131,6 +186,7 @@ class ReadingSheet(Screen):
         self._update_title()
         self._update_caution()
         self.query_one(EntryGrid).focus()
+        self._show_understood(self.query_one(EntryGrid).cells[0].field)
         self.recompute()
         if self.correcting:
             self.set_status(f"Correcting reading of {local_text(cur['taken_at'])} (version {cur['version']}). "
@@ -138,22 +194,54 @@ class ReadingSheet(Screen):
         else:
             draft = drafts.get_draft(db, self.board_id)
             if draft and any(str(v).strip() for v in draft.get("values", {}).values()):
-                self.app.push_screen(Ask("A half-typed sheet was kept for this board. Restore it? (y/n)"),
-                                     self._restore_draft)
+                # Not a question that takes the keyboard: keys typed right after Enter go to the grid.
+                self.offered_draft = draft
+                self.set_status(f"DRAFT kept for this board, typed {draft_age(draft)}: F7 puts it back on the "
+                                "sheet. Typing here starts a new sheet; the draft is kept until you save.",
+                                error=True)
             else:
-                self.set_status("Type the readings. Tab/Enter: next field. F2: save. F1: help.")
+                self.set_status("Type the readings. Tab/Enter: next field; typing into a filled field "
+                                "replaces it. F2: save. F1: help.")
+        self._ready = True
+        ahead, self.app.typed_ahead = getattr(self.app, "typed_ahead", []), []
+        grid = self.query_one(EntryGrid)
+        for key, character in ahead:  # typed right behind Enter on the board list: nothing is swallowed
+            grid.type_key(key, character)
+
+    def on_key(self, event) -> None:
+        """Keys that reach the screen before the sheet is set up (typed right behind Enter) are kept and
+        typed into the grid once it is."""
+        if not self._ready:
+            self.app.typed_ahead.append((event.key, event.character if event.is_printable else None))
+            event.stop()
+            event.prevent_default()
+
+    def action_restore_draft(self) -> None:
+        if self.offered_draft is None:
+            self.set_status("No draft to put back for this board.")
+            return
+        if self.query_one(EntryGrid).entered():
+            self.app.push_screen(Ask(f"Put back the draft typed {draft_age(self.offered_draft)}? What is on the "
+                                     "sheet now is kept as the next draft to offer. (y/n)"), self._restore_draft)
+        else:
+            self._restore_draft(True)
 
     def _restore_draft(self, yes: bool | None) -> None:
-        draft = drafts.get_draft(self.app.db, self.board_id) or {}
-        if yes:
-            self.mode = draft.get("mode", self.mode)
-            self._configure_grid(draft.get("values", {}))
-            self.dirty = True
-            self.recompute()
-            self.set_status("Draft restored: check every value before saving.")
-        else:
-            drafts.clear_draft(self.app.db, self.board_id)
-            self.set_status("Draft discarded. Type the readings.")
+        if not yes or self.offered_draft is None:
+            return
+        draft, grid = self.offered_draft, self.query_one(EntryGrid)
+        now = grid.entered()
+        self.offered_draft = ({"mode": self.mode, "values": now, "aside": self.aside, "typed_at": utc_now()}
+                              if now else None)
+        self.mode = draft.get("mode", self.mode)
+        self.aside = dict(draft.get("aside") or {})
+        self._configure_grid(draft.get("values", {}))
+        self.dirty = True
+        self._update_title()
+        self.recompute()
+        self.flush_draft()
+        self.set_status(f"Draft typed {draft_age(draft)} put back: check every value before saving "
+                        "(typing into a field replaces its value).")
 
     def _configure_grid(self, values: dict) -> None:
         grid = self.query_one(EntryGrid)
@@ -175,7 +263,8 @@ class ReadingSheet(Screen):
         self.query_one("#sheet-title", Static).update(" · ".join(parts))
 
     def _update_caution(self) -> None:
-        first, second, problem = caution_lines(self.board, self.site["label_review_years"])
+        first, second, problem = caution_lines(self.board, self.site["label_review_years"], self.today)
+        self.label_finding = label_finding(self.board, self.site["label_review_years"], self.today)
         banner = self.query_one("#caution", Static)
         banner.update(Text(first + "\n" + second))
         banner.set_class(problem, "label-problem")
@@ -190,21 +279,31 @@ class ReadingSheet(Screen):
 
     def _show_understood(self, field: str) -> None:
         grid = self.query_one(EntryGrid)
-        msg, ok = understood(field, grid.values.get(field, ""))
+        msg, ok = understood(field, grid.values.get(field, ""), self.labels)
         self.query_one("#understood", TextPanel).update(Text(msg, INFO if ok else f"bold {ALARM}"))
 
     def recompute(self) -> None:
         grid = self.query_one(EntryGrid)
-        self.result = live_result(grid.entered(), self.board, self.site)
-        if self.result is None and self.show_previous and self.previous is not None:
-            shown = Text("Previous reading (F3 hides it):\n", f"bold {PREVIOUS}")
-            shown.append_text(results_text(self.previous))
+        self.result, self.reasons = live_result(grid.entered(), self.board, self.site, self.labels)
+        if self.show_previous and self.previous_row is not None:
+            shown = compare_text(self.previous_row, self.previous, grid.entered(), self.result, self.labels,
+                                 self.board["system"])
+        elif self.reasons:
+            shown = reasons_text(self.reasons)
         else:
-            shown = results_text(self.result, self.previous if self.show_previous else None)
+            shown = results_text(self.result, self.board["system"], self.labels, grid.entered())
         self.query_one("#results", TextPanel).update(shown)
         self._draw_panel()
         self.query_one("#findings", TextPanel).update(
-            findings_text(self.result["findings"] if self.result else [], detail=False))
+            reasons_text(self.reasons) if self.reasons else
+            findings_text(self._findings(), detail=False))
+
+    def _findings(self) -> list[dict]:
+        """The reading's findings, with the board's arc-flash label problem among them."""
+        found = list(self.result["findings"]) if self.result else []
+        if self.label_finding:
+            found.append(self.label_finding)
+        return sorted(found, key=lambda f: {"alarm": 0, "warning": 1, "info": 2}[f["severity"]])
 
     def _draw_panel(self) -> None:
         panel = self.query_one("#panel", TextPanel)
@@ -212,11 +311,35 @@ class ReadingSheet(Screen):
             panel.update(per_phase_text(self.result, self.labels))
             return
         if self.panel == "findings":
-            panel.update(findings_text(self.result["findings"] if self.result else [], detail=True))
+            panel.update(reasons_text(self.reasons) if self.reasons else
+                         findings_text(self._findings(), detail=True))
             return
         w = max(20, panel.size.width or 38)
         h = max(6, panel.size.height or 10)
+        if self.panel == "triangle":
+            panel.update(self._triangle(w, h))
+            return
         panel.update(phasor_art.draw(self._arrows(), w, h, self.result["rotation"] if self.result else None))
+
+    def _triangle(self, w: int, h: int) -> Text:
+        """The voltage triangle of the typed line-to-line magnitudes (or of the line-to-neutral phasors)."""
+        from ..core.readings import ReadingError, parse_value
+
+        grid = self.query_one(EntryGrid)
+        try:
+            ll = [parse_value(grid.values.get(f, ""), "V") for f in ("vab", "vbc", "vca")]
+        except ReadingError:
+            ll = [None]
+        how = "typed"  # or computed from the line-to-neutral phasors
+        if any(v is None for v in ll):
+            conv = _ln_to_ll(grid.values)
+            ll, how = ([m for m, _ in conv], "calc") if conv else (None, "")
+        if not ll or self.board["system"] == "split-phase":
+            return Text("Voltage triangle: type VAB, VBC and VCA (or VA, VB, VC with their angles).", MUTED)
+        names = row_labels(LL, self.labels, self.board["system"])[:3]
+        art = phasor_art.draw_triangle(*ll, w, h, labels=tuple(self.labels), colours=tuple(self.colours[:3]))
+        art.append(f"\n{names[0]} {ll[0]:.0f} {names[1]} {ll[1]:.0f} {names[2]} {ll[2]:.0f} V {how}", MUTED)
+        return art
 
     def _arrows(self) -> list:
         grid = self.query_one(EntryGrid)
@@ -234,7 +357,9 @@ class ReadingSheet(Screen):
             if self.mode == LN:
                 m, d = val(f"v{p}", "V"), val(f"v{p}_deg", "deg")
                 if d is None and p == "a" and m is not None:
-                    d = 0.0
+                    nxt = val("vb_deg", "deg")
+                    d = float(fill_reference(m, float("nan"), float("nan") if nxt is None else nxt))  # one rule
+                    d = None if d != d else d
                 label = self.labels[k]
             else:
                 f = {"a": "vab", "b": "vbc", "c": "vca"}[p]
@@ -252,7 +377,7 @@ class ReadingSheet(Screen):
 
     def has_unsaved(self) -> bool:
         """Values typed on this sheet that are not saved as a reading."""
-        return bool(self.dirty and self.query_one(EntryGrid).entered())
+        return bool(self.dirty and (self.query_one(EntryGrid).entered() or self.aside))
 
     def flush_draft(self, wait_ms: int | None = None) -> bool:
         """Store what is typed as this board's draft now.  True if it is stored (or there is nothing to
@@ -268,8 +393,15 @@ class ReadingSheet(Screen):
         grid = self.query_one(EntryGrid)
         try:
             values = grid.entered()
-            if values:
-                drafts.save_draft(self.app.db, self.board_id, {"mode": self.mode, "values": values}, wait_ms=wait_ms)
+            if values or self.aside:
+                payload = {"mode": self.mode, "values": values, "typed_at": utc_now()}
+                if self.aside:
+                    payload["aside"] = self.aside
+                if self.offered_draft is not None:  # not put back yet: kept inside the new draft
+                    payload["earlier"] = {k: v for k, v in self.offered_draft.items() if k != "earlier"}
+                drafts.save_draft(self.app.db, self.board_id, payload, wait_ms=wait_ms)
+            elif self.offered_draft is not None:
+                drafts.save_draft(self.app.db, self.board_id, self.offered_draft, wait_ms=wait_ms)
             else:
                 # Emptied by hand or cleared after a save.
                 drafts.clear_draft(self.app.db, self.board_id, wait_ms=wait_ms)
@@ -293,7 +425,8 @@ class ReadingSheet(Screen):
         problems = grid.problems()
         if problems:
             f, reason = next(iter(problems.items()))
-            self.set_status(f"NOT SAVED: {f}: {reason}. Fix the red field(s); nothing was lost.", error=True)
+            self.set_status(f"NOT SAVED: {field_words(f, self.labels)}: {reason}. Fix the red field(s); nothing "
+                            "was lost.", error=True)
             grid.move_to(next(k for k, c in enumerate(grid.cells) if c.field == f))
             return
         if not grid.entered():
@@ -304,7 +437,7 @@ class ReadingSheet(Screen):
             return
         try:
             saved = versions.save_reading(self.app.db, self.board_id, grid.entered(), technician=self.technician,
-                                      round_id=self.round_id)
+                                          round_id=self.round_id, instrument=self.instrument, note=self.note)
         except ValidationError as e:
             self.set_status(f"NOT SAVED: {e}. Nothing was lost.", error=True)
             return
@@ -318,7 +451,7 @@ class ReadingSheet(Screen):
                 "." if kept else ", but it could not be kept as a draft either: do not leave this sheet "
                 "until it is saved or written down."), error=True)
             return
-        self._after_save(f"✔ SAVED {time.strftime('%H:%M:%S')} (reading {saved.reading_id[:8]}). "
+        self._after_save(f"✔ SAVED {time.strftime('%H:%M:%S')} (reading {short_id(saved.reading_id)}). "
                          "Sheet cleared; F3 shows it.")
 
     def _save_correction(self, reason: str | None) -> None:
@@ -328,7 +461,7 @@ class ReadingSheet(Screen):
         grid = self.query_one(EntryGrid)
         try:
             saved = versions.correct_reading(self.app.db, self.correcting, grid.entered(), reason=reason,
-                                         by=self.technician)
+                                             by=self.technician, note=self.note)
         except StorageError as e:
             self.set_status(f"NOT SAVED: {e}. What you typed is still here.", error=True)
             return
@@ -340,20 +473,23 @@ class ReadingSheet(Screen):
         grid = self.query_one(EntryGrid)
         self.previous_row = versions.previous_reading(self.app.db, self.board_id)
         self.previous = self.result
+        self.aside = {}
+        self.note = None  # a note belongs to one reading; the instrument stays for the next
+        self.offered_draft = None  # a reading is saved: the draft offered on opening is done with
         grid.clear()  # through _changed: the results are recomputed for the empty sheet
         self.dirty = False
         self._update_title()
         self.set_status(message, ok=True)
 
     def action_previous(self) -> None:
-        if self.previous is None:
+        if self.previous_row is None:
             self.set_status("No earlier reading of this board.")
             return
         self.show_previous = not self.show_previous
         self.recompute()
-        when = local_text(self.previous_row["taken_at"]) if self.previous_row else "just saved"
-        self.set_status(f"Showing the previous reading ({when}) beside each figure." if self.show_previous
-                        else "Previous reading hidden.")
+        when = local_text(self.previous_row["taken_at"])
+        self.set_status(f"Previous reading ({when}) per phase beside what is typed, with the change. F3: "
+                        "back to the results." if self.show_previous else "Results shown (F3: previous reading).")
 
     def action_history(self) -> None:
         self.post_message(OpenHistory(self.board_id))
@@ -363,11 +499,48 @@ class ReadingSheet(Screen):
         if len(modes) == 1:
             self.set_status(f"A {self.board['system']} board has one entry mode.")
             return
-        self.mode = modes[(modes.index(self.mode) + 1) % len(modes)]
-        self._configure_grid(self.query_one(EntryGrid).values)
+        new_mode = modes[(modes.index(self.mode) + 1) % len(modes)]
+        grid = self.query_one(EntryGrid)
+        values, self.aside, note = switch_mode(new_mode, grid.values, self.aside,
+                                               [c.field for c in cells(new_mode, self.board["system"])], self.labels)
+        self.mode = new_mode
+        self._configure_grid(values)
         self._update_title()
         self.recompute()
-        self.set_status(f"Entry mode: {MODE_NAMES[self.mode]}.")
+        self.flush_draft()
+        self.set_status(f"Entry mode: {MODE_NAMES[self.mode]}." + (f" {note}." if note else ""))
+
+    def action_note(self) -> None:
+        self.app.push_screen(AskText("Note for this reading (saved with it; empty = none):", required=False,
+                                     value=self.note or ""), self._set_note)
+
+    def _set_note(self, text: str | None) -> None:
+        if text is not None:
+            self.note = text or None
+            self.set_status(f"Note for this reading: {text}" if text else "No note for this reading.")
+
+    def action_instrument(self) -> None:
+        self.app.push_screen(AskText("Instrument used (make, model, serial), kept for the next readings:",
+                                     required=False, value=self.instrument or ""), self._set_instrument)
+
+    def _set_instrument(self, text: str | None) -> None:
+        if text is not None:
+            self.instrument = text or None
+            self.set_status(f"Instrument: {text}" if text else "No instrument recorded.")
+
+    def action_clear_sheet(self) -> None:
+        grid = self.query_one(EntryGrid)
+        if not grid.entered() and not self.aside:
+            self.set_status("The sheet is already empty.")
+            return
+        self.app.push_screen(Ask("Clear every value typed on this sheet? Nothing saved is touched. (y/n)"),
+                             self._clear)
+
+    def _clear(self, yes: bool | None) -> None:
+        if yes:
+            self.aside = {}
+            self.query_one(EntryGrid).clear()
+            self.set_status("Sheet cleared. Saved readings are untouched (F4: history).")
 
     def action_panel(self) -> None:
         self.panel = PANELS[(PANELS.index(self.panel) + 1) % len(PANELS)]

@@ -9,6 +9,7 @@ from datetime import date
 
 from ..core.arc_flash import label_summary
 from ..core.readings import FIELD_KIND, ReadingError, parse_value
+from ..core.reference import REFERENCE_DEG, is_reference
 
 LN, LL, LL_MAG = "ln", "ll", "ll-mag"
 MODE_NAMES = {LN: "line-to-neutral", LL: "line-to-line + angles", LL_MAG: "line-to-line, no angles"}
@@ -57,27 +58,49 @@ def row_labels(mode: str, labels: tuple[str, str, str], system: str) -> list[str
         out = [f"{a}-{b}", f"{b}-{c}", f"{c}-{a}"]
     if system == "split-phase":
         out[2] = ""
-    return out + ["N"]
+    return out + ["" if system == "delta" else "N"]  # a 3-wire delta has no neutral row
 
 
-def understood(field: str, text: str) -> tuple[str, bool]:
+def field_words(field: str, labels=("A", "B", "C")) -> str:
+    """A reading field as the technician reads it on the sheet: ``vb_deg`` -> "VB angle", ``vab`` -> "VA-B",
+    with the site's phase labels (``L1``...).  Several fields joined by commas are worded one by one."""
+    if "," in field:
+        return ", ".join(field_words(f, labels) for f in field.split(","))
+    idx = {"a": 0, "b": 1, "c": 2}
+    base, angle = (field[:-4], True) if field.endswith("_deg") else (field, False)
+    if base == "i_n":
+        words = "IN (neutral)"
+    elif base[0] in "vi" and len(base) == 2 and base[1] in idx:
+        words = base[0].upper() + labels[idx[base[1]]]
+    elif base[0] == "v" and len(base) == 3 and base[1] in idx and base[2] in idx:
+        la, lb = labels[idx[base[1]]], labels[idx[base[2]]]
+        words = f"V{la}{lb}" if len(la) == 1 else f"V{la}-{lb}"
+    else:
+        return field.replace("_", " ")
+    return words + (" angle" if angle else "")
+
+
+def understood(field: str, text: str, labels=("A", "B", "C")) -> tuple[str, bool]:
     """How a typed value was understood, for the line under the grid.
 
     Returns (message, ok).
     """
     kind = FIELD_KIND[field]
+    name = field_words(field, labels)
     try:
         value = parse_value(text, kind)
     except ReadingError as e:
-        return f"{field}: {e}", False
+        return f"{name}: {e}", False
     if value is None:
-        return f"{field}: empty", True
+        if is_reference(field):
+            return f"{name}: blank = {REFERENCE_DEG:g}°, the reference", True
+        return f"{name}: empty", True
     if kind == "deg":
         norm = ((value + 180.0) % 360.0) - 180.0
         norm = 180.0 if norm == -180.0 else norm
         lag = "lagging" if norm < 0 else "leading" if norm > 0 else "on the reference"
-        return f"{field} = {value:g}° (same as {norm:+g}°, {lag})", True
-    return f"{field} = {value:g} {kind}", True
+        return f"{name} = {value:g}° (same as {norm:+g}°, {lag})", True
+    return f"{name} = {value:g} {kind}", True
 
 
 def caution_lines(board: dict, review_years: float, today: date | None = None) -> tuple[str, str, bool]:
@@ -91,12 +114,101 @@ def caution_lines(board: dict, review_years: float, today: date | None = None) -
     if label.status == "missing":
         return first, "⚠ NO ARC-FLASH LABEL recorded for this board: hazard unknown; check the board.", True
     parts = list(label.parts)
+    # The warning first, in words: the end of this line is cut at 80 columns.
     if label.status == "undated":
-        parts.append("⚠ label date not recorded")
-    elif label.status == "unreadable date":
-        parts.append(f"label date {label.dated!r} unreadable")
-    else:
-        parts.append(f"label {label.dated}")
-        if label.status == "older than review interval":
-            parts.append(f"⚠ OLDER THAN {review_years:g} YEARS: have it reviewed")
+        return first, "⚠ LABEL NOT DATED: have it checked. Label: " + ", ".join(parts), True
+    if label.status == "unreadable date":
+        return first, f"⚠ LABEL DATE {label.dated!r} UNREADABLE. Label: " + ", ".join(parts), True
+    if label.status == "older than review interval":
+        return first, (f"⚠ LABEL EXPIRED: dated {label.dated}, older than {review_years:g} years; have it "
+                       "reviewed. Label: " + ", ".join(parts)), True
+    parts.append(f"label {label.dated}")
     return first, "Label: " + ", ".join(parts), label.problem
+
+
+def label_finding(board: dict, review_years: float, today: date | None = None) -> dict | None:
+    """The arc-flash label's problem as a finding of the sheet (shown with the reading's findings), or None."""
+    label = label_summary(board, review_years, today or date.today())
+    if not label.problem:
+        return None
+    what = {"missing": "No arc-flash label is recorded for this board: the hazard is unknown",
+            "undated": "The arc-flash label has no date recorded",
+            "unreadable date": f"The arc-flash label date {label.dated!r} cannot be read",
+            "older than review interval": f"The arc-flash label is dated {label.dated}, older than the "
+                                          f"{review_years:g}-year review interval (expired)"}[label.status]
+    return {"code": "ARC_FLASH_LABEL", "severity": "warning", "message": what + ": check the board's label and "
+            "have the study reviewed before relying on it.", "value": None, "threshold": None, "unit": "",
+            "phase": None, "source": "NFPA 70E 130.5(G) review at least every 5 years (from memory; local rules "
+            "govern)"}
+
+LN_V, LL_V = ("va", "vb", "vc"), ("vab", "vbc", "vca")
+
+
+def switch_mode(new_mode: str, values: dict, aside: dict, new_fields: list[str],
+                labels=("A", "B", "C")) -> tuple[dict, dict, str]:
+    """Values for the grid after F5, and what became of the typed voltages.
+
+    ``values``: the grid's cells as typed (field -> text); ``aside``: values kept from
+    earlier modes that the current mode has no cell for; ``new_fields``: the new
+    mode's cells.  Nothing typed is thrown away: a value with no cell in the new
+    mode is kept aside (and comes back when the mode that has it returns);
+    line-to-neutral voltages typed with all their angles are converted to
+    line-to-line (Vab = Va − Vb, ``core.phasors.line_to_line``) when the new
+    mode's voltage cells are empty.  Returns ``(values, aside, note)``; the
+    note says in words what happened, for the status line.
+    """
+    aside = dict(aside)
+    new = set(new_fields)
+    for f, v in values.items():
+        if f not in new and v.strip():
+            aside[f] = v
+    out, restored = {}, []
+    for f in new_fields:
+        if values.get(f, "").strip():
+            out[f] = values[f]
+        elif aside.get(f, "").strip():
+            out[f] = aside.pop(f)
+            restored.append(f)
+        else:
+            out[f] = ""
+    converted = []
+    if new_mode != LN and not any(out.get(f, "").strip() for f in LL_V):
+        ll = _ln_to_ll(values)
+        if ll is not None:
+            for k, f in enumerate(LL_V):
+                out[f] = f"{ll[k][0]:.1f}"
+                converted.append(f)
+                if f + "_deg" in new:
+                    out[f + "_deg"] = f"{ll[k][1]:.1f}"
+    notes = []
+    if converted:
+        notes.append(f"{', '.join(field_words(f, labels) for f in converted)} computed from the line-to-neutral "
+                     "values typed (check them against the meter)")
+    if restored:
+        notes.append(f"{', '.join(field_words(f, labels) for f in restored)} typed earlier brought back")
+    kept = [f for f in aside if f not in new]
+    if kept:
+        notes.append(f"{', '.join(field_words(f, labels) for f in kept)} kept aside: not saved in this mode, "
+                     "back with F5")
+    return out, aside, "; ".join(notes)
+
+
+def _ln_to_ll(values: dict):
+    """(magnitude V, angle °) of Vab, Vbc, Vca from typed line-to-neutral phasors, or None if any is missing."""
+    import numpy as np
+
+    from ..core.phasors import angle_deg, line_to_line, polar
+    from ..core.reference import fill_reference
+
+    try:
+        mags = [parse_value(values.get(f"v{p}", ""), "V") for p in "abc"]
+        angs = [parse_value(values.get(f"v{p}_deg", ""), "deg") for p in "abc"]
+    except ReadingError:
+        return None
+    m = np.array([np.nan if x is None else x for x in mags])
+    d = np.array([np.nan if x is None else x for x in angs])
+    d[0] = fill_reference(m[0], d[0], d[1])  # a blank VA angle, by the one rule
+    if not np.isfinite(m).all() or not np.isfinite(d).all():
+        return None
+    ll = line_to_line(polar(m, d))
+    return [(float(abs(z)), float(angle_deg(z))) for z in ll]
