@@ -174,7 +174,8 @@ def analyse_one(r: dict) -> dict:
         diff = i_n - out["i_n_calc"]
         biggest = max(i_n, out["i_n_calc"])
         if biggest > 0 and abs(diff) > 0.2 * biggest and abs(diff) >= 1.0:
-            codes.add("NEUTRAL_MISMATCH")
+            # Above the phasor sum (harmonics may explain it) or below it (they cannot).
+            codes.add("NEUTRAL_MISMATCH" if diff > 0 else "NEUTRAL_BELOW_SUM")
     if rot != "unknown" and not lost and not in_phase and not (ct_reversed or hyp.startswith(("two", "swap"))):
         i_rot = "ABC" if abs(i1) >= 2 * abs(i2) and abs(i1) > 0 else (
             "ACB" if abs(i2) >= 2 * abs(i1) and abs(i2) > 0 else "unknown")

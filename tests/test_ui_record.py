@@ -22,7 +22,10 @@ async def test_a_round_starts_with_the_name_typed_or_the_suggested_one(tmp_path)
         await pilot.pause()
         assert app.round_id and rounds.get_round(app.db, app.round_id)["label"] == "Pump room check"
         assert "Pump room check: 0/12 boards read" in str(app.screen.query_one("#home-title", Static).render())
-        await pilot.press("r")  # finish it
+        await pilot.press("r")  # finish it: 12 boards unread, so it asks first
+        await pilot.pause()
+        assert "12 board(s) NOT read in this round" in str(app.screen.query_one(".question", Static).render())
+        await pilot.press("y")
         await pilot.pause()
         assert app.round_id is None
         await pilot.press("r")
@@ -30,7 +33,11 @@ async def test_a_round_starts_with_the_name_typed_or_the_suggested_one(tmp_path)
         await pilot.press("enter")  # Enter alone: the suggested name
         await pilot.pause()
         assert rounds.get_round(app.db, app.round_id)["label"].startswith("Round 4 — ")
-        await pilot.press("r", "r")
+        await pilot.press("r")  # finish (unread boards: asks), then start another
+        await pilot.pause()
+        await pilot.press("y")
+        await pilot.pause()
+        await pilot.press("r")
         await pilot.pause()
         await pilot.press("escape")  # Esc: no round started
         await pilot.pause()

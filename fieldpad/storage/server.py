@@ -410,13 +410,9 @@ def _write_snapshot(db, path: Path, got: dict) -> None:
                 if rows:
                     snap.conn.executemany(f"INSERT OR IGNORE INTO {table} ({', '.join(cols)}) VALUES "
                                           f"({', '.join('?' * len(cols))})", rows)
-        _fill_parents(db, snap)
-        missing = snap.conn.execute("PRAGMA foreign_key_check").fetchall()
-        if missing:
-            raise ServerError(f"the server sent {len(missing)} row(s) whose board, site, round or earlier "
-                              "version it did not send: nothing was received (run 'fieldpad sync' again)")
     finally:
         snap.close()
+    _fill_parents(db, path)
 
 
 _PARENTS = (("board", "site_id", "site"), ("round", "site_id", "site"), ("reading", "board_id", "board"),
@@ -425,27 +421,37 @@ _PARENTS = (("board", "site_id", "site"), ("round", "site_id", "site"), ("readin
             ("version_parent", "parent_id", "reading"))
 
 
-def _fill_parents(db, snap) -> None:
-    main_file = db.conn.execute("PRAGMA database_list").fetchone()[2]
-    from .access import read_only_uri
-
-    snap.conn.execute("ATTACH DATABASE ? AS laptop", [read_only_uri(Path(main_file))])
+def _fill_parents(db, path: Path) -> None:
+    """Copy into the snapshot at ``path`` the laptop's rows its rows refer to.  Done from the laptop's own
+    connection, with the snapshot attached: the laptop's file is never opened a second time in this process
+    (closing that second descriptor would drop the locks this process's connections hold on it; see
+    ``db.open_db``)."""
+    conn = db.conn
+    conn.execute("ATTACH DATABASE ? AS snap", [path.resolve().as_uri()])
     try:
-        with write(snap):
+        conn.execute("BEGIN IMMEDIATE")
+        try:
             for _ in range(3):  # a board's site may be missing too: a few passes reach every ancestor
                 for child, fk, parent in reversed(_PARENTS):
-                    snap.conn.execute(
-                        f"INSERT OR IGNORE INTO main.{parent} SELECT * FROM laptop.{parent} WHERE id IN "
-                        f"(SELECT {fk} FROM main.{child} WHERE {fk} IS NOT NULL "
-                        f"AND {fk} NOT IN (SELECT id FROM main.{parent}))")
-            # A site or board row as first sent is not what it is now: its whole settings history goes with it
-            # (merge computes the row from that history, and would otherwise take the row's content as history).
+                    conn.execute(
+                        f"INSERT OR IGNORE INTO snap.{parent} SELECT * FROM main.{parent} WHERE id IN "
+                        f"(SELECT {fk} FROM snap.{child} WHERE {fk} IS NOT NULL "
+                        f"AND {fk} NOT IN (SELECT id FROM snap.{parent}))")
+            # A site or board row as first sent is not what it is now: its whole settings history goes with
+            # it (merge computes the row from that history, and would otherwise take the row as history).
             for entity in ("site", "board"):
-                snap.conn.execute(
-                    "INSERT OR IGNORE INTO main.setting_version SELECT * FROM laptop.setting_version "
-                    f"WHERE entity = '{entity}' AND entity_id IN (SELECT id FROM main.{entity})")
+                conn.execute("INSERT OR IGNORE INTO snap.setting_version SELECT * FROM main.setting_version "
+                             f"WHERE entity = '{entity}' AND entity_id IN (SELECT id FROM snap.{entity})")
+            conn.execute("COMMIT")
+        except BaseException:
+            conn.execute("ROLLBACK")
+            raise
+        missing = conn.execute("PRAGMA snap.foreign_key_check").fetchall()
     finally:
-        snap.conn.execute("DETACH DATABASE laptop")
+        conn.execute("DETACH DATABASE snap")
+    if missing:
+        raise ServerError(f"the server sent {len(missing)} row(s) whose board, site, round or earlier version it "
+                          "did not send: nothing was received (run 'fieldpad sync' again)")
 
 
 def fetch_all(url: str, dest: Path) -> Path:
