@@ -21,6 +21,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--db", metavar="PATH", help="database file (default: $FIELDPAD_DB or the user data folder)")
     p.add_argument("--technician", metavar="NAME",
                    help="name that signs the readings (default: $FIELDPAD_TECHNICIAN, else your login name)")
+    p.add_argument("--server", metavar="URL", help="the crew's central server for the app's sync key "
+                   "(default: $FIELDPAD_SERVER)")
     p.set_defaults(command_module="app")
     sub = p.add_subparsers(dest="command")
     db_opt = argparse.ArgumentParser(add_help=False)
@@ -94,9 +96,12 @@ def build_parser() -> argparse.ArgumentParser:
     who = argparse.ArgumentParser(add_help=False)
     who.add_argument("--technician", metavar="NAME", default=argparse.SUPPRESS,
                      help="name that signs the readings (default: $FIELDPAD_TECHNICIAN, else your login name)")
-    a = sub.add_parser("app", parents=[db_opt, who], help="open the entry app (the default)")
+    app_srv = argparse.ArgumentParser(add_help=False)
+    app_srv.add_argument("--server", metavar="URL", default=argparse.SUPPRESS,
+                         help="the crew's central server for the app's sync key (default: $FIELDPAD_SERVER)")
+    a = sub.add_parser("app", parents=[db_opt, who, app_srv], help="open the entry app (the default)")
     a.set_defaults(command_module="app")
-    dm = sub.add_parser("demo", parents=[db_opt, who],
+    dm = sub.add_parser("demo", parents=[db_opt, who, app_srv],
                         help="open the app on a fresh copy of the invented demo site (own file)")
     dm.set_defaults(command_module="app:run_demo")
     return p

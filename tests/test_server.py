@@ -14,6 +14,7 @@ from pathlib import Path
 import pytest
 from cli_runner import run_cli
 from conftest import BAL
+from test_ui_nothing_lost import record_notifications
 
 from fieldpad.storage import server, sites, versions
 from fieldpad.storage.db import open_db
@@ -371,3 +372,63 @@ def test_settings_changed_on_two_laptops_both_survive_through_the_server(cluster
     code, out, err = _cli("export", "--format", "csv", "--server", as_role(cluster, crew_db, SUPERVISOR))
     assert code == 0, err
     assert "MDB-1 (north)" in out and ",MDB-1," not in out
+
+
+async def test_the_app_syncs_on_a_key_in_a_worker_and_says_what_waits(cluster, crew_db, tmp_path):
+    from textual.widgets import Static
+
+    from fieldpad.ui.app import FieldpadApp
+
+    a, _sid, (b1,) = laptop(tmp_path, "ana")
+    versions.save_reading(a, b1, BAL, technician="ana")
+    a.close()
+    app = FieldpadApp(tmp_path / "ana.db", technician="ana", server=as_role(cluster, crew_db, "ana"))
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        line = str(app.screen.query_one("#home-sync", Static).render())
+        assert "never synced" in line and "1 version(s) of yours wait" in line and "y: sync now" in line
+        await pilot.press("y")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        line = str(app.screen.query_one("#home-sync", Static).render())
+        assert "last sync" in line and "nothing of yours waits" in line
+    with psycopg.connect(cluster.url(database=crew_db)) as conn:
+        assert conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0] == 1
+
+
+async def test_the_app_without_a_server_shows_no_sync_line_and_says_how_to_set_one(tmp_path, monkeypatch):
+    from textual.widgets import Static
+
+    from fieldpad.ui.app import FieldpadApp
+
+    monkeypatch.delenv("FIELDPAD_SERVER", raising=False)
+    a, _sid, _ = laptop(tmp_path, "ana")
+    a.close()
+    app = FieldpadApp(tmp_path / "ana.db", technician="ana")
+    shown = record_notifications(app)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        assert app.screen.query_one("#home-sync", Static).display is False
+        await pilot.press("y")
+        await pilot.pause()
+        assert any("No server set" in m for m in shown)
+
+
+async def test_a_sync_that_fails_in_the_app_says_so_and_keeps_everything(cluster, crew_db, tmp_path):
+    from textual.widgets import Static
+
+    from fieldpad.ui.app import FieldpadApp
+
+    a, _sid, (b1,) = laptop(tmp_path, "ana")
+    versions.save_reading(a, b1, BAL, technician="ana")
+    a.close()
+    app = FieldpadApp(tmp_path / "ana.db", technician="ana", server=cluster.url("ana", database="no_such_db"))
+    shown = record_notifications(app)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("y")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        line = str(app.screen.query_one("#home-sync", Static).render())
+        assert "last try failed: nothing lost" in line and "1 version(s) of yours wait" in line
+        assert any("NOT SYNCED" in m and "cannot reach the server" in m for m in shown)

@@ -22,8 +22,12 @@ class FieldpadApp(App):
     TITLE = "fieldpad"
     ENABLE_COMMAND_PALETTE = True
 
-    def __init__(self, db_path, *, technician: str | None = None, note: str | None = None) -> None:
+    def __init__(self, db_path, *, technician: str | None = None, note: str | None = None,
+                 server: str | None = None) -> None:
         super().__init__()
+        #: The crew's central server (a libpq URI), if any: ``--server`` or ``$FIELDPAD_SERVER``.
+        self.server = server or os.environ.get("FIELDPAD_SERVER") or None
+        self._sync_db = None
         self.db_path = Path(db_path)
         self.db = open_db(self.db_path)
         self.technician = technician or _who()
@@ -40,6 +44,13 @@ class FieldpadApp(App):
         if self._worker_db is None:
             self._worker_db = open_db(self.db_path, create=False)
         return self._worker_db
+
+    def sync_db(self):
+        """The connection a sync runs on, in its worker thread: its own, opened once and kept (a connection
+        is never shared between threads, nor opened and closed again and again)."""
+        if self._sync_db is None:
+            self._sync_db = open_db(self.db_path, create=False)
+        return self._sync_db
 
     def on_mount(self) -> None:
         loop = asyncio.get_running_loop()
@@ -120,8 +131,9 @@ class FieldpadApp(App):
         self.exit(return_code=1, message="fieldpad stopped by a signal; typed values were kept as drafts.")
 
     def on_unmount(self) -> None:
-        if self._worker_db is not None:
-            self._worker_db.close()
+        for extra in (self._worker_db, self._sync_db):
+            if extra is not None:
+                extra.close()
         self.db.close()
 
 
@@ -132,7 +144,7 @@ def _who() -> str | None:
         return None
 
 
-def run_app(db_arg, demo: bool = False, technician: str | None = None) -> int:
+def run_app(db_arg, demo: bool = False, technician: str | None = None, server: str | None = None) -> int:
     note = None
     if demo:
         from ..demo_site import build_demo
@@ -146,7 +158,7 @@ def run_app(db_arg, demo: bool = False, technician: str | None = None) -> int:
     else:
         from ..storage.db import resolve_path
         path = resolve_path(db_arg)
-    app = FieldpadApp(path, note=note, technician=technician)
+    app = FieldpadApp(path, note=note, technician=technician, server=server)
     app.run()
     if demo:
         print(f"The demo database is kept in {path} (delete it when done).")

@@ -282,6 +282,7 @@ class BoardList(Screen):
         Binding("r", "round", "Round"),
         Binding("s", "sites", "Sites"),
         Binding("v", "review", "Day review"),
+        Binding("y", "sync", "Sync"),
         Binding("f1", "help", "Help"),
         Binding("q", "app.quit", "Quit"),
         Binding("slash", "jump", "Go to", show=False),
@@ -305,6 +306,7 @@ class BoardList(Screen):
         yield Static(id="home-caution")
         yield DataTable(id="boards", cursor_type="row", zebra_stripes=True)
         yield Static(id="home-hint")
+        yield Static(id="home-sync")
         yield KeyStrip()
 
     def on_mount(self) -> None:
@@ -327,6 +329,7 @@ class BoardList(Screen):
 
     def reload(self) -> None:
         app = self.app
+        self._show_sync()
         site = sites.get_site(app.db, app.site_id)
         rnd = app.round_id
         title = f"[b]{markup_safe(site['name'])}[/b] — boards"
@@ -398,6 +401,75 @@ class BoardList(Screen):
                 t.update_cell(bid, "check", Text(text, style) if text else "")
             except Exception:  # noqa: BLE001 - a row removed by a reload in between
                 continue
+
+    # ---- the crew's server: sync in a worker, never waiting in front of the technician ----------
+    def _show_sync(self, note: Text | None = None) -> None:
+        """One line: when this laptop last synced and how many of this technician's versions wait (only
+        where a server is set)."""
+        line = self.query_one("#home-sync", Static)
+        app = self.app
+        if not app.server:
+            line.display = False
+            return
+        from ..storage.server import last_sync, pending_count
+
+        line.display = True
+        last = last_sync(app.db)
+        waiting = pending_count(app.db, app.technician)
+        t = Text("Server: ", "bold")
+        t.append(f"last sync {local_text(last['synced_at'], '%m-%d %H:%M')}" if last else "never synced")
+        if waiting is None:
+            waiting = app.db.conn.execute("SELECT COUNT(*) FROM reading WHERE recorded_by IS ?",
+                                          [app.technician]).fetchone()[0]
+        t.append(f" · {waiting} version(s) of yours wait" if waiting else " · nothing of yours waits",
+                 f"bold {WARN}" if waiting else "")
+        t.append(" · y: sync now" if not getattr(self, "_syncing", False) else " · syncing…")
+        if note is not None:
+            t.append(" · ")
+            t.append_text(note)
+        line.update(t)
+
+    def action_sync(self) -> None:
+        app = self.app
+        if not app.server:
+            self.notify("No server set: start fieldpad with --server URL, or set FIELDPAD_SERVER. Everything "
+                        "stays on this laptop meanwhile.", timeout=8)
+            return
+        if getattr(self, "_syncing", False):
+            self.notify("A sync is already running.")
+            return
+        self._syncing = True
+        self._show_sync()
+        self.run_worker(self._sync_in_worker, thread=True, exclusive=True, group="sync")
+
+    def _sync_in_worker(self) -> None:
+        from ..storage.server import sync
+
+        app = self.app
+        try:
+            rep = sync(app.sync_db(), app.server)
+        except StorageError as e:
+            app.call_from_thread(self._synced, None, str(e))
+        except Exception as e:  # noqa: BLE001 - a sync never takes the app down; the message says what
+            app.call_from_thread(self._synced, None, f"{type(e).__name__}: {e}")
+        else:
+            app.call_from_thread(self._synced, rep, None)
+
+    def _synced(self, rep, error: str | None) -> None:
+        self._syncing = False
+        if error:
+            self.notify(f"NOT SYNCED: {printable(error)}", severity="error", timeout=12)
+            note = Text("last try failed: nothing lost, try again later", f"bold {WARN}")
+        else:
+            sent, got = sum(rep.sent.values()), sum(rep.received.values())
+            self.notify(f"Synced with the server as {printable(rep.role)}: sent {sent} row(s), received {got}."
+                        + (f" {rep.not_mine} version(s) recorded by others are theirs to send." if rep.not_mine
+                           else ""), timeout=8)
+            note = None
+        if self.is_attached and self.app.screen is self:
+            self.reload()
+            if note is not None:
+                self._show_sync(note)
 
     # ---- moving around ---------------------------------------------------------------------
     def on_key(self, event) -> None:
