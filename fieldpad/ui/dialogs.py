@@ -21,7 +21,7 @@ HELP = """\
   n / e   new board / edit board (arc-flash label, own standard)
   r       start (named) or finish a round    h   board history
   v       day review                   s   sites
-  y       sync with the crew's server (where one is set: --server or FIELDPAD_SERVER)
+  y       sync with the crew's server (if one is set)
   q       quit
 
 [b]Reading sheet[/b]
