@@ -1,0 +1,254 @@
+"""Writing CSV and JSON text from columns, a block of rows at a time, without a value object per cell.
+
+A row is a sequence of *parts*: a constant (bytes, the same in every row), a fixed-width cell matrix
+(``uint8`` array of shape (N, width), NUL bytes as padding) or a variable part (a list of N bytes
+objects, e.g. text a person typed).  :func:`assemble` lays the fixed parts of every row side by side in one
+byte matrix, drops the padding and splices the variable parts in.  Numbers are written as Python's
+``repr`` writes them (``277.0``, ``-120.0``, ``1.9608``), so the text is the same as the csv and json
+modules write for the same values.
+"""
+from __future__ import annotations
+
+import json
+from itertools import chain
+
+import numpy as np
+
+# "0000".."9999" as 4 bytes each; LEAD has the leading zeros as NUL (0 -> "\0\0\00"); FRAC has the
+# trailing zeros as NUL after the first digit, behind a decimal point (0 -> ".0", 5000 -> ".5").
+_DIG = np.frombuffer(b"".join(f"{k:04d}".encode() for k in range(10000)), np.uint8).reshape(10000, 4)
+_LEAD = np.frombuffer(b"".join(f"{k:d}".encode().rjust(4, b"\0") for k in range(10000)),
+                      np.uint8).reshape(10000, 4)
+_FRAC = np.frombuffer(b"".join(("." + (f"{k:04d}".rstrip("0") or "0")).encode().ljust(5, b"\0")
+                               for k in range(10000)), np.uint8).reshape(10000, 5)
+_LIMIT = float(2 ** 53)
+
+
+def float_cells(x, *, null: bytes = b"", rounded: bool = True):
+    """Cells for float values, as ``repr`` writes them; NaN and infinities are ``null`` (empty for CSV,
+    ``null`` for JSON).
+
+    ``rounded``: the values are rounded to 4 decimals first (the result fields); otherwise they are
+    written exactly (stored inputs).  Returns an (N, width) ``uint8`` matrix, or a list of bytes when a
+    value needs more than 4 decimals or 12 integer digits (then written by ``repr``).
+    """
+    x = np.asarray(x, dtype=float)
+    n = x.shape[0]
+    y = np.round(x, 4) if rounded else x
+    fin = np.isfinite(y)
+    with np.errstate(invalid="ignore"):
+        k = np.rint(y * 1e4)
+        ok = fin & (np.abs(k) < _LIMIT)
+        if not rounded:
+            ok &= k / 1e4 == y
+    if not ok[fin].all():
+        return [repr(v).encode() if v == v and abs(v) != float("inf") else null for v in y.tolist()]
+    a = np.where(ok, np.abs(k), 0).astype(np.int64)
+    ip, fp = np.divmod(a, 10000)
+    top = int(ip.max()) if n else 0
+    groups = 1 if top < 10**4 else 2 if top < 10**8 else 3
+    width = 1 + 4 * groups + 5
+    m = np.empty((n, width), np.uint8)
+    m[:, 0] = np.where(np.signbit(y) & ok, 45, 0)
+    rest = ip
+    g = []
+    for _ in range(groups):
+        rest, part = np.divmod(rest, 10000)
+        g.append(part)
+    g.reverse()  # most significant first
+    if groups == 1:
+        m[:, 1:5] = _LEAD[g[0]]
+    else:
+        higher = np.zeros(n, bool)  # a nonzero group to the left
+        for j, part in enumerate(g):
+            last = j == groups - 1
+            lead = ~higher & ((part > 0) | last)
+            cell = np.where(higher[:, None], _DIG[part], np.where(lead[:, None], _LEAD[part], 0))
+            m[:, 1 + 4 * j:5 + 4 * j] = cell
+            higher |= part > 0
+    m[:, 1 + 4 * groups:] = _FRAC[fp]
+    bad = ~ok
+    if bad.any():
+        m[bad] = 0
+        if null:
+            m[bad, 1:1 + len(null)] = np.frombuffer(null, np.uint8)
+    return m
+
+
+def vocab_cells(codes, texts: dict, *, quote) -> np.ndarray:
+    """Cells for a small vocabulary: ``codes`` (int array) -> ``texts[code]`` (str or None), each written by
+    ``quote``.  Returns an (N, width) ``uint8`` matrix."""
+    codes = np.asarray(codes)
+    keys = sorted(texts)
+    cells = [quote(texts[k]) for k in keys]
+    width = max([len(c) for c in cells] + [1])
+    table = np.zeros((len(keys), width), np.uint8)
+    for j, c in enumerate(cells):
+        table[j, :len(c)] = np.frombuffer(c, np.uint8)
+    index = np.searchsorted(np.array(keys), codes)
+    return table[index]
+
+
+def csv_text(value) -> bytes:
+    """A CSV cell as the csv module writes it (minimal quoting); None is empty."""
+    if value is None:
+        return b""
+    s = str(value)
+    if any(c in s for c in ',"\r\n'):
+        s = '"' + s.replace('"', '""') + '"'
+    return s.encode("utf-8")
+
+
+def json_text(value) -> bytes:
+    return json.dumps(value, ensure_ascii=False).encode("utf-8")
+
+
+def fixed_text(values, quote) -> np.ndarray | list:
+    """Cells for text values: a fixed-width matrix when the texts are short (ids, times), else a list."""
+    cache: dict = {}
+    out = []
+    for v in values:
+        c = cache.get(v)
+        if c is None:
+            c = cache[v] = quote(v)
+        out.append(c)
+    width = max([len(c) for c in out] + [1])
+    if width > 64 or len(cache) > 4096 and width > 40:
+        return out
+    arr = np.array(out, dtype=f"S{width}")
+    return arr.view(np.uint8).reshape(len(out), width)
+
+
+def assemble(parts, n: int) -> bytes:
+    """The text of ``n`` rows made of ``parts`` (see the module docstring)."""
+    if n == 0:
+        return b""
+    segments = []  # lists of bytes (one per row), in order
+    fixed: list = []
+
+    def close_fixed(last: bool):
+        if not fixed:
+            return
+        width = sum(p.shape[1] if isinstance(p, np.ndarray) else len(p) for p in fixed)
+        sep = 0 if last and not segments else 1
+        m = np.zeros((n, width + sep), np.uint8)
+        at = 0
+        for p in fixed:
+            if isinstance(p, np.ndarray):
+                w = p.shape[1]
+                m[:, at:at + w] = p
+            else:
+                w = len(p)
+                m[:, at:at + w] = np.frombuffer(p, np.uint8)
+            at += w
+        if sep:
+            m[:, -1] = 1
+        blob = m.tobytes().replace(b"\0", b"")
+        segments.append(blob if not sep else blob.split(b"\x01")[:-1])
+        fixed.clear()
+
+    for p in parts:
+        if isinstance(p, (bytes, np.ndarray)):
+            fixed.append(p)
+        else:
+            close_fixed(False)
+            segments.append(p)
+    close_fixed(True)
+    if len(segments) == 1 and isinstance(segments[0], bytes):
+        return segments[0]
+    return b"".join(chain.from_iterable(zip(*segments)))
+
+
+# ---- result columns (the fields of fieldpad compute, core/results.py) ---------------------------------------
+
+
+def result_columns(result, labels=("A", "B", "C")):
+    """The result fields of :data:`fieldpad.core.results.RESULT_FIELDS` (all but ``findings``) as columns:
+    name -> ("num", float array) or ("vocab", codes, {code: text or None})."""
+    from ..core.analysis import BASIS_NAMES
+    from ..core.results import RESULT_FIELDS, S_VA_METHOD
+    from ..core.rotation import REASON_NOT_3PH, REASON_TEXT, ROTATION_NAMES
+
+    v = result.values
+    out = {}
+    for f in RESULT_FIELDS:
+        if f in ("rotation", "high_leg", "rotation_note", "basis", "s_va_method", "findings"):
+            continue
+        out[f] = ("num", v[f])
+    reason = np.asarray(v["rotation_reason"], np.int64)
+    rot = np.where(reason == REASON_NOT_3PH, -99, np.asarray(v["rotation"], np.int64))
+    out["rotation"] = ("vocab", rot, {**{k: n for k, n in ROTATION_NAMES.items()}, -99: None})
+    out["rotation_note"] = ("vocab", reason, {k: (t or None) for k, t in REASON_TEXT.items()})
+    out["basis"] = ("vocab", np.asarray(v["basis"], np.int64), dict(BASIS_NAMES))
+    out["s_va_method"] = ("vocab", np.asarray(v["s_va_vector"], np.int64), dict(S_VA_METHOD))
+    hl = np.asarray(v["high_leg"], np.int64)
+    out["high_leg"] = ("vocab", hl, {-1: None, **{k: labels[k] for k in range(len(labels))}})
+    return out
+
+
+def findings_csv_cells(result, labels=("A", "B", "C")) -> list:
+    """The ``findings`` CSV cell of every reading (``severity:CODE(phase) | ...``, as
+    :func:`fieldpad.formats.records.findings_cell` writes it, in :func:`fieldpad.core.findings.findings_lists`
+    order: by severity, then the analysis's order), as bytes."""
+    from ..core.findings import SEVERITY_ORDER, phase_label
+
+    n = result.n
+    cells = np.full(n, "", dtype=object)
+    entries = sorted(enumerate(result.findings), key=lambda e: (SEVERITY_ORDER[e[1][1]], e[0]))
+    for _k, (code, severity, mask, _value, _threshold, _unit, phase) in entries:
+        if not mask.any():
+            continue
+        idx = np.flatnonzero(mask)
+        ph = np.asarray(result.finding_field(phase))[idx]
+        for p in np.unique(ph).tolist():
+            lab = phase_label(int(p), labels)
+            token = f"{severity}:{code}" + (f"({lab})" if lab else "")
+            sel = idx[ph == p]
+            cur = cells[sel]
+            cells[sel] = np.where(cur == "", token, cur + (" | " + token))
+    return [csv_text(c) if c else b"" for c in cells.tolist()]
+
+
+def result_parts_csv(result, labels=("A", "B", "C"), *, sep=b",", end=b"\n") -> list:
+    """Parts (see :func:`assemble`) of the result fields in RESULT_FIELDS order, CSV cells."""
+    from ..core.results import RESULT_FIELDS
+
+    cols = result_columns(result, labels)
+    parts = []
+    for f in RESULT_FIELDS:
+        if f == "findings":
+            parts.append(findings_csv_cells(result, labels))
+        else:
+            parts.append(_cells(cols[f], csv_text, b""))
+        parts.append(sep)
+    parts[-1] = end
+    return parts
+
+
+def _cells(col, quote, null):
+    if col[0] == "num":
+        return float_cells(col[1], null=null)
+    return vocab_cells(col[1], col[2], quote=quote)
+
+
+def result_parts_json(result, labels=("A", "B", "C"), standards=None, *, indent=b"") -> list:
+    """Parts of one JSON object per reading, as ``json.dumps(record, ensure_ascii=False, indent=2)``
+    writes a result record (fields in RESULT_FIELDS order), each line after the first indented by
+    ``indent`` more; rows are not separated."""
+    from ..core.findings import findings_lists
+    from ..core.results import RESULT_FIELDS
+
+    cols = result_columns(result, labels)
+    lead = b"\n" + indent + b"  "
+    parts = [b"{"]
+    for f in RESULT_FIELDS:
+        parts.append((b"" if f == RESULT_FIELDS[0] else b",") + lead + json.dumps(f).encode() + b": ")
+        if f == "findings":
+            fl = findings_lists(result, labels, standards)
+            nl = b"\n" + indent + b"  "
+            parts.append([json.dumps(x, ensure_ascii=False, indent=2).encode().replace(b"\n", nl) if x else b"[]"
+                          for x in fl])
+        else:
+            parts.append(_cells(cols[f], json_text, b"null"))
+    parts.append(b"\n" + indent + b"}")
+    return parts
