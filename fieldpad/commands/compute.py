@@ -28,7 +28,8 @@ def check_stream(stream, *, block_rows=None):
     lines: list = []
     count = 0
     kind = None
-    for kind, raw in read_blocks(stream, block_rows=block_rows or BLOCK_ROWS):
+    for block_kind, raw in read_blocks(stream, block_rows=block_rows or BLOCK_ROWS):
+        kind = block_kind
         clean, problems = check_block(raw)
         if problems:
             count += len(problems)

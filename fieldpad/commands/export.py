@@ -9,7 +9,7 @@ from .common import open_database, report_problems
 
 
 def run(args) -> int:
-    from ..report.export import export_records, to_csv, to_json
+    from ..report.export import export_records
     from ..storage import sites
     from ..storage.db import resolve_path
     from ..storage.files import atomic_write_text
@@ -36,15 +36,29 @@ def run(args) -> int:
         names = ", ".join(printable(s_["name"]) for s_ in sites.list_sites(db)) or "none"
         return report_problems([f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
                                  f"(sites: {names}); nothing was written"])
-    records = export_records(db, day=args.day, site=args.site)
-    if args.format == "csv":
-        text = to_csv(records)
-    elif args.format == "json":
-        text = to_json(records, day=args.day, site=args.site)
-    else:
-        from ..report.html import to_html
+    if args.format in ("csv", "json"):
+        # Streamed: a block of readings at a time, whole file or none.
+        from ..report.export import write_csv, write_json
 
-        text = to_html(db, records, day=args.day, site=args.site)
+        writer = write_csv if args.format == "csv" else write_json
+
+        def fill(f):
+            return writer(db, f, day=args.day, site=args.site)
+
+        if out_path:
+            from ..storage.files import atomic_write_with
+
+            count = atomic_write_with(out_path, fill, protect=(resolve_path(args.db),))
+            print(f"wrote {count} reading(s) to {out_path}", file=sys.stderr)
+        else:
+            sys.stdout.flush()
+            fill(sys.stdout.buffer)
+            sys.stdout.buffer.flush()
+        return 0
+    records = export_records(db, day=args.day, site=args.site)
+    from ..report.html import to_html
+
+    text = to_html(db, records, day=args.day, site=args.site)
     if out_path:
         atomic_write_text(out_path, text, protect=(resolve_path(args.db),))
         print(f"wrote {len(records)} reading(s) to {out_path}", file=sys.stderr)

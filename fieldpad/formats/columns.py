@@ -151,19 +151,18 @@ def _arrow_plan(data: bytes):
     nl = np.flatnonzero(b == 10)
     if b.size and b[-1] != 10:
         nl = np.append(nl, b.size)
-    comma = b == 44
+    comma = np.flatnonzero(b == 44)
     if data.count(b'"'):
+        quote = np.flatnonzero(b == 34)
         # A quoted value spanning lines: the quotes before a line end are odd in number.
-        q = np.cumsum(b == 34)
-        if (q[np.minimum(nl, b.size - 1)] % 2).any():
+        if (np.searchsorted(quote, nl) % 2).any():
             return None
-        comma &= q % 2 == 0  # a comma inside quotes is part of the value
-    commas = np.concatenate(([0], np.cumsum(comma, dtype=np.int64)))
-    per_line = np.diff(commas[np.concatenate(([0], nl + 1)).clip(max=b.size)])
+        comma = comma[np.searchsorted(quote, comma) % 2 == 0]  # a comma inside quotes is part of the value
+    per_line = np.diff(np.concatenate(([0], np.searchsorted(comma, nl))))
     starts = np.concatenate(([0], nl[:-1] + 1))
     lengths = nl - starts
     if b.size:
-        cr = b[np.maximum(nl - 1, 0)] == 13
+        cr = b[np.clip(nl - 1, 0, b.size - 1)] == 13
         lengths = lengths - (cr & (lengths > 0))
     nonempty = lengths > 0
     lines = np.flatnonzero(nonempty) + 1  # 1-based numbers of the non-empty lines

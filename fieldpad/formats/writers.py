@@ -143,7 +143,7 @@ def assemble(parts, n: int) -> bytes:
             at += w
         if sep:
             m[:, -1] = 1
-        blob = m.tobytes().replace(b"\0", b"")
+        blob = m.tobytes().translate(None, b"\0")
         segments.append(blob if not sep else blob.split(b"\x01")[:-1])
         fixed.clear()
 
@@ -193,20 +193,27 @@ def findings_csv_cells(result, labels=("A", "B", "C")) -> list:
     from ..core.findings import SEVERITY_ORDER, phase_label
 
     n = result.n
-    cells = np.full(n, "", dtype=object)
     entries = sorted(enumerate(result.findings), key=lambda e: (SEVERITY_ORDER[e[1][1]], e[0]))
-    for _k, (code, severity, mask, _value, _threshold, _unit, phase) in entries:
-        if not mask.any():
-            continue
-        idx = np.flatnonzero(mask)
-        ph = np.asarray(result.finding_field(phase))[idx]
-        for p in np.unique(ph).tolist():
-            lab = phase_label(int(p), labels)
-            token = f"{severity}:{code}" + (f"({lab})" if lab else "")
-            sel = idx[ph == p]
-            cur = cells[sel]
-            cells[sel] = np.where(cur == "", token, cur + (" | " + token))
-    return [csv_text(c) if c else b"" for c in cells.tolist()]
+    entries = [e for _k, e in entries if e[2].any()]
+    if not entries:
+        return [b""] * n
+    # Each reading's findings as a row of small codes (0 = not raised, else 2 + phase): the distinct rows
+    # are few, and each is worded once.
+    codes = np.zeros((n, len(entries)), np.int8)
+    for j, (_code, _sev, mask, _v, _t, _u, phase) in enumerate(entries):
+        ph = np.asarray(result.finding_field(phase)).astype(np.int8)
+        codes[:, j] = np.where(mask, ph + 2, 0)
+    rows, inverse = np.unique(codes, axis=0, return_inverse=True)
+    words = []
+    for row in rows.tolist():
+        tokens = []
+        for (code, severity, *_rest), c in zip(entries, row):
+            if c:
+                lab = phase_label(c - 2, labels)
+                tokens.append(f"{severity}:{code}" + (f"({lab})" if lab else ""))
+        words.append(csv_text(" | ".join(tokens)) if tokens else b"")
+    table = np.array(words, dtype=object)
+    return table[np.asarray(inverse).ravel()].tolist()
 
 
 def result_parts_csv(result, labels=("A", "B", "C"), *, sep=b",", end=b"\n") -> list:
