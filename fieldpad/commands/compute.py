@@ -55,7 +55,7 @@ def write_results(spool, kind: str, fmt: str, out) -> None:
     """Analyse the checked blocks and write the results to ``out`` (a binary stream, or a text stream)."""
     from ..core.analysis import analyze
     from ..core.results import RESULT_FIELDS
-    from ..formats.writers import assemble, result_parts_csv, result_parts_json
+    from ..formats.writers import assemble, result_parts_csv, result_parts_json, slices
 
     write = out.write if not isinstance(out, io.TextIOBase) or not hasattr(out, "buffer") else None
     if write is None:
@@ -71,17 +71,19 @@ def write_results(spool, kind: str, fmt: str, out) -> None:
         write(b"[")
     for cols, system, standard in spool:
         result = analyze(cols, system, standard)
-        n = result.n
-        if fmt == "csv":
-            write(assemble(result_parts_csv(result), n))
-            continue
-        parts = result_parts_json(result, standards=standard)
-        if kind == "json-object":
-            write(assemble(parts + [b"\n"], n))
-            continue
-        body = assemble([b",\n"] + parts, n)
-        write(body[1:] if first else body)  # "\n{...},\n{...}" after the opening bracket
-        first = False
+        for lo, hi, part in slices(result):
+            n = hi - lo
+            if fmt == "csv":
+                write(assemble(result_parts_csv(part), n))
+                continue
+            parts = result_parts_json(part, standards=standard[lo:hi])
+            if kind == "json-object":
+                write(assemble(parts + [b"\n"], n))
+                continue
+            body = assemble([b",\n"] + parts, n)
+            write(body[1:] if first else body)  # "\n{...},\n{...}" after the opening bracket
+            first = False
+        del result
     if fmt != "csv" and kind != "json-object":
         write(b"\n]\n")
 

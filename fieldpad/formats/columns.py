@@ -54,7 +54,7 @@ from .records import (
 #: (``fieldpad.core.analysis`` splits above 2 x its own block of 16,384), small enough to bound memory.
 BLOCK_ROWS = 65_536
 #: Bytes read from a file at a time.
-CHUNK_BYTES = 8 << 20
+CHUNK_BYTES = 2 << 20
 
 _ALLOWED = np.zeros(256, bool)
 for _c in b"0123456789.eE+-":
@@ -128,58 +128,133 @@ def _decode_strict(data: bytes) -> str:
 
 
 def _csv_blocks(head: bytes, stream, block_rows):
-    data = head + stream.read()  # the bytes (not a text copy); pyarrow reads them in its own blocks
-    if b"\x00" in data:
-        _decode_strict(data[: data.index(b"\x00") + 1])
-        raise InputError("the file contains NUL bytes: it is not a text file of readings")
-    fast = _arrow_plan(data)
-    if fast is None:
-        yield from _csv_blocks_python(data, block_rows)
-        return
-    yield from _csv_blocks_arrow(data, fast, block_rows)
+    f = _seekable(head, stream)
+    try:
+        plan = _scan(f)
+        f.seek(0)
+        if plan is None:
+            yield from _csv_blocks_python(f, block_rows)
+        else:
+            yield from _csv_blocks_arrow(f, plan, block_rows)
+    finally:
+        if f is not stream:
+            f.close()
 
 
-def _arrow_plan(data: bytes):
-    """Line numbers of the data rows when pyarrow can read the file row for line, else None."""
+def _seekable(head: bytes, stream):
+    """A binary file holding the whole input, at its start: the stream itself when it can seek (a file),
+    else a temporary copy (standard input), so the file is read twice without being held in memory."""
+    try:
+        if stream.seekable():
+            stream.seek(0)
+            return stream
+    except (AttributeError, OSError):
+        pass
+    import tempfile
+
+    f = tempfile.TemporaryFile()
+    f.write(head)
+    while True:
+        chunk = stream.read(CHUNK_BYTES)
+        if not chunk:
+            break
+        f.write(chunk)
+    f.seek(0)
+    return f
+
+
+def _scan(f):
+    """One pass over the file in chunks: refuses text that is not UTF-8 or holds NUL bytes (the messages of
+    :func:`fieldpad.formats.records.decode`), and returns the line numbers of the data rows when pyarrow can
+    read the file row for line (every line has the header's number of values, no quoted value spans lines,
+    no bare carriage return), else None."""
     try:
         import pyarrow  # noqa: F401
+        arrow = True
     except ImportError:  # pragma: no cover - a dependency; the csv module reads the file then
+        arrow = False
+    dec = codecs.getincrementaldecoder("utf-8-sig")()
+    carry = b""
+    lines_before = 0  # line ends in the chunks decoded so far
+    lines_done = 0  # complete lines looked at
+    rows = []
+    width = None
+    while True:
+        chunk = f.read(CHUNK_BYTES)
+        final = not chunk
+        try:
+            text = dec.decode(chunk, final)
+        except UnicodeDecodeError as e:
+            data = e.object
+            line = lines_before + data[: e.start].count(b"\n") + 1
+            raise InputError(f"line {line}: the file is not UTF-8 text (byte 0x{data[e.start]:02x}); "
+                             "save it as UTF-8 and try again") from None
+        if "\x00" in text:
+            raise InputError("the file contains NUL bytes: it is not a text file of readings")
+        lines_before += chunk.count(b"\n")
+        if arrow:
+            buf = carry + chunk
+            if final:
+                part, carry = buf, b""
+            else:
+                cut = buf.rfind(b"\n") + 1
+                part, carry = buf[:cut], buf[cut:]
+            if part:
+                got = _scan_lines(part, lines_done, width)
+                if got is None:
+                    arrow = False
+                    carry = b""
+                else:
+                    nums, width, count = got
+                    rows.append(nums)
+                    lines_done += count
+        if final:
+            break
+    if not arrow:
         return None
-    if data.count(b"\r") != data.count(b"\r\n"):
+    nums = np.concatenate(rows) if rows else np.zeros(0, np.int64)
+    if nums.size == 0 or nums[0] != 1:
+        return None  # no header on the first line: the csv module says what is wrong
+    return nums[1:]
+
+
+def _scan_lines(part: bytes, first_line: int, width):
+    """(numbers of the non-empty lines, values per line, lines in ``part``) for whole lines, or None."""
+    if part.count(b"\r") != part.count(b"\r\n"):
         return None
-    b = np.frombuffer(data, np.uint8)
+    b = np.frombuffer(part, np.uint8)
     nl = np.flatnonzero(b == 10)
-    if b.size and b[-1] != 10:
+    if b[-1] != 10:
         nl = np.append(nl, b.size)
     comma = np.flatnonzero(b == 44)
-    if data.count(b'"'):
+    if b'"' in part:
         quote = np.flatnonzero(b == 34)
-        # A quoted value spanning lines: the quotes before a line end are odd in number.
         if (np.searchsorted(quote, nl) % 2).any():
-            return None
+            return None  # a quoted value spanning lines
         comma = comma[np.searchsorted(quote, comma) % 2 == 0]  # a comma inside quotes is part of the value
     per_line = np.diff(np.concatenate(([0], np.searchsorted(comma, nl))))
     starts = np.concatenate(([0], nl[:-1] + 1))
     lengths = nl - starts
-    if b.size:
-        cr = b[np.clip(nl - 1, 0, b.size - 1)] == 13
-        lengths = lengths - (cr & (lengths > 0))
+    cr = b[np.clip(nl - 1, 0, b.size - 1)] == 13
+    lengths = lengths - (cr & (lengths > 0))
     nonempty = lengths > 0
-    lines = np.flatnonzero(nonempty) + 1  # 1-based numbers of the non-empty lines
-    if lines.size == 0 or lines[0] != 1:
-        return None  # an empty first line: the csv module says what is wrong
-    if (per_line[nonempty] != per_line[0]).any():
-        return None  # a row with more or fewer values than the header
-    return lines[1:]
+    counts = per_line[nonempty]
+    if counts.size:
+        if width is None:
+            width = int(counts[0])
+        if (counts != width).any():
+            return None  # a row with more or fewer values than the header
+    return np.flatnonzero(nonempty) + 1 + first_line, width, nl.size
 
 
-def _csv_blocks_arrow(data: bytes, line_numbers, block_rows):
+def _csv_blocks_arrow(f, line_numbers, block_rows):
     import pyarrow as pa
     import pyarrow.csv as pcsv
 
-    header_line = data.split(b"\n", 1)[0].rstrip(b"\r")
+    header_line = f.readline().rstrip(b"\r\n")
+    f.seek(0)
     try:
-        header = next(csv.reader([_decode_strict(header_line)]))
+        header = next(csv.reader([decode(header_line)]))
     except csv.Error as e:
         raise InputError(f"line 1: malformed CSV ({e})") from None
     header = check_header(header)
@@ -192,8 +267,8 @@ def _csv_blocks_arrow(data: bytes, line_numbers, block_rows):
 
     try:
         reader = pcsv.open_csv(
-            pa.py_buffer(data),
-            read_options=pcsv.ReadOptions(column_names=names, skip_rows=1, block_size=4 << 20,
+            f,
+            read_options=pcsv.ReadOptions(column_names=names, skip_rows=1, block_size=1 << 20,
                                           use_threads=True),
             parse_options=pcsv.ParseOptions(invalid_row_handler=on_invalid),
             convert_options=pcsv.ConvertOptions(column_types={c: pa.string() for c in names},
@@ -201,10 +276,12 @@ def _csv_blocks_arrow(data: bytes, line_numbers, block_rows):
         batches = _rebatch(reader, block_rows)
         first = next(batches, None)
     except (pa.ArrowInvalid, UnicodeDecodeError):
-        yield from _csv_blocks_python(data, block_rows)
+        f.seek(0)
+        yield from _csv_blocks_python(f, block_rows)
         return
     if bad_rows:  # a row with another number of values than the header: read by the csv module
-        yield from _csv_blocks_python(data, block_rows)
+        f.seek(0)
+        yield from _csv_blocks_python(f, block_rows)
         return
     pos, seen = 0, False
     try:
@@ -225,7 +302,7 @@ def _csv_blocks_arrow(data: bytes, line_numbers, block_rows):
                     continue
                 seen = True
                 yield "csv", RawBlock({h: None for h in header}, where, arrow=arrow)
-    except _Fallback:  # not expected: _arrow_plan counted every line's values
+    except _Fallback:  # not expected: _scan counted every line's values
         raise InputError(f"line {bad_rows[0].number}: a row has more or fewer values than the header") from None
     except pa.ArrowInvalid as e:
         raise InputError(f"malformed CSV ({e})") from None
@@ -266,11 +343,10 @@ def _not_blank(arrow: dict, n: int):
     return keep
 
 
-def _csv_blocks_python(data: bytes, block_rows):
-    """The csv module's reading of the file, the messages of :func:`fieldpad.formats.records.parse_records`."""
-    text = _decode_strict(data)
-    del data
-    reader = csv.reader(io.StringIO(text, newline=""))
+def _csv_blocks_python(f, block_rows):
+    """The csv module's reading of the file (checked as UTF-8 by :func:`_scan`), the messages of
+    :func:`fieldpad.formats.records.parse_records`."""
+    reader = csv.reader(io.TextIOWrapper(f, encoding="utf-8-sig", newline=""))
     try:
         header = next(reader)
     except csv.Error as e:
@@ -696,7 +772,7 @@ class Spool:
     """Checked blocks kept until every block is checked: in memory up to ``limit`` bytes, then in an
     anonymous temporary file (read back once, in order), so memory stays bounded by a block."""
 
-    def __init__(self, limit: int = 96 << 20):
+    def __init__(self, limit: int = 32 << 20):
         self.limit = limit
         self.mem: list = []
         self.size = 0

@@ -14,13 +14,12 @@ from itertools import chain
 
 import numpy as np
 
-# "0000".."9999" as 4 bytes each; LEAD has the leading zeros as NUL (0 -> "\0\0\00"); FRAC has the
-# trailing zeros as NUL after the first digit, behind a decimal point (0 -> ".0", 5000 -> ".5").
-_DIG = np.frombuffer(b"".join(f"{k:04d}".encode() for k in range(10000)), np.uint8).reshape(10000, 4)
-_LEAD = np.frombuffer(b"".join(f"{k:d}".encode().rjust(4, b"\0") for k in range(10000)),
-                      np.uint8).reshape(10000, 4)
-_FRAC = np.frombuffer(b"".join(("." + (f"{k:04d}".rstrip("0") or "0")).encode().ljust(5, b"\0")
-                               for k in range(10000)), np.uint8).reshape(10000, 5)
+# "0000".."9999" as 4 bytes each (uint32); LEAD has the leading zeros as NUL (0 -> "\0\0\00"); FRAC the
+# trailing zeros as NUL after the first digit (0 -> "0", 5000 -> "5", 1230 -> "123").
+_DIG = np.frombuffer(b"".join(f"{k:04d}".encode() for k in range(10000)), np.uint32)
+_LEAD = np.frombuffer(b"".join(f"{k:d}".encode().rjust(4, b"\0") for k in range(10000)), np.uint32)
+_FRAC = np.frombuffer(b"".join((f"{k:04d}".rstrip("0") or "0").encode().ljust(4, b"\0") for k in range(10000)),
+                      np.uint32)
 _LIMIT = float(2 ** 53)
 
 
@@ -28,45 +27,58 @@ def float_cells(x, *, null: bytes = b"", rounded: bool = True):
     """Cells for float values, as ``repr`` writes them; NaN and infinities are ``null`` (empty for CSV,
     ``null`` for JSON).
 
-    ``rounded``: the values are rounded to 4 decimals first (the result fields); otherwise they are
-    written exactly (stored inputs).  Returns an (N, width) ``uint8`` matrix, or a list of bytes when a
-    value needs more than 4 decimals or 12 integer digits (then written by ``repr``).
+    ``rounded``: the values are rounded to 4 decimals first (the result fields, as ``numpy.round``
+    rounds them); otherwise they are written exactly (stored inputs).  Returns an (N, width) ``uint8``
+    matrix, or a list of bytes when a value needs more than 4 decimals or 12 integer digits (then written by
+    ``repr``).
+
+    Notes
+    -----
+    A value rounded to 4 decimals is ``k / 10**4`` for an integer ``k`` below 2**53, the double nearest
+    that decimal; ``repr`` writes the shortest text that reads back as the same double, which is that
+    decimal without its trailing zeros (at least one digit after the point).  So the digits of ``k`` are
+    the text, and they are looked up four at a time.
     """
     x = np.asarray(x, dtype=float)
     n = x.shape[0]
-    y = np.round(x, 4) if rounded else x
-    fin = np.isfinite(y)
     with np.errstate(invalid="ignore"):
-        k = np.rint(y * 1e4)
-        ok = fin & (np.abs(k) < _LIMIT)
+        k = np.rint(x * 1e4)  # numpy.round(x, 4) is rint(x * 1e4) / 1e4
+        ok = np.abs(k) < _LIMIT
         if not rounded:
-            ok &= k / 1e4 == y
+            ok &= k / 1e4 == x
+    fin = np.isfinite(x)
     if not ok[fin].all():
+        y = np.round(x, 4) if rounded else x
         return [repr(v).encode() if v == v and abs(v) != float("inf") else null for v in y.tolist()]
-    a = np.where(ok, np.abs(k), 0).astype(np.int64)
-    ip, fp = np.divmod(a, 10000)
+    neg = np.signbit(k)
+    a = np.abs(k)
+    a[~ok] = 0.0
+    a = a.astype(np.int64)
+    ip = a // 10000
+    fp = a - ip * 10000
     top = int(ip.max()) if n else 0
     groups = 1 if top < 10**4 else 2 if top < 10**8 else 3
-    width = 1 + 4 * groups + 5
+    width = 1 + 4 * groups + 1 + 4
     m = np.empty((n, width), np.uint8)
-    m[:, 0] = np.where(np.signbit(y) & ok, 45, 0)
-    rest = ip
-    g = []
-    for _ in range(groups):
-        rest, part = np.divmod(rest, 10000)
-        g.append(part)
-    g.reverse()  # most significant first
+    m[:, 0] = neg * np.uint8(45)
     if groups == 1:
-        m[:, 1:5] = _LEAD[g[0]]
+        m[:, 1:5].view(np.uint32)[:, 0] = _LEAD[ip]
     else:
+        g = []
+        rest = ip
+        for _ in range(groups):
+            rest, part = np.divmod(rest, 10000)
+            g.append(part)
+        g.reverse()  # most significant first
         higher = np.zeros(n, bool)  # a nonzero group to the left
         for j, part in enumerate(g):
             last = j == groups - 1
             lead = ~higher & ((part > 0) | last)
-            cell = np.where(higher[:, None], _DIG[part], np.where(lead[:, None], _LEAD[part], 0))
-            m[:, 1 + 4 * j:5 + 4 * j] = cell
+            cell = np.where(higher, _DIG[part], np.where(lead, _LEAD[part], 0))
+            m[:, 1 + 4 * j:5 + 4 * j].view(np.uint32)[:, 0] = cell
             higher |= part > 0
-    m[:, 1 + 4 * groups:] = _FRAC[fp]
+    m[:, 1 + 4 * groups] = 46  # "."
+    m[:, 2 + 4 * groups:].view(np.uint32)[:, 0] = _FRAC[fp]
     bad = ~ok
     if bad.any():
         m[bad] = 0
@@ -259,3 +271,28 @@ def result_parts_json(result, labels=("A", "B", "C"), standards=None, *, indent=
             parts.append(_cells(cols[f], json_text, b"null"))
     parts.append(b"\n" + indent + b"}")
     return parts
+
+
+#: Rows formatted at a time: the byte matrix of a sub-block stays a few MB.
+WRITE_ROWS = 8_192
+
+
+def slices(result, rows: int = WRITE_ROWS):
+    """``(lo, hi, part)``: the analysis of rows lo..hi (an :class:`fieldpad.core.analysis.Analysis` of its
+    own), ``rows`` at a time."""
+    from ..core.analysis import Analysis
+
+    n = result.n
+    if n <= rows:
+        yield 0, n, result
+        return
+
+    def cut(x, lo, hi):
+        return x if isinstance(x, str) or np.ndim(x) == 0 else x[lo:hi]
+
+    for lo in range(0, n, rows):
+        hi = min(n, lo + rows)
+        values = {k: v[lo:hi] for k, v in result.values.items()}
+        findings = [(code, sev, mask[lo:hi], cut(v, lo, hi), cut(t, lo, hi), unit, cut(p, lo, hi))
+                    for code, sev, mask, v, t, unit, p in result.findings]
+        yield lo, hi, Analysis(n=hi - lo, values=values, findings=findings)
