@@ -24,24 +24,38 @@ def check_stream(stream, *, block_rows=None):
     """
     from ..formats.columns import BLOCK_ROWS, Spool, check_block, problem_lines, read_blocks
 
+    from . import nphase
+
     spool = Spool()
     lines: list = []
     count = 0
     kind = None
+    n_phase = None  # (largest number of phases, any currents) for a file of n-phase sets
     for block_kind, raw in read_blocks(stream, block_rows=block_rows or BLOCK_ROWS):
+        if kind is None and nphase.is_nphase(raw):
+            n_phase = (2, False)
         kind = block_kind
-        clean, problems = check_block(raw)
+        if n_phase is not None:
+            (ni, cols, has_i), problems = nphase.check_block(raw)
+        else:
+            clean, problems = check_block(raw)
         if problems:
             count += len(problems)
             if len(lines) < 10_000:
-                lines.extend(problem_lines(clean, problems[:10_000 - len(lines)]))
+                lines.extend(problem_lines(raw, problems[:10_000 - len(lines)]))
             spool.close()
             continue
         if count:
             continue  # nothing will be written: keep nothing
+        if n_phase is not None:
+            n_phase = (max(n_phase[0], int(ni.max())), n_phase[1] or bool(has_i.any()))
+            spool.add((ni, cols, has_i), sum(v.nbytes for v in cols.values()) + 9 * raw.n, raw.n)
+            continue
         cols = {k: v for k, v in clean.cols.items() if clean.given[k].any()}
-        nbytes = sum(v.nbytes for v in cols.values()) + 2 * clean.n
+        nbytes = sum(v.nbytes for v in clean.cols.values()) + 2 * clean.n
         spool.add((cols, clean.system, clean.standard), nbytes, clean.n)
+    if n_phase is not None:
+        kind = (kind, n_phase)
     return kind, spool, lines, count
 
 
@@ -64,6 +78,12 @@ def write_results(spool, kind: str, fmt: str, out) -> None:
     elif isinstance(out, io.TextIOBase):
         def write(b, _w=out.write):
             _w(b.decode("utf-8"))
+    if isinstance(kind, tuple):  # n-phase sets
+        from . import nphase
+
+        (kind, (m, currents)) = kind
+        nphase.write(spool, kind, fmt, write, m, currents)
+        return
     first = True
     if fmt == "csv":
         write((",".join(RESULT_FIELDS) + "\n").encode())
