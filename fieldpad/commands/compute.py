@@ -23,7 +23,6 @@ def check_stream(stream, *, block_rows=None):
     cannot be read at all.
     """
     from ..formats.columns import BLOCK_ROWS, Spool, check_block, problem_lines, read_blocks
-
     from . import nphase
 
     spool = Spool()
