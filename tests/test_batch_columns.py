@@ -154,3 +154,19 @@ def test_header_check_is_linear():
     code, _, err = compute((header + "1\n").encode(), "csv")
     assert code == 2 and "named twice in the header: x5" in err[0]
     assert time.perf_counter() - t < 20  # the quadratic check took minutes
+
+
+@pytest.mark.parametrize("form", ["csv", "json"])
+def test_records_cut_by_the_read_chunks(form, monkeypatch):
+    # The file is read a chunk at a time: records, numbers and lines cut anywhere give the same results.
+    import fieldpad.formats.columns as columns
+
+    monkeypatch.setattr(columns, "CHUNK_BYTES", 97)
+    monkeypatch.setattr(columns, "BLOCK_ROWS", 7)
+    rng = random.Random(11)
+    recs = [realistic(rng) for _ in range(60)]
+    data = to_csv(recs) if form == "csv" else json.dumps(recs, indent=1).encode()
+    want, want_problems = reference(data, "json")
+    code, out, err = compute(data, "json")
+    assert err[:20] == want_problems[:20]
+    assert out == want

@@ -251,6 +251,10 @@ def _csv_blocks_arrow(f, line_numbers, block_rows):
     import pyarrow as pa
     import pyarrow.csv as pcsv
 
+    # The C library's allocator (set up by fieldpad.commands.batch_memory) rather than pyarrow's own, which
+    # keeps what it freed for itself: memory stays bounded by the block.
+    pa.set_memory_pool(pa.system_memory_pool())
+
     header_line = f.readline().rstrip(b"\r\n")
     f.seek(0)
     try:
@@ -475,7 +479,8 @@ def _json_blocks(head: bytes, stream, block_rows):
                     continue  # a number cut off at the end of the buffer
                 break
             except json.JSONDecodeError as e:
-                if e.pos >= len(buf) - 1 and fill():
+                # A record cut off at the end of the buffer: read on (a record is never this large).
+                if len(buf) - pos < (64 << 20) and fill():
                     continue
                 raise malformed(e.msg, e.pos) from None
             except RecursionError:

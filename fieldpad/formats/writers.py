@@ -131,6 +131,14 @@ def fixed_text(values, quote) -> np.ndarray | list:
     return arr.view(np.uint8).reshape(len(out), width)
 
 
+def ascii_cells(values) -> np.ndarray:
+    """Cells for text known to need no quoting and to be ASCII (ids, stored UTC times, system names,
+    numbers as text); None is empty."""
+    arr = np.array(["" if v is None else v for v in values], dtype="S")
+    width = max(arr.dtype.itemsize, 1)
+    return arr.view(np.uint8).reshape(len(values), width) if len(values) else np.zeros((0, 1), np.uint8)
+
+
 def assemble(parts, n: int) -> bytes:
     """The text of ``n`` rows made of ``parts`` (see the module docstring)."""
     if n == 0:

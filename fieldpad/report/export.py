@@ -29,7 +29,7 @@ ADDED_FIELDS = ("version_id", "taken_at_local")
 CSV_FIELDS = META_FIELDS + INPUT_FIELDS + RESULT_COLUMNS + ("findings",) + ADDED_FIELDS
 LOCAL_FORMAT = "%Y-%m-%d %H:%M:%S %z"
 #: Readings analysed and written per block by the streaming exports.
-EXPORT_BLOCK = 65_536
+EXPORT_BLOCK = 40_000  # above the analysis's split size (2 x 16,384): its threads share a block
 #: Text that a spreadsheet would run as a formula starts with one of these.
 USER_TEXT = ("site", "board", "technician", "instrument", "round", "note", "reason")
 
@@ -199,12 +199,14 @@ def write_csv(db, out, *, day=None, site=None) -> int:
     """The CSV export (:func:`to_csv` of :func:`export_records`, the same bytes) written to the binary
     stream ``out`` a block at a time; returns the number of readings, or -1 when ``site`` names no site."""
     from ..formats.writers import (
+        ascii_cells,
         assemble,
         csv_text,
         findings_csv_cells,
         fixed_text,
         float_cells,
         result_columns,
+        slices,
         vocab_cells,
     )
 
@@ -218,35 +220,39 @@ def write_csv(db, out, *, day=None, site=None) -> int:
         return csv_text(formula_guard(v))
 
     for block in _blocks(cursor):
-        cols, result, labels, _std = _analyse(block)
-        n = result.n
-        parts = []
-        for f in META_FIELDS:
-            values = block[{"site": "site_name", "board": "board_name", "round": "round_label"}.get(f, f)]
-            if f == "version":
-                parts.append(fixed_text([str(v) for v in values], csv_text))
-            else:
-                parts.append(fixed_text(values, guarded if f in USER_TEXT else csv_text))
+        cols, whole, labels, _std = _analyse(block)
+        for lo, hi, result in slices(whole):
+            n = hi - lo
+            parts = []
+            for f in META_FIELDS:
+                values = block[{"site": "site_name", "board": "board_name", "round": "round_label"}.get(f, f)][lo:hi]
+                if f == "version":
+                    parts.append(ascii_cells([str(v) for v in values]))
+                elif f in ("taken_at", "reading_id", "recorded_at"):
+                    parts.append(ascii_cells(values))
+                else:
+                    parts.append(fixed_text(values, guarded if f in USER_TEXT else csv_text))
+                parts.append(b",")
+            for f in ("system", "standard"):
+                parts.append(ascii_cells(block[f][lo:hi]))
+                parts.append(b",")
+            for f in NUMERIC_FIELDS:
+                parts.append(float_cells(cols[f][lo:hi], rounded=False))
+                parts.append(b",")
+            rc = result_columns(result, labels)
+            for f in RESULT_COLUMNS:
+                kind = rc[f]
+                parts.append(float_cells(kind[1]) if kind[0] == "num"
+                             else vocab_cells(kind[1], kind[2], quote=csv_text))
+                parts.append(b",")
+            parts.append(findings_csv_cells(result, labels))
             parts.append(b",")
-        for f in ("system", "standard"):
-            parts.append(fixed_text(block[f], csv_text))
+            parts.append(ascii_cells(block["id"][lo:hi]))
             parts.append(b",")
-        for f in NUMERIC_FIELDS:
-            parts.append(float_cells(cols[f], rounded=False))
-            parts.append(b",")
-        rc = result_columns(result, labels)
-        for f in RESULT_COLUMNS:
-            kind = rc[f]
-            parts.append(float_cells(kind[1]) if kind[0] == "num" else vocab_cells(kind[1], kind[2], quote=csv_text))
-            parts.append(b",")
-        parts.append(findings_csv_cells(result, labels))
-        parts.append(b",")
-        parts.append(fixed_text(block["id"], csv_text))
-        parts.append(b",")
-        parts.append(fixed_text(local_times(block["taken_at"]), csv_text))
-        parts.append(b"\r\n")
-        out.write(assemble(parts, n))
-        count += n
+            parts.append(ascii_cells(local_times(block["taken_at"][lo:hi])))
+            parts.append(b"\r\n")
+            out.write(assemble(parts, n))
+            count += n
     return count
 
 

@@ -42,6 +42,8 @@ EXPORT_ONLY = ("reason", "recorded_at", "taken_at_local") + tuple(RESULT_FIELDS)
 TEXT_LIMITS = {"site": 200, "board": 200, "technician": 200, "round": 200, "instrument": 200, "note": 10_000}
 #: Rows stored per INSERT batch inside the one transaction.
 BATCH = 20_000
+#: Rows read and checked at a time (no analysis here, so no need for the analysis's thread-sized blocks).
+IMPORT_ROWS = 16_384
 _SYSTEM_NAME = {v: k for k, v in SYSTEMS.items()}
 _STD_NAME = {0: "ansi", 1: "iec"}
 _UTC_Z = re.compile(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d(?:\.\d{1,6})?Z")
@@ -164,6 +166,50 @@ def _id_cells(values, name, problems):
     return out
 
 
+def _inputs_json(raw, fields, keep) -> list:
+    """``inputs_json`` of each row to store (None for the others): the values as typed, every reading field
+    given and not empty, keys sorted, as ``json.dumps(..., ensure_ascii=False, sort_keys=True)`` writes
+    them; a row without ``system`` gets a placeholder for its board's (see :data:`_BOARD_SYSTEM`).
+
+    From CSV (text cells, pyarrow columns) the text is joined column by column: a value that passed the
+    checks has no quote, backslash or control character, so it needs no escaping."""
+    names = sorted(set(fields) | {"system"})
+    if raw.arrow is None:
+        out = []
+        for i in range(raw.n):
+            if not keep[i]:
+                out.append(None)
+                continue
+            rec = _typed_inputs(raw, i, fields)
+            rec.setdefault("system", "\x00")
+            out.append(json.dumps(rec, ensure_ascii=False, sort_keys=True))
+        return out
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    n = raw.n
+    pieces = []
+    for f in names:
+        col = raw.arrow.get(f) if f in fields else None
+        if col is None:  # no system column: every row takes its board's
+            pieces.append(pa.array([', "system": ' + _BOARD_SYSTEM] * n, pa.string()))
+            continue
+        empty = pc.equal(col, "")
+        piece = pc.binary_join_element_wise(f', "{f}": "', col, '"', "")
+        if f == "system":
+            piece = pc.if_else(empty, ', "system": ' + _BOARD_SYSTEM, piece)
+        else:
+            piece = pc.if_else(empty, "", piece)
+        pieces.append(piece)
+    joined = pc.binary_join_element_wise(*pieces, "").to_pylist()
+    return [None if not k else "{" + j[2:] + "}" for j, k in zip(joined, keep.tolist())]
+
+
+#: Stands for the board's system in a row's ``inputs_json`` until the board is known (a JSON string holding
+#: U+0000, which no checked value contains).
+_BOARD_SYSTEM = '"\\u0000"'
+
+
 def _typed_inputs(raw, i: int, fields) -> dict:
     """The values as typed (what ``inputs_json`` keeps): every reading field given, not empty."""
     from ..formats.columns import _MISSING
@@ -183,7 +229,7 @@ def import_stream(db, stream, progress=None) -> ImportReport:
     ``progress(done, total)`` is called while storing.  Raises
     :class:`fieldpad.formats.records.InputError` for a file that cannot be read.
     """
-    from ..formats.columns import BLOCK_ROWS, Spool, check_block, read_blocks
+    from ..formats.columns import Spool, check_block, read_blocks
 
     report = ImportReport()
     spool = Spool()
@@ -197,7 +243,7 @@ def import_stream(db, stream, progress=None) -> ImportReport:
         if len(report.problems) < 10_000:
             report.problems.append(line)
 
-    for _kind, raw in read_blocks(stream, block_rows=BLOCK_ROWS):
+    for _kind, raw in read_blocks(stream, block_rows=IMPORT_ROWS):
         clean, problems = check_block(raw, extra_fields=META, ignore=EXPORT_ONLY + IDS)
         by_row: dict = {}
         for i, f, r in problems:
@@ -261,17 +307,8 @@ def import_stream(db, stream, progress=None) -> ImportReport:
                 seen_ids.add(rid[i])
         no_id = np.array([not rid[i] for i in range(clean.n)], bool) & keep
         inputs_fields = [f for f in raw.cols if f not in META and f not in EXPORT_ONLY and f not in IDS]
-        inputs_json = []
-        nbytes = 0
-        for i in range(clean.n):
-            if not keep[i]:
-                inputs_json.append(None)
-                continue
-            rec = _typed_inputs(raw, i, inputs_fields)
-            rec.setdefault("system", "\x00")  # the board's, once it is known (json.dumps writes \u0000)
-            js = json.dumps(rec, ensure_ascii=False, sort_keys=True)
-            nbytes += len(js) + 50
-            inputs_json.append(js)
+        inputs_json = _inputs_json(raw, inputs_fields, keep)
+        nbytes = sum(len(j) for j in inputs_json if j) + 50 * clean.n
         block = {
             "keep": keep, "no_id": no_id, "where": clean.where, "cols": clean.cols, "system": clean.system,
             "system_given": system_given, "standard": clean.standard, "standard_given": clean.standard_given,
@@ -288,47 +325,41 @@ def import_stream(db, stream, progress=None) -> ImportReport:
     # The one transaction: sites, boards and rounds as needed, then the rows in batches.
     with write(db):
         site_ids, site_std, board_rows, round_ids = {}, {}, {}, {}
-        existing_keys = None
+        existing = None
         total = spool.rows
         done = 0
         for block in spool:
-            rows = []
             text, cols = block["text"], block["cols"]
             keep = block["keep"]
-            n = len(keep)
-            board_of = [None] * n
+            pairs = {}
             for i in np.flatnonzero(keep).tolist():
-                sname, bname = text["site"][i], text["board"][i]
-                if sname not in site_ids:
-                    s = sites.find_site(db, sname)
-                    if s is None:
-                        std = _STD_NAME[int(block["standard"][i])] if block["standard_given"][i] else "ansi"
-                        site_ids[sname] = sites.create_site(db, sname, voltage_standard=std)
-                        site_std[sname] = std
-                        report.sites_created.append(sname)
-                    else:
-                        site_ids[sname], site_std[sname] = s["id"], s["voltage_standard"]
-                sid = site_ids[sname]
-                if (sid, bname) not in board_rows:
-                    b = sites.find_board(db, sid, bname)
-                    if b is None:
-                        nominal = cols["nominal_v"][i]
-                        bid = sites.create_board(db, sid, bname, system=_SYSTEM_NAME[int(block["system"][i])],
-                                                 nominal_v=None if nominal != nominal else float(nominal))
-                        b = sites.get_board(db, bid)
-                        report.boards_created.append(f"{sname} / {bname}")
-                    board_rows[(sid, bname)] = b
-                board_of[i] = board_rows[(sid, bname)]
+                pair = (text["site"][i], text["board"][i])
+                if pair not in pairs:
+                    pairs[pair] = _site_and_board(db, pair, block, i, site_ids, site_std, board_rows, report)
+            board_of = [pairs.get((s_, b_)) for s_, b_ in zip(text["site"], text["board"])]
+            nominal = cols["nominal_v"].copy()
+            missing = np.isnan(nominal) & keep
+            if missing.any():
+                board_nominal = np.array([np.nan if b is None or b["nominal_v"] is None else b["nominal_v"]
+                                          for b in board_of], float)
+                nominal[missing] = board_nominal[missing]
+            values = {f: (nominal if f == "nominal_v" else cols[f]) for f in NUMERIC_FIELDS}
             # Records without an id that repeat a stored reading, or an earlier one of this file: a hash of
             # (board, time, values) finds the candidates, the database says whether one really is.
-            if block["no_id"].any():
-                if existing_keys is None:
-                    existing_keys = _stored_key_hashes(db, {b["id"] for b in board_rows.values()})
+            no_id = block["no_id"]
+            if no_id.any():
+                if existing is None:
+                    existing = _stored_key_hashes(db, {b["id"] for b in board_rows.values()})
+                board_ids = [None if b is None else b["id"] for b in board_of]
+                hashes = _key_hashes(board_ids, block["taken_at"], values).tolist()
                 here: dict = {}  # this block's rows (earlier blocks are stored already)
-                for i in np.flatnonzero(block["no_id"]).tolist():
-                    k = _value_key(board_of[i], block["taken_at"][i], cols, i)
-                    h = hash(k)
-                    if here.get(h) == k or (h in existing_keys and h not in here and _stored(db, k)):
+                for i in np.flatnonzero(no_id).tolist():
+                    h = hashes[i]
+                    j = here.get(h)
+                    same = (j is not None and _row_key(board_ids, block["taken_at"], values, j)
+                            == _row_key(board_ids, block["taken_at"], values, i))
+                    if same or (j is None and h in existing
+                                and _stored(db, _row_key(board_ids, block["taken_at"], values, i))):
                         keep[i] = False
                         report.repeat_count += 1
                         if len(report.repeats) < 10_000:
@@ -336,54 +367,139 @@ def import_stream(db, stream, progress=None) -> ImportReport:
                                                   f"{text['board'][i]!r} at {block['taken_at'][i]} with the "
                                                   "same values; not imported again")
                         continue
-                    existing_keys.add(h)
-                    here.setdefault(h, k)
-            ids = block["ids"]
-            now = utc_now()
-            for i in np.flatnonzero(keep).tolist():
-                board = board_of[i]
-                sname = text["site"][i]
-                sid = site_ids[sname]
-                rid = None
-                rlabel = text["round"][i]
-                if rlabel:
-                    key = (sid, rlabel)
-                    if key not in round_ids:
-                        found = db.conn.execute("SELECT id FROM round WHERE site_id = ? AND label = ? LIMIT 1",
-                                                key).fetchone()
-                        round_ids[key] = found[0] if found else _start_round(
-                            db, sid, text["technician"][i], rlabel, block["taken_at"][i])
-                    rid = round_ids[key]
-                inputs = block["inputs"][i].replace('"\\u0000"', json.dumps(board["system"]), 1)
-                values = [None if x != x else x for x in (float(cols[f][i]) for f in NUMERIC_FIELDS)]
-                if values[0] is None:
-                    values[0] = board["nominal_v"]
-                reading_id, version, vid = ids["reading_id"][i], ids["version"][i] or 1, ids["version_id"][i]
-                if vid is None:
-                    # Version 1 of a reading has the reading's id (storage/versions.py).
-                    vid = reading_id if reading_id and version == 1 else uuid7()
-                reading_id = reading_id or vid
-                rows.append((
-                    vid, reading_id, version, None, board["id"], rid, block["taken_at"][i],
-                    text["technician"][i], text["instrument"][i], text["note"][i], 0, None, now,
-                    text["technician"][i], inputs,
-                    _SYSTEM_NAME[int(block["system"][i])] if block["system_given"][i] else board["system"],
-                    _STD_NAME[int(block["standard"][i])] if block["standard_given"][i] else site_std[sname],
-                    *values,
-                ))
-                if len(rows) >= BATCH:
-                    _insert(db, rows)
-                    done += len(rows)
-                    rows = []
-                    if progress:
-                        progress(done, total)
-            if rows:
-                _insert(db, rows)
-                done += len(rows)
+                    existing.add(h)
+                    here.setdefault(h, i)
+            idx = np.flatnonzero(keep)
+            if not idx.size:
+                continue
+            rows = _rows(db, block, idx, board_of, values, site_ids, site_std, round_ids)
+            for k in range(0, len(rows), BATCH):
+                _insert(db, rows[k:k + BATCH])
+                done += len(rows[k:k + BATCH])
+                if progress:
+                    progress(done, total)
         if progress:
             progress(total, total)
     report.readings = done
     return report
+
+
+def _site_and_board(db, pair, block, i, site_ids, site_std, board_rows, report):
+    """The board row for (site name, board name), creating the site and the board as needed (inside the
+    import's transaction)."""
+    sname, bname = pair
+    if sname not in site_ids:
+        s = sites.find_site(db, sname)
+        if s is None:
+            std = _STD_NAME[int(block["standard"][i])] if block["standard_given"][i] else "ansi"
+            site_ids[sname] = sites.create_site(db, sname, voltage_standard=std)
+            site_std[sname] = std
+            report.sites_created.append(sname)
+        else:
+            site_ids[sname], site_std[sname] = s["id"], s["voltage_standard"]
+    sid = site_ids[sname]
+    if (sid, bname) not in board_rows:
+        b = sites.find_board(db, sid, bname)
+        if b is None:
+            nominal = block["cols"]["nominal_v"][i]
+            bid = sites.create_board(db, sid, bname, system=_SYSTEM_NAME[int(block["system"][i])],
+                                     nominal_v=None if nominal != nominal else float(nominal))
+            b = sites.get_board(db, bid)
+            report.boards_created.append(f"{sname} / {bname}")
+        board_rows[(sid, bname)] = b
+    return board_rows[(sid, bname)]
+
+
+def _rows(db, block, idx, board_of, values, site_ids, site_std, round_ids) -> list:
+    """The reading rows (tuples in :data:`_COLUMNS` order) of the block's rows ``idx``, built column by column."""
+    text, ids = block["text"], block["ids"]
+    sel = idx.tolist()
+    m = len(sel)
+    boards = [board_of[i] for i in sel]
+    technician = [text["technician"][i] for i in sel]
+    taken = [block["taken_at"][i] for i in sel]
+    round_col = []
+    for i, t_ in zip(sel, taken):
+        label = text["round"][i]
+        if not label:
+            round_col.append(None)
+            continue
+        sid = site_ids[text["site"][i]]
+        key = (sid, label)
+        if key not in round_ids:
+            found = db.conn.execute("SELECT id FROM round WHERE site_id = ? AND label = ? LIMIT 1", key).fetchone()
+            round_ids[key] = found[0] if found else _start_round(db, sid, text["technician"][i], label, t_)
+        round_col.append(round_ids[key])
+    reading_id = [ids["reading_id"][i] for i in sel]
+    version = [ids["version"][i] or 1 for i in sel]
+    vid = [ids["version_id"][i] for i in sel]
+    fresh = [k for k in range(m) if vid[k] is None and not (reading_id[k] and version[k] == 1)]
+    new_ids = uuid7_many(len(fresh))
+    for k, v in zip(fresh, new_ids):
+        vid[k] = v
+    for k in range(m):
+        if vid[k] is None:  # version 1 of a reading has the reading's id (storage/versions.py)
+            vid[k] = reading_id[k]
+        if reading_id[k] is None:
+            reading_id[k] = vid[k]
+    system_names = [b["system"] for b in boards]
+    given = block["system_given"][idx]
+    systems = np.asarray(block["system"])[idx].tolist()
+    system_col = [_SYSTEM_NAME[s_] if g else bs for s_, g, bs in zip(systems, given.tolist(), system_names)]
+    std_given = block["standard_given"][idx].tolist()
+    stds = np.asarray(block["standard"])[idx].tolist()
+    std_col = [_STD_NAME[s_] if g else site_std[text["site"][i]] for s_, g, i in zip(stds, std_given, sel)]
+    placeholder = _BOARD_SYSTEM
+    inputs = [block["inputs"][i] for i in sel]
+    inputs = [j.replace(placeholder, json.dumps(bs), 1) if placeholder in j else j for j, bs in zip(inputs,
+                                                                                                     system_names)]
+    now = utc_now()
+    numbers = [values[f][idx].tolist() for f in NUMERIC_FIELDS]  # NaN is stored as NULL by SQLite
+    consts = [None] * m
+    return list(zip(vid, reading_id, version, consts, [b["id"] for b in boards], round_col, taken, technician,
+                    [text["instrument"][i] for i in sel], [text["note"][i] for i in sel], [0] * m, consts,
+                    [now] * m, technician, inputs, system_col, std_col, *numbers))
+
+
+def uuid7_many(n: int) -> list:
+    """``n`` new UUIDv7 texts (RFC 9562 section 5.7), as :func:`fieldpad.storage.ids.uuid7` makes them, at once."""
+    import os
+    import time
+
+    if n == 0:
+        return []
+    ms = time.time_ns() // 1_000_000
+    raw = np.frombuffer(os.urandom(16 * n), np.uint8).reshape(n, 16).copy()
+    raw[:, :6] = np.frombuffer((ms & ((1 << 48) - 1)).to_bytes(6, "big"), np.uint8)
+    raw[:, 6] = 0x70 | (raw[:, 6] & 0x0F)  # version 7
+    raw[:, 8] = 0x80 | (raw[:, 8] & 0x3F)  # RFC 9562 variant
+    hexd = np.frombuffer(b"0123456789abcdef", np.uint8)
+    chars = np.empty((n, 36), np.uint8)
+    pos = [k for k in range(36) if k not in (8, 13, 18, 23)]
+    chars[:, [8, 13, 18, 23]] = ord("-")
+    nib = np.empty((n, 32), np.uint8)
+    nib[:, 0::2] = raw >> 4
+    nib[:, 1::2] = raw & 0x0F
+    chars[:, pos] = hexd[nib]
+    return chars.view("S36").ravel().astype(str).tolist()
+
+
+def _row_key(board_ids, taken, values, i):
+    return (board_ids[i], taken[i], *[None if x != x else float(x) for x in (values[f][i] for f in NUMERIC_FIELDS)])
+
+
+def _key_hashes(board_ids, taken, values) -> np.ndarray:
+    """A 64-bit hash of (board, time, values) per row (NaN as one value), computed column by column."""
+    n = len(board_ids)
+    h = np.array([hash(b) for b in board_ids], np.int64).view(np.uint64)
+    h = h * np.uint64(0x9E3779B97F4A7C15) ^ np.array([hash(t) for t in taken], np.int64).view(np.uint64)
+    canon = np.float64(np.nan).view(np.uint64)
+    for f in NUMERIC_FIELDS:
+        x = np.asarray(values[f], float)
+        bits = np.where(np.isnan(x), canon, (x + 0.0).view(np.uint64))  # + 0.0: -0.0 and 0.0 are one value
+        h = (h ^ bits) * np.uint64(0x100000001B3)
+        h ^= h >> np.uint64(29)
+    return h.view(np.int64)[:n]
 
 
 _COLUMNS = ("id", "reading_id", "version", "supersedes", "board_id", "round_id", "taken_at", "technician",
@@ -436,7 +552,7 @@ def _value_key(board, taken_at, cols, i):
 
 
 def _stored_key_hashes(db, board_ids) -> set:
-    """Hashes of (board, time, values) of every stored version of the boards' readings."""
+    """:func:`_key_hashes` of every stored version of the boards' readings."""
     out = set()
     cols = ", ".join(NUMERIC_FIELDS)
     ids = list(board_ids)
@@ -445,10 +561,12 @@ def _stored_key_hashes(db, board_ids) -> set:
         cur = db.conn.execute(f"SELECT board_id, taken_at, {cols} FROM reading WHERE board_id IN "
                               f"({', '.join('?' * len(part))})", part)
         while True:
-            batch = cur.fetchmany(10_000)
+            batch = cur.fetchmany(65_536)
             if not batch:
                 break
-            out.update(hash(tuple(float(x) if isinstance(x, int) else x for x in r)) for r in batch)
+            c = list(zip(*batch))
+            values = {f: np.array(c[2 + j], dtype=float) for j, f in enumerate(NUMERIC_FIELDS)}
+            out.update(_key_hashes(list(c[0]), list(c[1]), values).tolist())
     return out
 
 
