@@ -111,6 +111,34 @@ def csv_text(value) -> bytes:
     return s.encode("utf-8")
 
 
+_encode_str = json.encoder.encode_basestring  # the C function json.dumps(..., ensure_ascii=False) uses
+
+
+def _json_scalar(v) -> str:
+    if v is None:
+        return "null"
+    t = type(v)
+    if t is str:
+        return _encode_str(v)
+    if t is float:
+        return float.__repr__(v) if v == v and v not in (float("inf"), float("-inf")) else json.dumps(v)
+    if t is bool:
+        return "true" if v else "false"
+    if t is int:
+        return int.__repr__(v)
+    return json.dumps(v, ensure_ascii=False)
+
+
+def flat_dicts_json(items: list, pad: str = "") -> str:
+    """``json.dumps(items, ensure_ascii=False, indent=2)`` for a list of flat dicts (values None, text or
+    numbers), each line after the first indented by ``pad`` more; the same text, without the pure-Python
+    encoder that ``indent`` brings."""
+    inner = "\n" + pad + "    "
+    body = ("\n" + pad + "  },\n" + pad + "  {").join(
+        inner + ("," + inner).join(f"{_encode_str(k)}: {_json_scalar(v)}" for k, v in d.items()) for d in items)
+    return "[\n" + pad + "  {" + body + "\n" + pad + "  }\n" + pad + "]"
+
+
 def json_text(value) -> bytes:
     return json.dumps(value, ensure_ascii=False).encode("utf-8")
 
@@ -272,9 +300,8 @@ def result_parts_json(result, labels=("A", "B", "C"), standards=None, *, indent=
         parts.append((b"" if f == RESULT_FIELDS[0] else b",") + lead + json.dumps(f).encode() + b": ")
         if f == "findings":
             fl = findings_lists(result, labels, standards)
-            nl = b"\n" + indent + b"  "
-            parts.append([json.dumps(x, ensure_ascii=False, indent=2).encode().replace(b"\n", nl) if x else b"[]"
-                          for x in fl])
+            pad = (indent + b"  ").decode()
+            parts.append([flat_dicts_json(x, pad).encode() if x else b"[]" for x in fl])
         else:
             parts.append(_cells(cols[f], json_text, b"null"))
     parts.append(b"\n" + indent + b"}")

@@ -114,21 +114,28 @@ def bare_insert(csv_path, db_path):
 
     from fieldpad.storage.db import open_db
 
+    from fieldpad.storage.importer import uuid7_many
+
     db = open_db(db_path)
-    site, board = str(uuid.uuid4()), str(uuid.uuid4())
+    site = str(uuid.uuid4())
     now = "2026-12-01T00:00:00.000000Z"
     db.conn.execute("INSERT INTO site (id, name, created_at, updated_at) VALUES (?, 'Bench', ?, ?)",
                     (site, now, now))
-    db.conn.execute("INSERT INTO board (id, site_id, name, created_at, updated_at) VALUES (?, ?, 'B', ?, ?)",
-                    (board, site, now, now))
+    with open(csv_path, newline="") as f:
+        records = list(csv.DictReader(f))
+    boards = {}
+    for r in records:  # the same boards as the file's
+        if r["board"] not in boards:
+            boards[r["board"]] = b = uuid7_many(1)[0]
+            db.conn.execute("INSERT INTO board (id, site_id, name, created_at, updated_at) VALUES (?, ?, ?, ?, ?)",
+                            (b, site, r["board"], now, now))
     db.conn.commit()
     rows = []
-    with open(csv_path, newline="") as f:
-        for r in csv.DictReader(f):
-            rid = str(uuid.uuid4())
-            rows.append((rid, rid, 1, None, board, None, r["taken_at"], r["technician"], None, None, 0, None, now,
-                         r["technician"], json.dumps({k: r[k] for k in NUMERIC}), "wye", "ansi",
-                         *[float(r[k]) for k in NUMERIC], None, None, None, None, None, None))
+    ids = uuid7_many(len(records))  # the ids fieldpad gives (time-ordered UUIDv7: the index grows at its end)
+    for rid, r in zip(ids, records):
+        rows.append((rid, rid, 1, None, boards[r["board"]], None, r["taken_at"], r["technician"], None, None, 0, None, now,
+                     r["technician"], json.dumps({k: r[k] for k in NUMERIC}), "wye", "ansi",
+                     *[float(r[k]) for k in NUMERIC], None, None, None, None, None, None))
     cols = ("id", "reading_id", "version", "supersedes", "board_id", "round_id", "taken_at", "technician",
             "instrument", "note", "void", "reason", "recorded_at", "recorded_by", "inputs_json", "system",
             "standard") + NUMERIC + ("vab", "vbc", "vca", "vab_deg", "vbc_deg", "vca_deg")
