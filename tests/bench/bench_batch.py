@@ -113,7 +113,6 @@ def bare_insert(csv_path, db_path):
     import uuid
 
     from fieldpad.storage.db import open_db
-
     from fieldpad.storage.importer import uuid7_many
 
     db = open_db(db_path)
@@ -133,8 +132,8 @@ def bare_insert(csv_path, db_path):
     rows = []
     ids = uuid7_many(len(records))  # the ids fieldpad gives (time-ordered UUIDv7: the index grows at its end)
     for rid, r in zip(ids, records):
-        rows.append((rid, rid, 1, None, boards[r["board"]], None, r["taken_at"], r["technician"], None, None, 0, None, now,
-                     r["technician"], json.dumps({k: r[k] for k in NUMERIC}), "wye", "ansi",
+        rows.append((rid, rid, 1, None, boards[r["board"]], None, r["taken_at"], r["technician"], None, None, 0,
+                     None, now, r["technician"], json.dumps({k: r[k] for k in NUMERIC}), "wye", "ansi",
                      *[float(r[k]) for k in NUMERIC], None, None, None, None, None, None))
     cols = ("id", "reading_id", "version", "supersedes", "board_id", "round_id", "taken_at", "technician",
             "instrument", "note", "void", "reason", "recorded_at", "recorded_by", "inputs_json", "system",
