@@ -24,6 +24,15 @@ FIELDS = {"va": "V", "vb": "V", "vc": "V", "vab": "V", "vbc": "V", "vca": "V", "
           "vbc_deg": "deg", "vca_deg": "deg", "ia_deg": "deg", "ib_deg": "deg", "ic_deg": "deg"}
 
 
+@pytest.fixture(autouse=True, params=["pyarrow", "csv module"])
+def reader(request, monkeypatch):
+    """Every test with each CSV reader: pyarrow's (files of 1 MiB and more) and the csv module's (smaller)."""
+    import fieldpad.formats.columns as columns
+
+    monkeypatch.setattr(columns, "SMALL_BYTES", 0 if request.param == "pyarrow" else 1 << 40)
+    return request.param
+
+
 def realistic(rng):
     """A reading of a scenario of our own: a 480Y/277 board, sometimes miswired or half entered."""
     system = rng.choice(["wye", "wye", "delta", "high-leg-delta", "split-phase", ""])

@@ -239,6 +239,14 @@ class TestStreamingExport:
             assert r["version_id"] and r["reading_id"]
 
 
+@pytest.fixture(params=["pyarrow", "csv module"])
+def both_readers(request, monkeypatch):
+    import fieldpad.formats.columns as columns
+
+    monkeypatch.setattr(columns, "SMALL_BYTES", 0 if request.param == "pyarrow" else 1 << 40)
+
+
+@pytest.mark.usefixtures("both_readers")
 class TestIdempotentImport:
     def test_export_then_import_into_the_same_database_adds_nothing(self, tmp_path):
         a = open_db(tmp_path / "a.db")

@@ -53,6 +53,9 @@ from .records import (
 #: Rows per block: large enough that the analysis splits a block over its threads
 #: (``fieldpad.core.analysis`` splits above 2 x its own block of 16,384), small enough to bound memory.
 BLOCK_ROWS = 65_536
+#: A CSV file smaller than this is read by the csv module (pyarrow is not even loaded: the demo site and a
+#: day's file do not pay for its start-up).
+SMALL_BYTES = 1 << 20
 #: Bytes read from a file at a time.
 CHUNK_BYTES = 2 << 20
 
@@ -130,7 +133,10 @@ def _decode_strict(data: bytes) -> str:
 def _csv_blocks(head: bytes, stream, block_rows):
     f = _seekable(head, stream)
     try:
-        plan = _scan(f)
+        f.seek(0, 2)
+        small = f.tell() < SMALL_BYTES
+        f.seek(0)
+        plan = _scan(f, arrow=not small)
         f.seek(0)
         if plan is None:
             yield from _csv_blocks_python(f, block_rows)
@@ -163,16 +169,16 @@ def _seekable(head: bytes, stream):
     return f
 
 
-def _scan(f):
+def _scan(f, arrow: bool = True):
     """One pass over the file in chunks: refuses text that is not UTF-8 or holds NUL bytes (the messages of
     :func:`fieldpad.formats.records.decode`), and returns the line numbers of the data rows when pyarrow can
     read the file row for line (every line has the header's number of values, no quoted value spans lines,
     no bare carriage return), else None."""
-    try:
-        import pyarrow  # noqa: F401
-        arrow = True
-    except ImportError:  # pragma: no cover - a dependency; the csv module reads the file then
-        arrow = False
+    if arrow:
+        try:
+            import pyarrow  # noqa: F401
+        except ImportError:  # pragma: no cover - a dependency; the csv module reads the file then
+            arrow = False
     dec = codecs.getincrementaldecoder("utf-8-sig")()
     carry = b""
     lines_before = 0  # line ends in the chunks decoded so far
