@@ -129,13 +129,36 @@ def _json_scalar(v) -> str:
     return json.dumps(v, ensure_ascii=False)
 
 
+_FINDING_KEYS = ("code", "severity", "message", "value", "threshold", "unit", "phase", "source")
+_CACHE: dict = {}
+
+
+def _cached(v) -> str:
+    """:func:`_json_scalar` of a value that repeats (a code, a unit, a source)."""
+    got = _CACHE.get(v)
+    if got is None:
+        if len(_CACHE) > 10_000:
+            _CACHE.clear()
+        got = _CACHE[v] = _json_scalar(v)
+    return got
+
+
+def _dict_body(d: dict, inner: str) -> str:
+    if tuple(d) == _FINDING_KEYS:  # a finding (core/findings.py): the repeating texts are encoded once
+        c, sc = _cached, _json_scalar
+        return (f'{inner}"code": {c(d["code"])},{inner}"severity": {c(d["severity"])},{inner}"message": '
+                f'{_encode_str(d["message"]) if type(d["message"]) is str else sc(d["message"])},{inner}"value": '
+                f'{sc(d["value"])},{inner}"threshold": {sc(d["threshold"])},{inner}"unit": {c(d["unit"])},'
+                f'{inner}"phase": {c(d["phase"])},{inner}"source": {c(d["source"])}')
+    return inner + ("," + inner).join(f"{_encode_str(k)}: {_json_scalar(v)}" for k, v in d.items())
+
+
 def flat_dicts_json(items: list, pad: str = "") -> str:
     """``json.dumps(items, ensure_ascii=False, indent=2)`` for a list of flat dicts (values None, text or
     numbers), each line after the first indented by ``pad`` more; the same text, without the pure-Python
     encoder that ``indent`` brings."""
     inner = "\n" + pad + "    "
-    body = ("\n" + pad + "  },\n" + pad + "  {").join(
-        inner + ("," + inner).join(f"{_encode_str(k)}: {_json_scalar(v)}" for k, v in d.items()) for d in items)
+    body = ("\n" + pad + "  },\n" + pad + "  {").join(_dict_body(d, inner) for d in items)
     return "[\n" + pad + "  {" + body + "\n" + pad + "  }\n" + pad + "]"
 
 
