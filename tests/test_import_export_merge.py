@@ -293,3 +293,29 @@ class TestIdempotentImport:
     def test_a_bad_id_is_named(self, db):
         rep = import_bytes(db, b"site,board,taken_at,reading_id,va\nS,B,2026-12-01T09:00:00Z,nope,277\n")
         assert rep.problems == ["line 2: reading_id: 'nope' is not an id (leave it empty for a new reading)"]
+
+
+def test_import_reads_its_file_without_the_write_lock(tmp_path):
+    # While import reads and checks its file, another writer (here a second connection that will not wait)
+    # can still write: the lock is taken only to store the rows.
+    import sqlite3
+
+    path = tmp_path / "lock.db"
+    db = open_db(path)
+    other = sqlite3.connect(path, timeout=0, isolation_level=None)
+    writes = []
+
+    class Reading(io.BytesIO):
+        def read(self, *a):
+            other.execute("BEGIN IMMEDIATE")  # fails with "database is locked" if import held the lock
+            other.execute("COMMIT")
+            writes.append(1)
+            return super().read(*a)
+
+    body = "".join(f"Plant 7,MCC-2,2026-12-01T09:{k // 60:02d}:{k % 60:02d}Z,Sam,AM,delta,460,467,450,\n"
+                   for k in range(3000))
+    from fieldpad.storage.importer import import_stream
+
+    rep = import_stream(db, Reading((GOOD.splitlines()[0] + "\n" + body).encode()))
+    assert rep.problems == [] and rep.readings == 3000 and len(writes) >= 2
+    other.close()
