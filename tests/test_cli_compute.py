@@ -93,3 +93,64 @@ def test_csv_lines_are_named_and_problems_capped():
 def test_csv_extra_values():
     p = compute(b"va,vb\n1,2,3\n")
     assert p.returncode == 2 and b"line 2" in p.stderr and b"more value" in p.stderr
+
+
+class TestNPhase:
+    """n-phase sets (commands/nphase.py) through the core's n-phase transform. Reference: the
+    amplitude-invariant DFT form of Fortescue's transform (C. L. Fortescue, AIEE Transactions 37, 1918),
+    X_k = (1/n) sum_p exp(j 2 pi k p / n) V_p, which is scipy.fft.ifft of the phase phasors."""
+
+    def _set(self, mags, degs, **extra):
+        rec = {"phases": len(mags), **extra}
+        for k, (m, d) in enumerate(zip(mags, degs), start=1):
+            rec[f"vp{k}"], rec[f"vp{k}_deg"] = m, d
+        return rec
+
+    def test_two_secondaries_of_a_phase_shifting_transformer_as_six_phases(self):
+        scipy_fft = pytest.importorskip("scipy.fft")
+        import numpy as np
+
+        # A scenario of our own: a 12-pulse drive transformer, secondary 2 shifted 30 degrees from secondary 1,
+        # read in the order a1, a2, b1, b2, c1, c2; secondary 2 a little low.
+        mags = [400.0, 396.0, 401.0, 395.5, 399.0, 396.5]
+        degs = [0.0, -30.0, -120.0, -150.0, 120.0, 90.0]
+        p = compute(json.dumps(self._set(mags, degs)).encode())
+        assert p.returncode == 0, p.stderr
+        out = json.loads(p.stdout)
+        ref = scipy_fft.ifft(np.array(mags) * np.exp(1j * np.radians(degs)))
+        for k in range(6):
+            assert out[f"vseq{k}"] == pytest.approx(abs(ref[k]), abs=1e-4)
+            assert out[f"vseq{k}_deg"] == pytest.approx(np.degrees(np.angle(ref[k])), abs=1e-4)
+
+    def test_three_phases_agree_with_the_three_phase_analysis(self):
+        rec = {"va": 277, "vb": 270, "vc": 281, "va_deg": 0, "vb_deg": -118, "vc_deg": 121}
+        three = json.loads(compute(json.dumps(rec).encode()).stdout)
+        n = json.loads(compute(json.dumps(self._set([277, 270, 281], [0, -118, 121])).encode()).stdout)
+        assert n["vseq1"] == three["v1"] and n["vseq2"] == three["v2"] and n["vseq0"] == three["v0"]
+        assert n["vseq1_deg"] == three["v1_deg"] and n["vseq2_deg"] == three["v2_deg"]
+
+    def test_balanced_sets_have_only_the_positive_sequence_csv_with_currents(self):
+        rows = ["phases,vp1,vp1_deg,vp2,vp2_deg,vp3,vp3_deg,vp4,vp4_deg,ip1,ip1_deg,ip2,ip2_deg,ip3,ip3_deg,"
+                "ip4,ip4_deg"]
+        rows.append("4,230,0,230,-90,230,-180,230,90,10,-20,10,-110,10,160,10,70")
+        rows.append("2,120,,120,180,,,,,5,0,0,,,,,")
+        p = compute(("\n".join(rows) + "\n").encode(), "--format", "csv")
+        assert p.returncode == 0, p.stderr
+        got = list(csv.DictReader(io.StringIO(p.stdout.decode())))
+        assert got[0]["vseq1"] == "230.0" and got[0]["vseq1_deg"] == "0.0" and got[0]["vseq0"] == "0.0"
+        assert got[0]["vseq0_deg"] == ""  # a zero component has no angle
+        assert got[0]["iseq1"] == "10.0" and got[0]["iseq1_deg"] == "-20.0"
+        assert got[1]["vseq1"] == "120.0" and got[1]["vseq2"] == "" and got[1]["iseq0"] == "2.5"
+
+    @pytest.mark.parametrize("rec, where, field, reason", [
+        ({"phases": 13}, "record 1", "phases", "from 2 to 12"),
+        ({"phases": 2, "vp1": 1}, "record 1", "vp2", "is required for a set of 2 phases"),
+        ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": "x"}, "record 1", "vp2_deg", "'x' is not a number"),
+        ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": 180, "vp3": 1}, "record 1", "vp3", "the set has 2 phases"),
+        ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": 180, "ip1": 3}, "record 1", "ip2", "or none"),
+        ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": 180, "va": 3}, "record 1", "va", "unknown field"),
+    ])
+    def test_bad_sets_name_record_field_reason(self, rec, where, field, reason):
+        p = compute(json.dumps([rec]).encode())
+        assert p.returncode == 2 and p.stdout == b""
+        assert f"{where}: {field}: " in p.stderr.decode() and reason in p.stderr.decode()

@@ -180,3 +180,142 @@ def test_merge_refuses_non_database(tmp_path, db):
     from fieldpad.storage.db import StorageError
     with pytest.raises(StorageError, match="not a fieldpad database"):
         merge_file(db, tmp_path / "junk.db")
+
+
+class TestStreamingExport:
+    """The streamed exports (report/export.py write_csv, write_json: a block at a time, from columns) give
+    the bytes of the whole-list ones (to_csv, to_json of export_records)."""
+
+    def _db(self, tmp_path):
+        a = open_db(tmp_path / "s.db")
+        import_bytes(a, GOOD.encode())
+        sid = sites.find_site(a, "Plant 7")["id"]
+        sites.update_site(a, sid, phase_labels="L123", thresholds={"vuf_pct": 1.0})
+        b = sites.find_board(a, sid, "LP-1")["id"]
+        other = sites.create_board(a, sites.create_site(a, "Annex, \"old\""), "=DB 2", system="split-phase")
+        s = versions.save_reading(a, b, BAL, note="=SUM(A1), \"quoted\"\nsecond line", technician="Ana",
+                                  taken_at="2026-12-01T11:00:00.000000Z")
+        versions.correct_reading(a, s.reading_id, {**BAL, "ib_deg": "30", "va": "277.123456789"}, reason="CT")
+        versions.save_reading(a, other, {"va": "120", "vb": "121", "va_deg": "0", "vb_deg": "180", "ia": "10",
+                                         "ib": "0", "ia_deg": "-10"}, taken_at="2026-03-29T01:30:00.000000Z")
+        return a
+
+    def test_csv_same_bytes(self, tmp_path):
+        from fieldpad.report.export import write_csv
+
+        a = self._db(tmp_path)
+        out = io.BytesIO()
+        assert write_csv(a, out) == 5
+        assert out.getvalue() == to_csv(export_records(a)).encode("utf-8")
+        for day, site in (("2026-12-01", None), (None, "Plant 7"), ("2020-01-01", None)):
+            out = io.BytesIO()
+            write_csv(a, out, day=day, site=site)
+            assert out.getvalue() == to_csv(export_records(a, day=day, site=site)).encode(), (day, site)
+
+    def test_json_same_document(self, tmp_path):
+        from fieldpad.report.export import write_json
+
+        a = self._db(tmp_path)
+        out = io.BytesIO()
+        write_json(a, out)
+        got = out.getvalue().decode()
+        want = to_json(export_records(a))
+        strip = lambda t: "\n".join(x for x in t.splitlines() if '"generated_at"' not in x)  # noqa: E731
+        assert strip(got) == strip(want)
+        out = io.BytesIO()
+        write_json(a, out, day="2020-01-01")
+        assert json.loads(out.getvalue())["readings"] == []
+
+    def test_csv_keeps_its_columns_and_adds_local_time_and_version_id(self, tmp_path):
+        from fieldpad.report.export import CSV_FIELDS
+        from fieldpad.storage.ids import local_text
+
+        a = self._db(tmp_path)
+        rows = list(csv.DictReader(io.StringIO(to_csv(export_records(a)).lstrip("\ufeff"))))
+        assert CSV_FIELDS[-2:] == ("version_id", "taken_at_local")
+        assert CSV_FIELDS.index("findings") == len(CSV_FIELDS) - 3  # the contract's columns keep their places
+        for r in rows:
+            assert r["taken_at_local"] == local_text(r["taken_at"], "%Y-%m-%d %H:%M:%S %z")
+            assert r["version_id"] and r["reading_id"]
+
+
+@pytest.fixture(params=["pyarrow", "csv module"])
+def both_readers(request, monkeypatch):
+    import fieldpad.formats.columns as columns
+
+    monkeypatch.setattr(columns, "SMALL_BYTES", 0 if request.param == "pyarrow" else 1 << 40)
+
+
+@pytest.mark.usefixtures("both_readers")
+class TestIdempotentImport:
+    def test_export_then_import_into_the_same_database_adds_nothing(self, tmp_path):
+        a = open_db(tmp_path / "a.db")
+        import_bytes(a, GOOD.encode())
+        before = dump(a)
+        for text in (to_csv(export_records(a)), to_json(export_records(a))):
+            rep = import_bytes(a, text.encode())
+            assert rep.problems == [] and rep.readings == 0 and rep.already == 3
+            assert dump(a) == before
+
+    def test_same_csv_twice_adds_nothing_the_second_time_and_says_so(self, tmp_path):
+        f = tmp_path / "in.csv"
+        f.write_text(GOOD)
+        dbp = tmp_path / "x.db"
+        p = run_cli("import", str(f), "--db", str(dbp))
+        assert p.returncode == 0 and "imported 3 reading(s)" in p.stdout
+        p = run_cli("import", str(f), "--db", str(dbp))
+        assert p.returncode == 0, p.stderr
+        assert "imported 0 reading(s)" in p.stdout and "3 repeating a stored reading" in p.stdout
+        assert "line 2: already stored: board 'MCC-2' at 2026-12-01T09:00:00.000000Z" in p.stderr
+        assert open_db(dbp)["reading"].count == 3
+
+    def test_a_repeat_inside_one_file_is_skipped_and_told(self, db):
+        lines = GOOD.splitlines()
+        rep = import_bytes(db, ("\n".join(lines + [lines[1]]) + "\n").encode())
+        assert rep.readings == 3 and rep.repeat_count == 1 and rep.repeats[0].startswith("line 5: already stored")
+
+    def test_export_into_a_fresh_database_keeps_the_ids(self, tmp_path):
+        a = open_db(tmp_path / "a.db")
+        import_bytes(a, GOOD.encode())
+        sid = sites.find_site(a, "Plant 7")["id"]
+        bid = sites.find_board(a, sid, "LP-1")["id"]
+        s = versions.save_reading(a, bid, BAL, taken_at="2026-12-01T11:00:00.000000Z")
+        versions.correct_reading(a, s.reading_id, {**BAL, "vb": "270"}, reason="re-read")
+        text = to_csv(export_records(a))
+        b = open_db(tmp_path / "b.db")
+        assert import_bytes(b, text.encode()).readings == 4
+        ids = lambda d: sorted((r["reading_id"], r["id"], r["version"]) for r in d.query(  # noqa: E731
+            "SELECT reading_id, id, version FROM reading_current"))
+        assert ids(b) == ids(a)
+        rep = import_bytes(b, text.encode())
+        assert rep.readings == 0 and rep.already == 4
+
+    def test_a_bad_id_is_named(self, db):
+        rep = import_bytes(db, b"site,board,taken_at,reading_id,va\nS,B,2026-12-01T09:00:00Z,nope,277\n")
+        assert rep.problems == ["line 2: reading_id: 'nope' is not an id (leave it empty for a new reading)"]
+
+
+def test_import_reads_its_file_without_the_write_lock(tmp_path):
+    # While import reads and checks its file, another writer (here a second connection that will not wait)
+    # can still write: the lock is taken only to store the rows.
+    import sqlite3
+
+    path = tmp_path / "lock.db"
+    db = open_db(path)
+    other = sqlite3.connect(path, timeout=0, isolation_level=None)
+    writes = []
+
+    class Reading(io.BytesIO):
+        def read(self, *a):
+            other.execute("BEGIN IMMEDIATE")  # fails with "database is locked" if import held the lock
+            other.execute("COMMIT")
+            writes.append(1)
+            return super().read(*a)
+
+    body = "".join(f"Plant 7,MCC-2,2026-12-01T09:{k // 60:02d}:{k % 60:02d}Z,Sam,AM,delta,460,467,450,\n"
+                   for k in range(3000))
+    from fieldpad.storage.importer import import_stream
+
+    rep = import_stream(db, Reading((GOOD.splitlines()[0] + "\n" + body).encode()))
+    assert rep.problems == [] and rep.readings == 3000 and len(writes) >= 2
+    other.close()

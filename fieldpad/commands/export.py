@@ -9,7 +9,7 @@ from .common import open_database, open_server_copy, report_problems
 
 
 def run(args) -> int:
-    from ..report.export import export_records, to_csv, to_json
+    from ..report.export import export_records
     from ..storage import sites
     from ..storage.db import resolve_path
     from ..storage.files import atomic_write_text
@@ -50,6 +50,25 @@ def run(args) -> int:
                  "(fieldpad join-sites KEEP_ID OTHER_ID):"]
                 + [f"  {s_['id']}  {printable(sites.site_summary(db, s_['id']))}" for s_ in found])
         site_id, args.site = found[0]["id"], found[0]["name"]
+    if args.format in ("csv", "json"):
+        # Streamed: a block of readings at a time, whole file or none.
+        from ..report.export import write_csv, write_json
+
+        writer = write_csv if args.format == "csv" else write_json
+
+        def fill(f):
+            return writer(db, f, day=args.day, site=args.site, site_id=site_id)
+
+        if out_path:
+            from ..storage.files import atomic_write_with
+
+            count = atomic_write_with(out_path, fill, protect=(resolve_path(args.db),))
+            print(f"wrote {count} reading(s) to {out_path}", file=sys.stderr)
+        else:
+            sys.stdout.flush()
+            fill(sys.stdout.buffer)
+            sys.stdout.buffer.flush()
+        return 0
     records = export_records(db, day=args.day, site_id=site_id)
     if args.format == "xlsx":
         from ..report.xlsx import write_xlsx
@@ -57,14 +76,9 @@ def run(args) -> int:
         write_xlsx(db, records, out_path, day=args.day, site=args.site, protect=(resolve_path(args.db),))
         print(f"wrote {len(records)} reading(s) to {out_path}", file=sys.stderr)
         return 0
-    if args.format == "csv":
-        text = to_csv(records)
-    elif args.format == "json":
-        text = to_json(records, day=args.day, site=args.site)
-    else:
-        from ..report.html import to_html
+    from ..report.html import to_html
 
-        text = to_html(db, records, day=args.day, site=args.site)
+    text = to_html(db, records, day=args.day, site=args.site)
     if out_path:
         atomic_write_text(out_path, text, protect=(resolve_path(args.db),))
         print(f"wrote {len(records)} reading(s) to {out_path}", file=sys.stderr)

@@ -107,14 +107,7 @@ def _parse_csv(text: str):
         header = next(reader)
     except csv.Error as e:
         raise InputError(f"line 1: malformed CSV ({e})") from None
-    header = [h.strip() for h in header]
-    if not any(header):
-        raise InputError("line 1: the CSV header row is empty")
-    dup = sorted({h for h in header if header.count(h) > 1 and h})
-    if dup:
-        raise InputError(f"line 1: column(s) named twice in the header: {', '.join(dup)}")
-    if "" in header:
-        raise InputError(f"line 1: column {header.index('') + 1} of the header has no name")
+    header = check_header(header)
     recs = []
     try:
         for row in reader:
@@ -130,6 +123,24 @@ def _parse_csv(text: str):
     if not recs:
         raise InputError("the CSV has a header but no readings")
     return recs
+
+
+def check_header(header: list) -> list:
+    """The CSV header's names, stripped; refuses an empty header, a name given twice and a column without
+    a name.  Linear in the number of columns."""
+    header = [h.strip() for h in header]
+    if not any(header):
+        raise InputError("line 1: the CSV header row is empty")
+    seen, dup = set(), set()
+    for h in header:
+        if h in seen and h:
+            dup.add(h)
+        seen.add(h)
+    if dup:
+        raise InputError(f"line 1: column(s) named twice in the header: {', '.join(sorted(dup))}")
+    if "" in header:
+        raise InputError(f"line 1: column {header.index('') + 1} of the header has no name")
+    return header
 
 
 PROBLEMS_KEY = "__problems__"

@@ -165,3 +165,33 @@ def atomic_write_text(path: str | os.PathLike, text: str, *, encoding: str = "ut
             os.unlink(part)
         raise
     return final
+
+
+def atomic_write_with(path: str | os.PathLike, fill, *, protect=()):
+    """:func:`atomic_write_text` for output written a block at a time: ``fill(f)`` writes bytes to the part
+    file ``f``; the target appears whole (flushed and renamed) or not at all.  Returns what ``fill``
+    returns."""
+    final = Path(path)
+    check_target(final, overwrite=True, protect=protect)
+    clean_stale_parts(final.parent)
+    part = part_path(final)
+    try:
+        fd = os.open(part, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+        with os.fdopen(fd, "wb") as f:
+            got = fill(f)
+            f.flush()
+            os.fsync(f.fileno())
+        publish(part, final, overwrite=True)
+    except FileWriteError:
+        with contextlib.suppress(OSError):
+            os.unlink(part)
+        raise
+    except OSError as e:
+        with contextlib.suppress(OSError):
+            os.unlink(part)
+        raise FileWriteError(e.errno or errno.EIO, _reason(e), str(final)) from None
+    except BaseException:
+        with contextlib.suppress(OSError):
+            os.unlink(part)
+        raise
+    return got
