@@ -154,3 +154,36 @@ class TestNPhase:
         p = compute(json.dumps([rec]).encode())
         assert p.returncode == 2 and p.stdout == b""
         assert f"{where}: {field}: " in p.stderr.decode() and reason in p.stderr.decode()
+
+
+def test_board_inputs_through_compute_match_the_per_record_check():
+    # The board inputs (README "Board inputs") through `fieldpad compute`'s column check, CSV and JSON, give
+    # what the per-record check and the analysis give (tests/test_findings.py::run_board). Invented values:
+    # a 208Y/120 panel whose neutral (rated 60 A) carries 75 A, and a motor feeder at 20 % unbalance.
+    import json as _json
+
+    from fieldpad.core.readings import validate_record
+    from fieldpad.core.results import analyze_records
+
+    rows = [
+        {"va": "120", "vb": "120", "vc": "120", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120", "ia": "80",
+         "ib": "20", "ic": "20", "ia_deg": "-10", "ib_deg": "-130", "ic_deg": "110", "i_n": "75",
+         "nominal_v": "208", "neutral_rating_a": "60", "rating_a": "100", "purpose": "distribution"},
+        {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120", "ia": "100",
+         "ib": "80", "ic": "100", "ia_vi_deg": "30 lag", "ib_vi_deg": "-30", "ic_vi_deg": "-30",
+         "nominal_v": "480", "purpose": "Motor", "expected_rotation": "abc"},
+    ]
+    expected = analyze_records([validate_record(r, board_inputs=True)[0] for r in rows])
+    fields = sorted({k for r in rows for k in r})
+    csv_text = ",".join(fields) + "\n" + "\n".join(",".join(r.get(f, "") for f in fields) for r in rows) + "\n"
+    for data in (csv_text, _json.dumps(rows)):
+        r = run_cli("compute", "-", stdin=data)
+        assert r.returncode == 0, r.stderr
+        got = _json.loads(r.stdout)
+        assert [sorted(f["code"] for f in g["findings"]) for g in got] == \
+            [sorted(f["code"] for f in e["findings"]) for e in expected]
+        assert "NEUTRAL_OVERLOAD" in {f["code"] for f in got[0]["findings"]}
+        assert got[1]["iur_pct"] == pytest.approx(expected[1]["iur_pct"])
+    bad = csv_text.replace("distribution", "pump")
+    r = run_cli("compute", "-", stdin=bad)
+    assert r.returncode == 2 and "line 2: purpose: unknown purpose 'pump'" in r.stderr

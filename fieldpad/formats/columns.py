@@ -808,6 +808,7 @@ def _board_columns(raw: RawBlock, cols: dict, given: dict, suspect) -> None:
             else:
                 suspect[i] = True
         cols[name] = codes
+        given[name] = ~np.isnan(codes)
 
 
 def _row_extra(raw: RawBlock, i: int) -> int:
