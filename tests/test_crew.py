@@ -69,6 +69,31 @@ def test_merge_reports_same_named_sites_with_their_ids(fernwick):
         assert sid in r.stderr
 
 
+def test_import_by_name_refuses_two_sites_of_that_name_and_imports_once_joined(fernwick):
+    csv_text = f"site,board,taken_at,va,vb,vc\nFernwick,MDB-1,{DAY}T11:00:00Z,277,277,277\n"
+    before = fernwick["db"].conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0]
+    fernwick["db"].close()
+    path = fernwick["tmp"] / "in.csv"
+    path.write_text(csv_text)
+    r = run_cli("import", path, "--db", fernwick["path"])
+    assert r.returncode == 2 and "line 2: site: 2 sites are named 'Fernwick'" in r.stderr
+    assert all(sid in r.stderr for sid in fernwick["sites"]) and "join-sites" in r.stderr
+    assert "nothing was imported" in r.stderr
+    db = open_db(fernwick["path"])
+    assert db.conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0] == before
+    db.close()
+    keep, other = fernwick["sites"]
+    assert run_cli("join-sites", keep, other, "--db", fernwick["path"]).returncode == 0
+    r = run_cli("import", path, "--db", fernwick["path"])
+    # The two boards MDB-1 are still two (one per laptop): the board is refused in the same words.
+    assert r.returncode == 2 and "board: 2 boards of site 'Fernwick' are named 'MDB-1'" in r.stderr
+    ba, bb = fernwick["boards"]
+    assert run_cli("join-boards", ba, bb, "--db", fernwick["path"]).returncode == 0
+    r = run_cli("import", path, "--db", fernwick["path"])
+    assert r.returncode == 0 and "imported 1 reading(s)" in r.stdout, r.stderr
+    fernwick["db"] = open_db(fernwick["path"])
+
+
 def test_export_by_name_refuses_two_sites_and_lists_them(fernwick):
     r = run_cli("export", "--db", fernwick["path"], "--site", "Fernwick", "--format", "csv")
     assert r.returncode == 2 and r.stdout == ""

@@ -280,13 +280,25 @@ def import_stream(db, stream, progress=None) -> ImportReport:
         for i in range(clean.n):
             sname, bname = text["site"][i], text["board"][i]
             if sname not in site_cache:
-                site_cache[sname] = sites.find_site(db, sname)
+                same = [s_ for s_ in sites.sites_matching(db, sname) if s_["name"] == sname]
+                site_cache[sname] = same[0] if same else None
+                if len(same) > 1:  # by id everywhere: two sites of one name are never mixed silently
+                    system_problems.append(
+                        f"{clean.where[i]}: site: {len(same)} sites are named {sname!r} (ids "
+                        f"{', '.join(s_['id'] for s_ in same)}); nothing was imported. If they are the same "
+                        "site join them first (fieldpad join-sites KEEP_ID OTHER_ID)")
             s = site_cache[sname]
             b = None
             if s is not None:
                 key = (s["id"], bname)
                 if key not in board_cache:
-                    board_cache[key] = sites.find_board(db, s["id"], bname)
+                    twins = [x for x in sites.list_boards(db, s["id"]) if x["name"] == bname]
+                    board_cache[key] = twins[0] if twins else None
+                    if len(twins) > 1:
+                        system_problems.append(
+                            f"{clean.where[i]}: board: {len(twins)} boards of site {sname!r} are named {bname!r} "
+                            f"(ids {', '.join(x['id'] for x in twins)}); nothing was imported. If they are the "
+                            "same board join them first (fieldpad join-boards KEEP_ID OTHER_ID)")
                 b = board_cache[key]
             if b is not None and system_given[i] and b["system"] != _SYSTEM_NAME[int(clean.system[i])]:
                 system_problems.append(f"{clean.where[i]}: system: board {bname!r} is {b['system']}, "
