@@ -432,3 +432,30 @@ async def test_a_sync_that_fails_in_the_app_says_so_and_keeps_everything(cluster
         line = str(app.screen.query_one("#home-sync", Static).render())
         assert "last try failed: nothing lost" in line and "1 version(s) of yours wait" in line
         assert any("NOT SYNCED" in m and "cannot reach the server" in m for m in shown)
+
+
+def test_joins_and_settled_conflicts_travel_through_the_server(cluster, crew_db, tmp_path):
+    # Issue "One crew, one record", rules 1 and 4, through the server: two laptops each created "Cold Store
+    # East" / MDB-1 (own ids); one laptop joins them; a reading changed on both laptops from the same version
+    # is a conflict on every laptop until one settles it.
+    a, sa, (ba,) = laptop(tmp_path, "ana")
+    b, sb, (bb,) = laptop(tmp_path, "ben")
+    r = versions.save_reading(a, ba, BAL, technician="ana")
+    for db, who in ((a, "ana"), (b, "ben"), (a, "ana")):
+        sync(db, as_role(cluster, crew_db, who))
+    sites.join(a, "site", sa, sb, by="ana", reason="one site")
+    sites.join(a, "board", ba, bb, by="ana", reason="one board")
+    versions.correct_reading(a, r.reading_id, {**BAL, "ia": "101"}, reason="re-read", by="ana")
+    versions.correct_reading(b, r.reading_id, {**BAL, "ia": "102"}, reason="re-read", by="ben")
+    for db, who in ((a, "ana"), (b, "ben"), (a, "ana")):
+        sync(db, as_role(cluster, crew_db, who))
+    for db in (a, b):
+        assert [s["id"] for s in sites.list_sites(db)] == [sa]
+        assert r.reading_id in versions.conflicts(db, {r.reading_id})
+    keep = versions.conflicts(b, {r.reading_id})[r.reading_id][0]
+    versions.settle_reading(b, r.reading_id, keep, reason="checked on site", by="ben")
+    for db, who in ((b, "ben"), (a, "ana")):
+        sync(db, as_role(cluster, crew_db, who))
+    for db in (a, b):
+        assert versions.conflicts(db, {r.reading_id}) == {}
+    assert content(a) == content(b)

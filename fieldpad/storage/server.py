@@ -431,6 +431,8 @@ def _fill_parents(db, path: Path) -> None:
     try:
         conn.execute("BEGIN IMMEDIATE")
         try:
+            # Parents arrive in any order: keys are checked at the commit (and by foreign_key_check after).
+            conn.execute("PRAGMA defer_foreign_keys=ON")
             for _ in range(3):  # a board's site may be missing too: a few passes reach every ancestor
                 for child, fk, parent in reversed(_PARENTS):
                     conn.execute(
