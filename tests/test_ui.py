@@ -770,3 +770,15 @@ async def test_a_note_and_the_instrument_go_with_the_reading(tmp_path):
         await pilot.pause()
         saved = [r for r in versions.current_readings(app.db) if r["note"] == "door 3 open"]
         assert len(saved) == 1 and saved[0]["instrument"] == "meter 7" and saved[0]["va"] == 277.0
+
+
+def test_every_finding_has_words_for_the_tables():
+    # The day review and the history show a finding in a few words, never its code (issue 14, item 20):
+    # every finding the registry defines, and the label finding the sheet adds, has them.
+    from fieldpad.core.registry import REGISTRY
+    from fieldpad.ui.results_view import FINDING_WORDS, finding_words
+
+    assert set(REGISTRY) | {"ARC_FLASH_LABEL"} <= set(FINDING_WORDS)
+    for code in REGISTRY:
+        words = finding_words({"code": code, "severity": "warning", "phase": None})
+        assert "_" not in words and len(words) <= 30

@@ -20,6 +20,9 @@ FINDING_WORDS = {
     "CLAMPS_ROTATED": "clamps on wrong phases", "NEUTRAL_SHIFT": "neutral shifted",
     "CURRENT_SEQUENCE": "currents reverse", "HIGH_LEG_POSITION": "high leg not on B",
     "HIGH_LEG_NOT_FOUND": "no high leg found", "MAGNITUDE_ONLY": "no angles", "ARC_FLASH_LABEL": "arc-flash label",
+    "CLAMPS_SWAPPED": "two clamps swapped", "CURRENT_SUM": "3-wire currents ≠ 0", "LL_MISMATCH": "LL ≠ from LN",
+    "LL_NOT_CLOSED": "LL angles do not close", "NEUTRAL_BELOW_SUM": "neutral < phasor sum",
+    "POWER_TO_SUPPLY": "power toward supply",
 }
 SEVERITY_WORD = {"alarm": "ALARM", "warning": "WARN", "info": "info"}
 
