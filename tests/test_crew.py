@@ -17,7 +17,8 @@ from fieldpad.report.export import export_records
 from fieldpad.report.html import to_html
 from fieldpad.storage import sites, versions
 from fieldpad.storage.db import StorageError, check, open_db
-from fieldpad.storage.merge import MergeRefused, merge_file
+from fieldpad.storage.merge import merge_file
+from fieldpad.storage.merge_checks import MergeRefused
 
 DAY = "2026-12-01"
 
