@@ -24,7 +24,7 @@ import sqlite3
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from . import sites
+from . import settings_history, sites
 from .access import read_only_uri
 from .db import StorageError, write
 from .merge_checks import CHECKS, MergeRefused, _BadText, _Check, _check_new_entities, _columns, _fetch, _known
@@ -131,9 +131,9 @@ def _collect(db, path: Path) -> dict:
 
 def _legacy_settings(conn, ck: _Check) -> list:
     """History rows for the other file's settings that have none (written before there was a history):
-    the same content-made rows ``sites.backfill_history`` makes, so every laptop agrees."""
+    the same content-made rows ``settings_history.backfill_history`` makes, so every laptop agrees."""
     out = []
-    for entity, fields in sites.HISTORY_FIELDS.items():
+    for entity, fields in settings_history.HISTORY_FIELDS.items():
         have = {(r[0], r[1]) for r in conn.execute(
             "SELECT DISTINCT entity_id, field FROM other.setting_version WHERE entity = ?", [entity])}
         cols = [c for c, _ in _columns(conn, "other", entity)]
@@ -147,7 +147,7 @@ def _legacy_settings(conn, ck: _Check) -> list:
                 if isinstance(v[f], _BadText):
                     ck.bad(entity, v["id"], f, "is not valid UTF-8 text")
                     continue
-                row = sites.legacy_setting(entity, v, f)
+                row = settings_history.legacy_setting(entity, v, f)
                 if conn.execute("SELECT 1 FROM main.setting_version WHERE id = ?", [row["id"]]).fetchone():
                     continue
                 out.append((row, {k: "null" if x is None else "text" for k, x in row.items()}))
@@ -163,7 +163,7 @@ def _bring_in(db, incoming: dict, report: MergeReport) -> None:
     conn = db.conn
     # This database's own settings from before there was a history first (rows made from their content:
     # the other file may bring the very same ones, which are then here already).
-    sites.backfill_history(db)
+    settings_history.backfill_history(db)
     for table in ("setting_version", "id_join"):
         added = 0
         for v, _ in incoming[table][1]:
@@ -172,7 +172,7 @@ def _bring_in(db, incoming: dict, report: MergeReport) -> None:
                 added += 1
         report.added[table] = added
     before = {e: {r[0] for r in conn.execute(f"SELECT id FROM {e}")} for e in ("site", "board")}
-    sites.materialize(db, "site")
+    settings_history.materialize(db, "site")
     round_cols, round_rows = incoming["round"]
     added_rounds = changed_rounds = 0
     for v, _ in round_rows:
@@ -190,7 +190,7 @@ def _bring_in(db, incoming: dict, report: MergeReport) -> None:
         if winner != m:
             db["round"].update(v["id"], {c: winner[c] for c in round_cols if c != "id"})
             changed_rounds += 1
-    sites.apply_joins(db)  # boards materialized here, on the sites as shown
+    settings_history.apply_joins(db)  # boards materialized here, on the sites as shown
     try:
         for table in ("reading", "version_parent", "signoff"):
             cols = incoming[table][0]

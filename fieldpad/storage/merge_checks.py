@@ -11,7 +11,7 @@ from pathlib import Path
 
 from ..core.fields import NUMERIC_FIELDS
 from ..core.readings import stored_text, validate_record
-from . import sites
+from . import settings_history, sites
 from .db import StorageError
 
 STAMP = re.compile(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d\.\d{6}Z")
@@ -201,10 +201,10 @@ def _check_setting(ck: _Check, v: dict, kinds: dict, known: dict) -> None:
     ck.text(t, v, kinds, "recorded_by", 200)
     ck.stamp(t, v, kinds, "recorded_at")
     entity, fld = v["entity"], v["field"]
-    if entity not in sites.HISTORY_FIELDS:
+    if entity not in settings_history.HISTORY_FIELDS:
         ck.bad(t, rid, "entity", f"{entity!r} is not site or board")
         return
-    if fld not in sites.HISTORY_FIELDS[entity]:
+    if fld not in settings_history.HISTORY_FIELDS[entity]:
         ck.bad(t, rid, "field", f"{fld!r} is not a {entity} setting")
         return
     raw = v["value_json"]
@@ -259,7 +259,7 @@ def _check_join(ck: _Check, v: dict, kinds: dict, known: dict) -> None:
     for f, limit in TEXT[t].items():
         ck.text(t, v, kinds, f, limit)
     ck.stamp(t, v, kinds, "recorded_at")
-    if v["entity"] not in sites.HISTORY_FIELDS:
+    if v["entity"] not in settings_history.HISTORY_FIELDS:
         ck.bad(t, rid, "entity", f"{v['entity']!r} is not site or board")
         return
     for f in ("keep_id", "other_id"):

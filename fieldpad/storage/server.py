@@ -98,7 +98,7 @@ def sync(db, url: str) -> SyncReport:
         role = conn.execute("SELECT current_user").fetchone()[0]
         conn.commit()
         report = SyncReport(server=shown_url(url), role=role)
-        from .sites import backfill_history
+        from .settings_history import backfill_history
 
         with write(db):  # settings from before there was a history get their rows, and are sent as rows
             backfill_history(db)
