@@ -625,7 +625,7 @@ async def test_history_keeps_the_cursor_and_the_void_dialog_names_the_reading(tm
 
 
 async def test_board_form_opens_at_the_top_and_speaks_in_labels_and_takes_inches(tmp_path):
-    from fieldpad.ui.boards import BoardForm, FormScroll
+    from fieldpad.ui.forms import BoardForm, FormScroll
 
     seeded(tmp_path / "f.db")
     app = FieldpadApp(tmp_path / "f.db", technician="T")
