@@ -299,10 +299,10 @@ async def test_day_review_filters_compare_and_export(tmp_path, monkeypatch):
     from textual.widgets import DataTable
 
     from fieldpad.demo_site import build_demo
-    from fieldpad.ui import review
+    from fieldpad.ui import review, review_dialogs
 
     build_demo(tmp_path / "demo.db", day=date(2026, 3, 10))
-    monkeypatch.setattr(review, "export_folder", lambda: tmp_path)
+    monkeypatch.setattr(review_dialogs, "export_folder", lambda: tmp_path)
     app = FieldpadApp(tmp_path / "demo.db", technician="Sup")
     async with app.run_test(size=(100, 30)) as pilot:
         await pilot.pause()
