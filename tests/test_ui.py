@@ -143,7 +143,7 @@ async def test_leaving_with_unsaved_values_asks_and_keeps_a_draft(tmp_path):
 def test_draft_age_in_words():
     from datetime import datetime
 
-    from fieldpad.ui.sheet import draft_age
+    from fieldpad.ui.sheet_model import draft_age
 
     now = datetime(2026, 12, 2, 14, 30, tzinfo=UTC)
     assert draft_age({"typed_at": "2026-12-02T14:05:00.000000Z"}, now).endswith("(25 min ago)")
