@@ -15,9 +15,10 @@ from conftest import BAL
 
 from fieldpad.report.export import export_records
 from fieldpad.report.html import to_html
-from fieldpad.storage import sites, versions
+from fieldpad.storage import settings_history, sites, versions
 from fieldpad.storage.db import StorageError, check, open_db
-from fieldpad.storage.merge import MergeRefused, merge_file
+from fieldpad.storage.merge import merge_file
+from fieldpad.storage.merge_checks import MergeRefused
 
 DAY = "2026-12-01"
 
@@ -145,19 +146,19 @@ def test_join_sites_then_boards_travels_to_every_laptop(fernwick):
     merge_file(b, fernwick["path"])
     assert sites.get_site(b, sb)["joined_into"] == sa and sites.get_board(b, bb)["joined_into"] == ba
     # Both kept the joined board's history: the 38 cal/cm² label is there, for the supervisor to check.
-    hist = sites.setting_history(b, "board", bb)
+    hist = settings_history.setting_history(b, "board", bb)
     assert any(h["field"] == "af_incident_energy_cal_cm2" and h["value"] == 38 for h in hist)
 
 
 def test_join_refuses_nonsense(fernwick):
     db, (sa, sb), (ba, bb) = fernwick["db"], fernwick["sites"], fernwick["boards"]
     with pytest.raises(StorageError, match="different sites"):
-        sites.join(db, "board", ba, bb)
+        settings_history.join(db, "board", ba, bb)
     with pytest.raises(StorageError, match="no site with id"):
-        sites.join(db, "site", sa, "nope")
-    sites.join(db, "site", sa, sb)
+        settings_history.join(db, "site", sa, "nope")
+    settings_history.join(db, "site", sa, sb)
     with pytest.raises(StorageError, match="already shown"):
-        sites.join(db, "site", sa, sb)
+        settings_history.join(db, "site", sa, sb)
     r = run_cli("join-sites", sb, sa, "--db", fernwick["path"])
     assert r.returncode == 1 and "already shown" in r.stderr
 
@@ -173,8 +174,8 @@ def test_joins_made_both_ways_on_two_laptops_agree(tmp_path):
     a, b = open_db(tmp_path / "a.db"), open_db(tmp_path / "b.db")
     for d in (a, b):
         merge_file(d, tmp_path / "y.db")
-    sites.join(a, "site", sy, sx)
-    sites.join(b, "site", sx, sy)
+    settings_history.join(a, "site", sy, sx)
+    settings_history.join(b, "site", sx, sy)
     a.close()
     merge_file(b, tmp_path / "a.db")
     b.close()
@@ -506,7 +507,8 @@ def test_settings_that_differed_before_the_history_agree_in_either_order(tmp_pat
     y = open_db(tmp_path / "y.db")
     merge_file(y, tmp_path / "pristine-x.db")
     assert sites.get_board(x, "b-old")["af_ppe"] == sites.get_board(y, "b-old")["af_ppe"]
-    assert {h["value"] for h in sites.setting_history(x, "board", "b-old") if h["field"] == "af_ppe"} == {"1", "4"}
+    assert {h["value"] for h in settings_history.setting_history(x, "board", "b-old")
+            if h["field"] == "af_ppe"} == {"1", "4"}
     assert sorted(r["id"] for r in x["setting_version"].rows) == sorted(r["id"] for r in y["setting_version"].rows)
 
 

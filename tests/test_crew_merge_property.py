@@ -10,7 +10,7 @@ from conftest import BAL
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from fieldpad.storage import rounds, sites, versions
+from fieldpad.storage import rounds, settings_history, sites, versions
 from fieldpad.storage.db import check, open_db
 from fieldpad.storage.merge import merge_file
 
@@ -78,7 +78,7 @@ def play(db, name, ops, paths):
         elif op == "join":
             keep, other = boards[k % len(boards)], boards[x % len(boards)]
             if keep != other:
-                sites.join(db, "board", keep, other, by=name)
+                settings_history.join(db, "board", keep, other, by=name)
         elif paths[k] != paths[name]:
             merge_file(db, paths[k])
 

@@ -143,7 +143,7 @@ async def test_leaving_with_unsaved_values_asks_and_keeps_a_draft(tmp_path):
 def test_draft_age_in_words():
     from datetime import datetime
 
-    from fieldpad.ui.sheet import draft_age
+    from fieldpad.ui.sheet_model import draft_age
 
     now = datetime(2026, 12, 2, 14, 30, tzinfo=UTC)
     assert draft_age({"typed_at": "2026-12-02T14:05:00.000000Z"}, now).endswith("(25 min ago)")
@@ -299,10 +299,10 @@ async def test_day_review_filters_compare_and_export(tmp_path, monkeypatch):
     from textual.widgets import DataTable
 
     from fieldpad.demo_site import build_demo
-    from fieldpad.ui import review
+    from fieldpad.ui import review, review_dialogs
 
     build_demo(tmp_path / "demo.db", day=date(2026, 3, 10))
-    monkeypatch.setattr(review, "export_folder", lambda: tmp_path)
+    monkeypatch.setattr(review_dialogs, "export_folder", lambda: tmp_path)
     app = FieldpadApp(tmp_path / "demo.db", technician="Sup")
     async with app.run_test(size=(100, 30)) as pilot:
         await pilot.pause()
@@ -625,7 +625,7 @@ async def test_history_keeps_the_cursor_and_the_void_dialog_names_the_reading(tm
 
 
 async def test_board_form_opens_at_the_top_and_speaks_in_labels_and_takes_inches(tmp_path):
-    from fieldpad.ui.boards import BoardForm, FormScroll
+    from fieldpad.ui.forms import BoardForm, FormScroll
 
     seeded(tmp_path / "f.db")
     app = FieldpadApp(tmp_path / "f.db", technician="T")

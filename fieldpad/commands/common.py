@@ -54,7 +54,8 @@ def open_server_copy(url: str):
     from pathlib import Path
 
     from ..storage.db import open_db
-    from ..storage.server import fetch_all, server_url
+    from ..storage.server import fetch_all
+    from ..storage.server_schema import server_url
 
     folder = Path(tempfile.mkdtemp(prefix="fieldpad-crew-"))
     _REMOVE.append(lambda: shutil.rmtree(folder, ignore_errors=True))

@@ -29,10 +29,10 @@ def signer(args) -> str | None:
 
 
 def _join(args, entity: str) -> int:
-    from ..storage import sites
+    from ..storage import settings_history, sites
 
     db = open_database(args, create=False)
-    differ = sites.join(db, entity, args.keep_id, args.other_id, by=signer(args), reason=args.reason)
+    differ = settings_history.join(db, entity, args.keep_id, args.other_id, by=signer(args), reason=args.reason)
     kept = sites.get_site(db, args.keep_id) if entity == "site" else sites.get_board(db, args.keep_id)
     print(f"joined {entity} {args.other_id} into {printable(kept['name'])} ({args.keep_id}): its "
           + ("boards, rounds and readings" if entity == "site" else "readings")

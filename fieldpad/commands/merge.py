@@ -8,7 +8,8 @@ from .common import open_database, report_problems
 
 
 def run(args) -> int:
-    from ..storage.merge import MergeRefused, merge_file
+    from ..storage.merge import merge_file
+    from ..storage.merge_checks import MergeRefused
 
     db = open_database(args, create=True)
     status = 0

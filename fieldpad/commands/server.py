@@ -1,7 +1,7 @@
 """``fieldpad server init [--server URL]``: create or upgrade the crew's central schema (PostgreSQL)."""
 from __future__ import annotations
 
-from ..storage.server import init, server_url, shown_url
+from ..storage.server_schema import init, server_url, shown_url
 
 
 def run(args) -> int:

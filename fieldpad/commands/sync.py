@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import sys
 
-from ..storage.server import server_url, sync
+from ..storage.server import sync
+from ..storage.server_schema import server_url
 from .common import open_database
 
 

@@ -29,8 +29,8 @@ from ..core.findings import SEVERITY_ORDER
 from ..core.thresholds import SOURCES
 from ..formats.text import printable
 from ..storage import rounds as rounds_store
+from ..storage import settings_history, sites, versions
 from ..storage import signoffs as signoff_store
-from ..storage import sites, versions
 from ..storage.ids import local_text, utc_now
 from .svg import phasor_svg
 
@@ -366,7 +366,7 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
             "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
             "label": _label(b, s["label_review_years"], on) if b else "—",
             "label_joined": [AF_FIELDS[f].format(v) for f, v, _ in
-                             sites.joined_differences(db, "board", board_id, AF_FIELDS)],
+                             settings_history.joined_differences(db, "board", board_id, AF_FIELDS)],
             "readings": rows, "voids": void_rows, "corrections": corrections, "conflicts": conflicted,
             "svg": _svg(latest, labels, colours, title),
         })

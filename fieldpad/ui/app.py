@@ -65,7 +65,7 @@ class FieldpadApp(App):
         if known:
             self._open_site(known[0]["id"])
         else:
-            from .boards import SiteForm
+            from .forms import SiteForm
             self.push_screen(SiteForm(), self._first_site)
         if self.start_note:
             self.notify(self.start_note, timeout=6)

@@ -1,18 +1,21 @@
 """What the reading sheet shows and in which order: entry modes, grid cells,
-phase labels and colours, and the caution banner's text.  No widgets here, so
-it is easy to test.
+phase labels and colours, the side panels, the caution banner's text and how
+old a kept draft is.  No widgets here, so it is easy to test.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass
-from datetime import date
+from datetime import UTC, date, datetime
 
 from ..core.arc_flash import label_summary
 from ..core.readings import FIELD_KIND, ReadingError, parse_value
 from ..core.reference import REFERENCE_DEG, is_reference
+from ..storage.ids import local_text
 
 LN, LL, LL_MAG = "ln", "ll", "ll-mag"
 MODE_NAMES = {LN: "line-to-neutral", LL: "line-to-line + angles", LL_MAG: "line-to-line, no angles"}
+#: The side panels, in the order F6 shows them.
+PANELS = ("drawing", "triangle", "power", "findings")
 
 #: Column titles of the grid (V magnitude, V angle, I magnitude, I angle).
 COLUMNS = ("V", "V°", "I", "I°")
@@ -212,3 +215,24 @@ def _ln_to_ll(values: dict):
         return None
     ll = line_to_line(polar(m, d))
     return [(float(abs(z)), float(angle_deg(z))) for z in ll]
+
+
+def draft_age(draft: dict, now: datetime | None = None) -> str:
+    """When a draft was typed, in words: "at 2026-12-02 14:02 (25 min ago)"."""
+    typed = draft.get("typed_at")
+    if not typed:
+        return "at a time not recorded"
+    try:
+        then = datetime.fromisoformat(typed.replace("Z", "+00:00"))
+    except ValueError:
+        return "at a time not recorded"
+    minutes = int(((now or datetime.now(UTC)) - then).total_seconds() // 60)
+    if minutes < 1:
+        ago = "just now"
+    elif minutes < 120:
+        ago = f"{minutes} min ago"
+    elif minutes < 48 * 60:
+        ago = f"{minutes // 60} h ago"
+    else:
+        ago = f"{minutes // 1440} days ago"
+    return f"at {local_text(typed)} ({ago})"

@@ -21,7 +21,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 import pg_cluster  # noqa: E402
 import psycopg  # noqa: E402
 
-from fieldpad.storage import server, sites, versions  # noqa: E402
+from fieldpad.storage import server, server_schema, sites, versions  # noqa: E402
 from fieldpad.storage.db import open_db  # noqa: E402
 
 BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120",
@@ -34,7 +34,7 @@ def main(n: int) -> None:
         with psycopg.connect(c.url(), autocommit=True) as conn:
             conn.execute("CREATE DATABASE crew")
         admin = c.url(database="crew")
-        server.init(admin)
+        server_schema.init(admin)
         with psycopg.connect(admin, autocommit=True) as conn:
             pw = secrets.token_urlsafe(12)
             conn.execute(f"CREATE ROLE ana LOGIN PASSWORD '{pw}'")

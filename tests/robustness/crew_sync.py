@@ -26,7 +26,7 @@ BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "
 
 
 def laptop(path: str, url: str, role: str, n: int, seconds: float, seed: int) -> None:
-    from fieldpad.storage import server, sites, versions
+    from fieldpad.storage import server, server_schema, sites, versions
     from fieldpad.storage.db import open_db
 
     rng = random.Random(seed)
@@ -48,7 +48,7 @@ def laptop(path: str, url: str, role: str, n: int, seconds: float, seed: int) ->
             try:
                 server.sync(db, url)
                 syncs += 1
-            except server.ServerError as e:
+            except server_schema.ServerError as e:
                 failures.append(str(e)[:200])
         lag = start + pause * (k + 1) - time.monotonic()
         if lag > 0:
@@ -72,7 +72,7 @@ def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: 
     sys.path.insert(0, str(HERE.parents[1]))  # tests/: the throwaway cluster
     import pg_cluster
 
-    from fieldpad.storage import server, sites, versions
+    from fieldpad.storage import server, server_schema, sites, versions
     from fieldpad.storage.db import check, open_db
 
     out: dict = {}
@@ -81,7 +81,7 @@ def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: 
         admin = c.url(database="crew")
         with psycopg.connect(c.url(), autocommit=True) as conn:
             conn.execute("CREATE DATABASE crew")
-        server.init(admin)
+        server_schema.init(admin)
         roles = [f"tech{i:02d}" for i in range(laptops)]
         with psycopg.connect(admin, autocommit=True) as conn:
             for r in [*roles, "boss"]:

@@ -14,7 +14,7 @@ from pathlib import Path
 
 from fieldpad.report.export import export_records, to_csv
 from fieldpad.report.html import to_html
-from fieldpad.storage import sites, versions
+from fieldpad.storage import settings_history, sites, versions
 from fieldpad.storage.db import StorageError, check, open_db
 from fieldpad.storage.merge import merge_file
 
@@ -62,7 +62,7 @@ def make_source(path: Path, rng: random.Random) -> None:
         versions.correct_reading(db, rid, {**BAL, "vb": "279"}, reason="re-read", by="Sam")
     versions.void_reading(db, saved[5], reason="wrong board", by="Sam")
     sites.update_board(db, boards[0], name="MDB-0 main", by="Sam")
-    sites.join(db, "board", boards[1], boards[2], by="Sam")
+    settings_history.join(db, "board", boards[1], boards[2], by="Sam")
     rounds.finish_round(db, rnd)
     db.close()
 
