@@ -443,8 +443,8 @@ def test_joins_and_settled_conflicts_travel_through_the_server(cluster, crew_db,
     r = versions.save_reading(a, ba, BAL, technician="ana")
     for db, who in ((a, "ana"), (b, "ben"), (a, "ana")):
         sync(db, as_role(cluster, crew_db, who))
-    sites.join(a, "site", sa, sb, by="ana", reason="one site")
-    sites.join(a, "board", ba, bb, by="ana", reason="one board")
+    settings_history.join(a, "site", sa, sb, by="ana", reason="one site")
+    settings_history.join(a, "board", ba, bb, by="ana", reason="one board")
     versions.correct_reading(a, r.reading_id, {**BAL, "ia": "101"}, reason="re-read", by="ana")
     versions.correct_reading(b, r.reading_id, {**BAL, "ia": "102"}, reason="re-read", by="ben")
     for db, who in ((a, "ana"), (b, "ben"), (a, "ana")):

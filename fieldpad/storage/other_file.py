@@ -56,7 +56,7 @@ def _open_other(path: Path) -> tuple[sqlite3.Connection, str, str | None]:
         conn = sqlite3.connect(uri, uri=True, isolation_level=None, check_same_thread=False)
         try:
             conn.execute("SELECT COUNT(*) FROM sqlite_master").fetchone()
-        except sqlite3.DatabaseError as e:
+        except (sqlite3.DatabaseError, UnicodeDecodeError) as e:  # a flipped byte in its schema text too
             conn.close()
             if "not a database" in str(e):
                 raise StorageError(f"{path} is not a fieldpad database (not an SQLite file); nothing was "
@@ -77,7 +77,7 @@ def _inspect_other(path: Path, name: Path) -> tuple[list[str], str, str | None]:
             bad = [r[0] for r in conn.execute("PRAGMA integrity_check(20)").fetchall() if r[0] != "ok"]
             bad += [f"{t} row {rowid} refers to a missing {parent}"
                     for t, rowid, parent, _ in conn.execute("PRAGMA foreign_key_check").fetchall()[:20]]
-        except sqlite3.DatabaseError as e:
+        except (sqlite3.DatabaseError, UnicodeDecodeError) as e:  # a flipped byte in its schema text too
             bad = [f"the file is damaged ({e})"]
         if bad:
             raise MergeRefused([f"{path}: fails its integrity check: {b}; nothing was merged" for b in bad[:20]])
@@ -87,7 +87,7 @@ def _inspect_other(path: Path, name: Path) -> tuple[list[str], str, str | None]:
                 raise StorageError(f"{path} is not a fieldpad database (tables missing); nothing was merged")
             applied = [r[0] for r in conn.execute(
                 "SELECT name FROM _sqlite_migrations WHERE migration_set='fieldpad'")]
-        except sqlite3.DatabaseError as e:
+        except (sqlite3.DatabaseError, UnicodeDecodeError) as e:  # a flipped byte in its schema text too
             raise StorageError(f"{path} cannot be read ({e}); nothing was merged") from None
     finally:
         conn.close()
