@@ -16,7 +16,7 @@ from cli_runner import run_cli
 from conftest import BAL
 from test_ui_nothing_lost import record_notifications
 
-from fieldpad.storage import server, server_schema, sites, versions
+from fieldpad.storage import server, server_schema, settings_history, sites, versions
 from fieldpad.storage.db import open_db
 from fieldpad.storage.merge import merge_file
 
