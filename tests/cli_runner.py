@@ -2,6 +2,7 @@
 standard output and standard error.  The same ``main(argv)`` the installed entry point calls; a subprocess
 costs most of a second of start-up per call, so only the tests about the process itself (the entry point,
 signals, a closed pipe, the time zone of the environment) start one."""
+
 from __future__ import annotations
 
 import io
@@ -44,5 +45,11 @@ def run_cli(*args, stdin: str | bytes | None = None, text: bool = True) -> Resul
 
 def run_cli_process(*args, stdin: str | None = None, env=None, timeout: float = 120):
     """The installed program in a process of its own (``python -m fieldpad``)."""
-    return subprocess.run([sys.executable, "-m", "fieldpad", *map(str, args)], capture_output=True, text=True,
-                          input=stdin, env=env, timeout=timeout)
+    return subprocess.run(
+        [sys.executable, "-m", "fieldpad", *map(str, args)],
+        capture_output=True,
+        text=True,
+        input=stdin,
+        env=env,
+        timeout=timeout,
+    )

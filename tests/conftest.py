@@ -8,8 +8,20 @@ from fieldpad.storage.db import open_db
 settings.register_profile("fieldpad", deadline=None)
 settings.load_profile("fieldpad")
 
-BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120",
-       "ia": "100", "ib": "100", "ic": "100", "ia_deg": "-30", "ib_deg": "-150", "ic_deg": "90"}
+BAL = {
+    "va": "277",
+    "vb": "277",
+    "vc": "277",
+    "va_deg": "0",
+    "vb_deg": "-120",
+    "vc_deg": "120",
+    "ia": "100",
+    "ib": "100",
+    "ic": "100",
+    "ia_deg": "-30",
+    "ib_deg": "-150",
+    "ic_deg": "90",
+}
 
 
 @pytest.fixture

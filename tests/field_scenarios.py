@@ -29,6 +29,7 @@ have line-to-line magnitudes typed on half of them, the measured neutral on half
 
 Faults (each applied to a healthy board of the systems it fits): see :data:`KINDS`.
 """
+
 from __future__ import annotations
 
 import cmath
@@ -44,11 +45,21 @@ from fieldpad.core.findings import findings_lists
 
 A = cmath.exp(2j * math.pi / 3)
 SYSTEM_TYPES = {  # name -> (system code, nominal_v, standard code 0 ANSI 1 IEC)
-    "wye 208Y/120": (0, 208.0, 0), "wye 480Y/277": (0, 480.0, 0), "IEC 400/230": (0, 400.0, 1),
-    "delta 480": (1, 480.0, 0), "high-leg 240/120": (2, 240.0, 0), "split 120/240": (3, 240.0, 0),
+    "wye 208Y/120": (0, 208.0, 0),
+    "wye 480Y/277": (0, 480.0, 0),
+    "IEC 400/230": (0, 400.0, 1),
+    "delta 480": (1, 480.0, 0),
+    "high-leg 240/120": (2, 240.0, 0),
+    "split 120/240": (3, 240.0, 0),
 }
-LN_BASE = {"wye 208Y/120": 120.0, "wye 480Y/277": 277.0, "IEC 400/230": 230.0,
-           "delta 480": 480.0 / math.sqrt(3), "high-leg 240/120": 240.0 / math.sqrt(3), "split 120/240": 120.0}
+LN_BASE = {
+    "wye 208Y/120": 120.0,
+    "wye 480Y/277": 277.0,
+    "IEC 400/230": 230.0,
+    "delta 480": 480.0 / math.sqrt(3),
+    "high-leg 240/120": 240.0 / math.sqrt(3),
+    "split 120/240": 120.0,
+}
 THREE = tuple(k for k in SYSTEM_TYPES if not k.startswith("split"))
 WYES = ("wye 208Y/120", "wye 480Y/277", "IEC 400/230")
 RATINGS = (100.0, 225.0, 400.0, 800.0, 1200.0)
@@ -134,16 +145,32 @@ def healthy(rng, stype: str) -> Board:
             i = [x - mean for x in i]
     i_n = sum(i) if sys_code != 1 else 0j
     harm = 0.0 if motor else 3 * _u(rng, 0.0, 0.08) * sum(abs(x) for x in i) / len(i)
-    return Board(stype, v, i, i_n, harm, rating, n_rating, purpose,
-                 give_ll=sys_code in (0, 2) and (sys_code == 2 or rng.random() < 0.5), give_in=give_in)
+    return Board(
+        stype,
+        v,
+        i,
+        i_n,
+        harm,
+        rating,
+        n_rating,
+        purpose,
+        give_ll=sys_code in (0, 2) and (sys_code == 2 or rng.random() < 0.5),
+        give_in=give_in,
+    )
 
 
 def read(rng, b: Board) -> dict:
     """The meter's reading of a board, as typed: a record of floats (NaN where not entered)."""
     sys_code, nominal, std = SYSTEM_TYPES[b.stype]
     rec = {f: math.nan for f in NUMERIC_FIELDS}
-    rec.update(nominal_v=nominal, system=sys_code, standard=std, rating_a=b.rating,
-               neutral_rating_a=math.nan if b.n_rating is None else b.n_rating, purpose=b.purpose)
+    rec.update(
+        nominal_v=nominal,
+        system=sys_code,
+        standard=std,
+        rating_a=b.rating,
+        neutral_rating_a=math.nan if b.n_rating is None else b.n_rating,
+        purpose=b.purpose,
+    )
     gain = 1 + _u(rng, -0.005, 0.005)
 
     def vmeas(z):
@@ -155,7 +182,7 @@ def read(rng, b: Board) -> dict:
         m = max(0.0, mag * (1 + _u(rng, -0.01, 0.01)) + _u(rng, -0.05, 0.05))
         return m * cmath.exp(1j * (cmath.phase(z) + math.radians(_u(rng, -err, err))))
 
-    phases = "abc"[:len(b.v)]
+    phases = "abc"[: len(b.v)]
     ll_true = b.ll_override or [b.v[0] - b.v[1], b.v[1] - b.v[2], b.v[2] - b.v[0]] if b.three else None
     if sys_code == 1:
         ll = [vmeas(x) for x in ll_true]
@@ -195,6 +222,7 @@ def _wrap(d):
 # ---- the fault catalogue ------------------------------------------------------------------------------------
 # Each fault turns a healthy board (and its reading) into a faulty one.  ``meter`` faults change what the
 # meter sees (leads, clamps); ``supply`` faults change the board itself.
+
 
 def _perm(x, order):
     return [x[k] for k in order]
@@ -270,8 +298,11 @@ def f_hld_halves(rng, b):
 
 
 def f_high_leg_wrong(rng, b):
-    b.v, b.i = (_perm(b.v, (1, 2, 0)), _perm(b.i, (1, 2, 0))) if rng.random() < 0.5 else \
-        (_perm(b.v, (2, 0, 1)), _perm(b.i, (2, 0, 1)))
+    b.v, b.i = (
+        (_perm(b.v, (1, 2, 0)), _perm(b.i, (1, 2, 0)))
+        if rng.random() < 0.5
+        else (_perm(b.v, (2, 0, 1)), _perm(b.i, (2, 0, 1)))
+    )
 
 
 def f_in_phase(rng, b):
@@ -325,27 +356,30 @@ KINDS = {
     "one CT reversed": Kind(tuple(SYSTEM_TYPES), frozenset({"CT_REVERSED"}), f_ct_one, need="loaded-import"),
     # On a board that exports, one CT reversed reads as two reversed on a board that imports (and the other
     # way round): either finding names the clamps' direction.
-    "one CT reversed, exporting board": Kind(WYES + ("split 120/240",), frozenset({"CT_REVERSED", "CT_TWO_REVERSED"}),
-                                             f_ct_one, need="loaded-export"),
+    "one CT reversed, exporting board": Kind(
+        WYES + ("split 120/240",), frozenset({"CT_REVERSED", "CT_TWO_REVERSED"}), f_ct_one, need="loaded-export"
+    ),
     "two CTs reversed": Kind(THREE, frozenset({"CT_TWO_REVERSED"}), f_ct_two, need="loaded-import"),
-    "all CTs reversed": Kind(THREE, frozenset({"POWER_TO_SUPPLY"}), f_ct_all, info_by_design=True,
-                             need="loaded-import"),
-    "clamps rotated one phase on": Kind(THREE, frozenset({"CLAMPS_ROTATED"}), f_clamps_rotated,
-                                        need="loaded-import"),
-    "two clamps swapped": Kind(THREE, frozenset({"CURRENT_SEQUENCE", "CLAMPS_SWAPPED"}), f_clamps_swapped,
-                               need="loaded-import"),
-    "lost phase": Kind(("wye 208Y/120", "wye 480Y/277", "IEC 400/230", "delta 480"), frozenset({"PHASE_LOST"}),
-                       f_phase_lost),
+    "all CTs reversed": Kind(
+        THREE, frozenset({"POWER_TO_SUPPLY"}), f_ct_all, info_by_design=True, need="loaded-import"
+    ),
+    "clamps rotated one phase on": Kind(THREE, frozenset({"CLAMPS_ROTATED"}), f_clamps_rotated, need="loaded-import"),
+    "two clamps swapped": Kind(
+        THREE, frozenset({"CURRENT_SEQUENCE", "CLAMPS_SWAPPED"}), f_clamps_swapped, need="loaded-import"
+    ),
+    "lost phase": Kind(
+        ("wye 208Y/120", "wye 480Y/277", "IEC 400/230", "delta 480"), frozenset({"PHASE_LOST"}), f_phase_lost
+    ),
     "open/floating neutral": Kind(WYES, frozenset({"NEUTRAL_SHIFT"}), f_open_neutral),
     "split-phase lost neutral": Kind(("split 120/240",), frozenset({"NEUTRAL_SHIFT"}), f_split_lost_neutral),
     "high-leg halves unequal": Kind(("high-leg 240/120",), frozenset({"NEUTRAL_SHIFT"}), f_hld_halves),
     "high leg on the wrong phase": Kind(("high-leg 240/120",), frozenset({"HIGH_LEG_POSITION"}), f_high_leg_wrong),
     "voltages in phase (one lead)": Kind(WYES, frozenset({"VOLTAGES_IN_PHASE"}), f_in_phase),
     "line-to-line angles do not close": Kind(("delta 480",), frozenset({"LL_NOT_CLOSED"}), f_ll_not_closed),
-    "neutral over its rating": Kind(WYES + ("split 120/240",), frozenset({"NEUTRAL_OVERLOAD"}), f_neutral_rating,
-                                    need="distribution"),
-    "3-wire currents do not sum to 0": Kind(("delta 480",), frozenset({"CURRENT_SUM"}), f_current_sum,
-                                            need="loaded"),
+    "neutral over its rating": Kind(
+        WYES + ("split 120/240",), frozenset({"NEUTRAL_OVERLOAD"}), f_neutral_rating, need="distribution"
+    ),
+    "3-wire currents do not sum to 0": Kind(("delta 480",), frozenset({"CURRENT_SUM"}), f_current_sum, need="loaded"),
     "voltage lead on another phase": Kind(WYES, frozenset({"LL_MISMATCH"}), f_voltage_lead),
 }
 

@@ -8,6 +8,7 @@ laptops would, and never on a command line.
 
 Used as ``with Cluster() as c: c.url("fieldpad_admin")``; :func:`find_binaries` says why there is none.
 """
+
 from __future__ import annotations
 
 import contextlib
@@ -74,8 +75,15 @@ class Cluster:
             if self._acct:
                 os.setgid(self._acct[1])
                 os.setuid(self._acct[0])
-        return subprocess.run([str(a) for a in args], preexec_fn=drop if self._acct else None,
-                              capture_output=True, text=True, check=check, **kw)
+
+        return subprocess.run(
+            [str(a) for a in args],
+            preexec_fn=drop if self._acct else None,
+            capture_output=True,
+            text=True,
+            check=check,
+            **kw,
+        )
 
     def start(self) -> Cluster:
         self.sock.mkdir()
@@ -86,23 +94,61 @@ class Cluster:
         if self._acct:
             for p in (self.root, self.sock, pwfile):
                 os.chown(p, *self._acct)
-        self._run(self.bindir / "initdb", "-D", self.data, "-U", SUPERUSER, f"--pwfile={pwfile}",
-                  "-A", "scram-sha-256", "-E", "UTF8", "--locale=C.UTF-8", "--no-sync")
+        self._run(
+            self.bindir / "initdb",
+            "-D",
+            self.data,
+            "-U",
+            SUPERUSER,
+            f"--pwfile={pwfile}",
+            "-A",
+            "scram-sha-256",
+            "-E",
+            "UTF8",
+            "--locale=C.UTF-8",
+            "--no-sync",
+        )
         pwfile.unlink()
-        opts = (f"-c listen_addresses='' -c unix_socket_directories='{self.sock}' -c port={self.port} "
-                "-c fsync=on -c max_connections=200 -c shared_buffers=32MB")
-        self._run(self.bindir / "pg_ctl", "-D", self.data, "-o", opts, "-l", self.root / "server.log",
-                  "-w", "-t", "60", "start")
+        opts = (
+            f"-c listen_addresses='' -c unix_socket_directories='{self.sock}' -c port={self.port} "
+            "-c fsync=on -c max_connections=200 -c shared_buffers=32MB"
+        )
+        self._run(
+            self.bindir / "pg_ctl",
+            "-D",
+            self.data,
+            "-o",
+            opts,
+            "-l",
+            self.root / "server.log",
+            "-w",
+            "-t",
+            "60",
+            "start",
+        )
         self._write_passfile()
         return self
 
     def restart(self) -> None:
         """Stop (fast: cuts off every session, as a server restart would) and start again."""
         self.stop_server()
-        opts = (f"-c listen_addresses='' -c unix_socket_directories='{self.sock}' -c port={self.port} "
-                "-c max_connections=200 -c shared_buffers=32MB")
-        self._run(self.bindir / "pg_ctl", "-D", self.data, "-o", opts, "-l", self.root / "server.log",
-                  "-w", "-t", "60", "start")
+        opts = (
+            f"-c listen_addresses='' -c unix_socket_directories='{self.sock}' -c port={self.port} "
+            "-c max_connections=200 -c shared_buffers=32MB"
+        )
+        self._run(
+            self.bindir / "pg_ctl",
+            "-D",
+            self.data,
+            "-o",
+            opts,
+            "-l",
+            self.root / "server.log",
+            "-w",
+            "-t",
+            "60",
+            "start",
+        )
 
     def stop_server(self) -> None:
         self._run(self.bindir / "pg_ctl", "-D", self.data, "-m", "fast", "-w", "-t", "60", "stop", check=False)

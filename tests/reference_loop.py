@@ -5,6 +5,7 @@ It is written from the definitions, not from fieldpad's vectorised code, and ser
 independent check in tests/test_reference_loop.py and as "the same work in a plain loop" in
 tests/bench/bench_core.py.  Default thresholds, ANSI C84.1 limits.
 """
+
 from __future__ import annotations
 
 import cmath
@@ -49,8 +50,13 @@ def analyse_one(r: dict) -> dict:
     v0, v1, v2 = sum(v) / 3, (v[0] + A * v[1] + A * A * v[2]) / 3, (v[0] + A * A * v[1] + A * v[2]) / 3
     i0, i1, i2 = sum(i) / 3, (i[0] + A * i[1] + A * A * i[2]) / 3, (i[0] + A * A * i[1] + A * i[2]) / 3
     big_v, small_v = max(abs(v1), abs(v2)), min(abs(v1), abs(v2))
-    out = {"v0": abs(v0), "v1": abs(v1), "v2": abs(v2), "vuf_pct": 100 * small_v / big_v,
-           "v0uf_pct": 100 * abs(v0) / big_v}
+    out = {
+        "v0": abs(v0),
+        "v1": abs(v1),
+        "v2": abs(v2),
+        "vuf_pct": 100 * small_v / big_v,
+        "v0uf_pct": 100 * abs(v0) / big_v,
+    }
     ll = [abs(v[0] - v[1]), abs(v[1] - v[2]), abs(v[2] - v[0])]
     out["lvur_pct"] = _maxdev(ll)
     out["pvur_pct"] = _maxdev(vm)
@@ -123,8 +129,7 @@ def analyse_one(r: dict) -> dict:
     # by 20 degrees over as wired (fieldpad.core.wiring, written here again from its docstring).
     hyp, out["_wiring_margins"] = "as wired", []
     if not (lost or in_phase):
-        theta = [math.degrees(cmath.phase(v[k] * i[k].conjugate())) if abs(v[k] * i[k]) > 0 else 0.0
-                 for k in range(3)]
+        theta = [math.degrees(cmath.phase(v[k] * i[k].conjugate())) if abs(v[k] * i[k]) > 0 else 0.0 for k in range(3)]
         top = max(im)
         w = [x / top if top > 0 else 0.0 for x in im]
         sign = -1 if rot == "ACB" else 1
@@ -134,10 +139,21 @@ def analyse_one(r: dict) -> dict:
             t = (t + 180.0) % 360.0 - 180.0
             return max(0.0, t - lag, -lead - t)
 
-        table = {"as wired": (0, 0, 0), "rev A": (180, 0, 0), "rev B": (0, 180, 0), "rev C": (0, 0, 180),
-                 "two A": (0, 180, 180), "two B": (180, 0, 180), "two C": (180, 180, 0),
-                 "all": (180, 180, 180), "rot on": (120, 120, 120), "rot back": (240, 240, 240),
-                 "swap AB": (120, 240, 0), "swap BC": (0, 120, 240), "swap CA": (240, 0, 120)}
+        table = {
+            "as wired": (0, 0, 0),
+            "rev A": (180, 0, 0),
+            "rev B": (0, 180, 0),
+            "rev C": (0, 0, 180),
+            "two A": (0, 180, 180),
+            "two B": (180, 0, 180),
+            "two C": (180, 180, 0),
+            "all": (180, 180, 180),
+            "rot on": (120, 120, 120),
+            "rot back": (240, 240, 240),
+            "swap AB": (120, 240, 0),
+            "swap BC": (0, 120, 240),
+            "swap CA": (240, 0, 120),
+        }
         pen = {h: sum(w[k] * outside(theta[k] - sign * sh[k]) for k in range(3)) for h, sh in table.items()}
         best = min(pen, key=lambda h: (pen[h], list(table).index(h)))
         ranked = sorted(pen.values())
@@ -177,8 +193,11 @@ def analyse_one(r: dict) -> dict:
             # Above the phasor sum (harmonics may explain it) or below it (they cannot).
             codes.add("NEUTRAL_MISMATCH" if diff > 0 else "NEUTRAL_BELOW_SUM")
     if rot != "unknown" and not lost and not in_phase and not (ct_reversed or hyp.startswith(("two", "swap"))):
-        i_rot = "ABC" if abs(i1) >= 2 * abs(i2) and abs(i1) > 0 else (
-            "ACB" if abs(i2) >= 2 * abs(i1) and abs(i2) > 0 else "unknown")
+        i_rot = (
+            "ABC"
+            if abs(i1) >= 2 * abs(i2) and abs(i1) > 0
+            else ("ACB" if abs(i2) >= 2 * abs(i1) and abs(i2) > 0 else "unknown")
+        )
         if i_rot != "unknown" and i_rot != rot:
             codes.add("CURRENT_SEQUENCE")
     out["codes"] = codes

@@ -1,4 +1,5 @@
 """The full analysis on whole readings: each system type and the findings a crew meets."""
+
 import numpy as np
 import pytest
 
@@ -7,8 +8,21 @@ from fieldpad.core.readings import validate_record
 from fieldpad.core.results import RESULT_FIELDS, analyze_records
 from fieldpad.core.thresholds import Thresholds
 
-BAL = {"va": 277, "vb": 277, "vc": 277, "va_deg": 0, "vb_deg": -120, "vc_deg": 120,
-       "ia": 100, "ib": 100, "ic": 100, "ia_deg": -30, "ib_deg": -150, "ic_deg": 90, "nominal_v": 480}
+BAL = {
+    "va": 277,
+    "vb": 277,
+    "vc": 277,
+    "va_deg": 0,
+    "vb_deg": -120,
+    "vc_deg": 120,
+    "ia": 100,
+    "ib": 100,
+    "ic": 100,
+    "ia_deg": -30,
+    "ib_deg": -150,
+    "ic_deg": 90,
+    "nominal_v": 480,
+}
 
 
 def run(*records, thresholds=None):
@@ -81,8 +95,7 @@ def test_delta_magnitude_only_unbalance_and_derating():
 
 def test_delta_with_angles_uses_ln_equivalent():
     # Grainger & Stevenson Example 11.2 triangle (from memory): Van1 = 441∠-40.9°, Van2 = 166.7∠60°.
-    (r,) = run({"system": "delta", "vab": 1000, "vbc": 866, "vca": 500,
-                "vab_deg": 0, "vbc_deg": -150, "vca_deg": 120})
+    (r,) = run({"system": "delta", "vab": 1000, "vbc": 866, "vca": 500, "vab_deg": 0, "vbc_deg": -150, "vca_deg": 120})
     assert r["v1"] == pytest.approx(441.0, abs=0.1) and r["v1_deg"] == pytest.approx(-40.9, abs=0.05)
     assert r["v2"] == pytest.approx(166.7, abs=0.1) and r["v2_deg"] == pytest.approx(60.0, abs=0.05)
 
@@ -96,8 +109,20 @@ def test_high_leg_delta_position():
 
 
 def test_split_phase():
-    (r,) = run({"system": "split-phase", "nominal_v": 240, "va": 120, "vb": 120, "va_deg": 0, "vb_deg": 180,
-                "ia": 50, "ib": 20, "ia_deg": 0, "ib_deg": 180})
+    (r,) = run(
+        {
+            "system": "split-phase",
+            "nominal_v": 240,
+            "va": 120,
+            "vb": 120,
+            "va_deg": 0,
+            "vb_deg": 180,
+            "ia": 50,
+            "ib": 20,
+            "ia_deg": 0,
+            "ib_deg": 180,
+        }
+    )
     assert r["i_n_calc"] == pytest.approx(30.0)
     assert r["rotation"] is None and r["vuf_pct"] is None
     assert r["p_w"] == pytest.approx(120 * 70)
@@ -161,6 +186,7 @@ def test_asymmetric_ansi_range_b_checks_every_phase():
 
 def test_blocked_analysis_equals_one_block(monkeypatch):
     import fieldpad.core.analysis as an
+
     rng = np.random.default_rng(3)
     n = 50
     cols = {p: 277 * (1 + 0.05 * rng.standard_normal(n)) for p in ("va", "vb", "vc")}

@@ -1,6 +1,7 @@
 """The columnar path of `fieldpad compute` (formats/columns.py, formats/writers.py) against the per-record
 path it replaced (validate_record per record, analyze_records, csv/json modules): the same bytes out, the
 same problem lines, for files mixing every accepted spelling, system and bad value."""
+
 import csv
 import io
 import json
@@ -19,9 +20,28 @@ SPELLINGS = {
     "deg": ["0", "-120", "120", "240deg", "-120°", "30 lag", "30 lead", "-30", "90", "179.99"],
 }
 BAD = ["abc", "NaN", "inf", "-5", "1e7", "1,234", "277A", "1_000", "5e", "٣"]
-FIELDS = {"va": "V", "vb": "V", "vc": "V", "vab": "V", "vbc": "V", "vca": "V", "nominal_v": "V", "ia": "A",
-          "ib": "A", "ic": "A", "i_n": "A", "va_deg": "deg", "vb_deg": "deg", "vc_deg": "deg", "vab_deg": "deg",
-          "vbc_deg": "deg", "vca_deg": "deg", "ia_deg": "deg", "ib_deg": "deg", "ic_deg": "deg"}
+FIELDS = {
+    "va": "V",
+    "vb": "V",
+    "vc": "V",
+    "vab": "V",
+    "vbc": "V",
+    "vca": "V",
+    "nominal_v": "V",
+    "ia": "A",
+    "ib": "A",
+    "ic": "A",
+    "i_n": "A",
+    "va_deg": "deg",
+    "vb_deg": "deg",
+    "vc_deg": "deg",
+    "vab_deg": "deg",
+    "vbc_deg": "deg",
+    "vca_deg": "deg",
+    "ia_deg": "deg",
+    "ib_deg": "deg",
+    "ic_deg": "deg",
+}
 
 
 @pytest.fixture(autouse=True, params=["pyarrow", "csv module"])

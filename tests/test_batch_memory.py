@@ -1,4 +1,5 @@
 """The allocator setting the batch commands use (fieldpad.commands.batch_memory)."""
+
 import ctypes.util
 import subprocess
 import sys

@@ -1,5 +1,6 @@
 """`fieldpad compute` end to end: the command line in process (tests/cli_runner.py), and once as the installed
 program in a process of its own."""
+
 import csv
 import io
 import json
@@ -9,8 +10,20 @@ import sys
 import pytest
 from cli_runner import run_cli
 
-BAL = {"va": 277, "vb": 277, "vc": 277, "va_deg": 0, "vb_deg": -120, "vc_deg": 120,
-       "ia": 100, "ib": 100, "ic": 100, "ia_deg": -30, "ib_deg": -150, "ic_deg": 90}
+BAL = {
+    "va": 277,
+    "vb": 277,
+    "vc": 277,
+    "va_deg": 0,
+    "vb_deg": -120,
+    "vc_deg": 120,
+    "ia": 100,
+    "ib": 100,
+    "ic": 100,
+    "ia_deg": -30,
+    "ib_deg": -150,
+    "ic_deg": 90,
+}
 
 
 def compute(stdin: bytes, *args):
@@ -47,17 +60,20 @@ def test_csv_in_csv_out():
     assert "LVUR_DERATE" in rows[0]["findings"]
 
 
-@pytest.mark.parametrize("payload, where, field, reason", [
-    ({"va": "abc"}, "record 1", "va", "not a number"),
-    ({"va": "NaN"}, "record 1", "va", "not a finite number"),
-    ({"va": "inf"}, "record 1", "va", "not a finite number"),
-    ({"va": -5}, "record 1", "va", "negative"),
-    ({"va": 1e7}, "record 1", "va", "too large"),
-    ({"vb_deg": 10}, "record 1", "vb_deg", "without its magnitude"),
-    ({"volts": 1}, "record 1", "volts", "unknown field"),
-    ({"system": "star"}, "record 1", "system", "unknown system"),
-    ({"system": "delta", "vab": 100, "vbc": 100, "vca": 300}, "record 1", "vab,vbc,vca", "triangle"),
-])
+@pytest.mark.parametrize(
+    "payload, where, field, reason",
+    [
+        ({"va": "abc"}, "record 1", "va", "not a number"),
+        ({"va": "NaN"}, "record 1", "va", "not a finite number"),
+        ({"va": "inf"}, "record 1", "va", "not a finite number"),
+        ({"va": -5}, "record 1", "va", "negative"),
+        ({"va": 1e7}, "record 1", "va", "too large"),
+        ({"vb_deg": 10}, "record 1", "vb_deg", "without its magnitude"),
+        ({"volts": 1}, "record 1", "volts", "unknown field"),
+        ({"system": "star"}, "record 1", "system", "unknown system"),
+        ({"system": "delta", "vab": 100, "vbc": 100, "vca": 300}, "record 1", "vab,vbc,vca", "triangle"),
+    ],
+)
 def test_bad_input_names_record_field_reason(payload, where, field, reason):
     p = compute(json.dumps(payload).encode())
     assert p.returncode == 2
@@ -67,14 +83,17 @@ def test_bad_input_names_record_field_reason(payload, where, field, reason):
     assert "Traceback" not in err
 
 
-@pytest.mark.parametrize("data, reason", [
-    (b"", "empty"),
-    (b"[1, 2", "malformed JSON"),
-    (b'{"va": NaN}', "not a finite number"),
-    (b"va,vb\n\xff\xfe,1\n", "not UTF-8"),
-    (b"va,va\n1,2\n", "named twice"),
-    (b"[]", "empty"),
-])
+@pytest.mark.parametrize(
+    "data, reason",
+    [
+        (b"", "empty"),
+        (b"[1, 2", "malformed JSON"),
+        (b'{"va": NaN}', "not a finite number"),
+        (b"va,vb\n\xff\xfe,1\n", "not UTF-8"),
+        (b"va,va\n1,2\n", "named twice"),
+        (b"[]", "empty"),
+    ],
+)
 def test_malformed_files(data, reason):
     p = compute(data)
     assert p.returncode == 2 and p.stdout == b""
@@ -130,8 +149,9 @@ class TestNPhase:
         assert n["vseq1_deg"] == three["v1_deg"] and n["vseq2_deg"] == three["v2_deg"]
 
     def test_balanced_sets_have_only_the_positive_sequence_csv_with_currents(self):
-        rows = ["phases,vp1,vp1_deg,vp2,vp2_deg,vp3,vp3_deg,vp4,vp4_deg,ip1,ip1_deg,ip2,ip2_deg,ip3,ip3_deg,"
-                "ip4,ip4_deg"]
+        rows = [
+            "phases,vp1,vp1_deg,vp2,vp2_deg,vp3,vp3_deg,vp4,vp4_deg,ip1,ip1_deg,ip2,ip2_deg,ip3,ip3_deg,ip4,ip4_deg"
+        ]
         rows.append("4,230,0,230,-90,230,-180,230,90,10,-20,10,-110,10,160,10,70")
         rows.append("2,120,,120,180,,,,,5,0,0,,,,,")
         p = compute(("\n".join(rows) + "\n").encode(), "--format", "csv")
@@ -142,14 +162,17 @@ class TestNPhase:
         assert got[0]["iseq1"] == "10.0" and got[0]["iseq1_deg"] == "-20.0"
         assert got[1]["vseq1"] == "120.0" and got[1]["vseq2"] == "" and got[1]["iseq0"] == "2.5"
 
-    @pytest.mark.parametrize("rec, where, field, reason", [
-        ({"phases": 13}, "record 1", "phases", "from 2 to 12"),
-        ({"phases": 2, "vp1": 1}, "record 1", "vp2", "is required for a set of 2 phases"),
-        ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": "x"}, "record 1", "vp2_deg", "'x' is not a number"),
-        ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": 180, "vp3": 1}, "record 1", "vp3", "the set has 2 phases"),
-        ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": 180, "ip1": 3}, "record 1", "ip2", "or none"),
-        ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": 180, "va": 3}, "record 1", "va", "unknown field"),
-    ])
+    @pytest.mark.parametrize(
+        "rec, where, field, reason",
+        [
+            ({"phases": 13}, "record 1", "phases", "from 2 to 12"),
+            ({"phases": 2, "vp1": 1}, "record 1", "vp2", "is required for a set of 2 phases"),
+            ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": "x"}, "record 1", "vp2_deg", "'x' is not a number"),
+            ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": 180, "vp3": 1}, "record 1", "vp3", "the set has 2 phases"),
+            ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": 180, "ip1": 3}, "record 1", "ip2", "or none"),
+            ({"phases": 2, "vp1": 1, "vp2": 1, "vp2_deg": 180, "va": 3}, "record 1", "va", "unknown field"),
+        ],
+    )
     def test_bad_sets_name_record_field_reason(self, rec, where, field, reason):
         p = compute(json.dumps([rec]).encode())
         assert p.returncode == 2 and p.stdout == b""
@@ -166,12 +189,42 @@ def test_board_inputs_through_compute_match_the_per_record_check():
     from fieldpad.core.results import analyze_records
 
     rows = [
-        {"va": "120", "vb": "120", "vc": "120", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120", "ia": "80",
-         "ib": "20", "ic": "20", "ia_deg": "-10", "ib_deg": "-130", "ic_deg": "110", "i_n": "75",
-         "nominal_v": "208", "neutral_rating_a": "60", "rating_a": "100", "purpose": "distribution"},
-        {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120", "ia": "100",
-         "ib": "80", "ic": "100", "ia_vi_deg": "30 lag", "ib_vi_deg": "-30", "ic_vi_deg": "-30",
-         "nominal_v": "480", "purpose": "Motor", "expected_rotation": "abc"},
+        {
+            "va": "120",
+            "vb": "120",
+            "vc": "120",
+            "va_deg": "0",
+            "vb_deg": "-120",
+            "vc_deg": "120",
+            "ia": "80",
+            "ib": "20",
+            "ic": "20",
+            "ia_deg": "-10",
+            "ib_deg": "-130",
+            "ic_deg": "110",
+            "i_n": "75",
+            "nominal_v": "208",
+            "neutral_rating_a": "60",
+            "rating_a": "100",
+            "purpose": "distribution",
+        },
+        {
+            "va": "277",
+            "vb": "277",
+            "vc": "277",
+            "va_deg": "0",
+            "vb_deg": "-120",
+            "vc_deg": "120",
+            "ia": "100",
+            "ib": "80",
+            "ic": "100",
+            "ia_vi_deg": "30 lag",
+            "ib_vi_deg": "-30",
+            "ic_vi_deg": "-30",
+            "nominal_v": "480",
+            "purpose": "Motor",
+            "expected_rotation": "abc",
+        },
     ]
     expected = analyze_records([validate_record(r, board_inputs=True)[0] for r in rows])
     fields = sorted({k for r in rows for k in r})
@@ -180,8 +233,9 @@ def test_board_inputs_through_compute_match_the_per_record_check():
         r = run_cli("compute", "-", stdin=data)
         assert r.returncode == 0, r.stderr
         got = _json.loads(r.stdout)
-        assert [sorted(f["code"] for f in g["findings"]) for g in got] == \
-            [sorted(f["code"] for f in e["findings"]) for e in expected]
+        assert [sorted(f["code"] for f in g["findings"]) for g in got] == [
+            sorted(f["code"] for f in e["findings"]) for e in expected
+        ]
         assert "NEUTRAL_OVERLOAD" in {f["code"] for f in got[0]["findings"]}
         assert got[1]["iur_pct"] == pytest.approx(expected[1]["iur_pct"])
     bad = csv_text.replace("distribution", "pump")

@@ -3,6 +3,7 @@ every row it brings in, conflicts kept and flagged, settings merged field by fie
 
 Real database files on disk; the command line as a user runs it (``run_cli``).  The site, boards and labels
 are an invented scenario ("Fernwick", "MDB-1")."""
+
 import json
 import os
 import shutil
@@ -27,8 +28,9 @@ def laptop(path, energy, ppe, *, va="277", site_id=None, board_id=None):
     """A laptop's first run: its own site Fernwick and board MDB-1 (own ids unless given), one reading."""
     db = open_db(path)
     sid = sites.create_site(db, "Fernwick", site_id=site_id)
-    bid = sites.create_board(db, sid, "MDB-1", board_id=board_id, af_incident_energy_cal_cm2=energy, af_ppe=ppe,
-                             af_label_date="2026-01-10")
+    bid = sites.create_board(
+        db, sid, "MDB-1", board_id=board_id, af_incident_energy_cal_cm2=energy, af_ppe=ppe, af_label_date="2026-01-10"
+    )
     saved = versions.save_reading(db, bid, {**BAL, "va": va}, taken_at=f"{DAY}T10:00:00.000000Z")
     return db, sid, bid, saved
 
@@ -54,8 +56,15 @@ def fernwick(tmp_path):
     b, sb, bb, rb = laptop(tmp_path / "b.db", 38, "4", va="280")
     b.close()
     rep = merge_file(a, tmp_path / "b.db")
-    yield {"db": a, "path": tmp_path / "a.db", "sites": (sa, sb), "boards": (ba, bb), "readings": (ra, rb),
-           "report": rep, "tmp": tmp_path}
+    yield {
+        "db": a,
+        "path": tmp_path / "a.db",
+        "sites": (sa, sb),
+        "boards": (ba, bb),
+        "readings": (ra, rb),
+        "report": rep,
+        "tmp": tmp_path,
+    }
     a.close()
 
 
@@ -227,8 +236,17 @@ def test_conflict_flagged_in_report_and_review_records_until_settled(tmp_path):
     # An ordinary correction does not settle it: the other laptop's version is still competing.
     versions.correct_reading(a, rid, {**BAL, "va": "278"}, reason="typo", by="Ana")
     assert rid in versions.conflicts(a)
-    r = run_cli("settle", rid, mine.id, "--reason", "checked on site: Sam's meter is calibrated", "--db",
-                tmp_path / "a.db", "--technician", "Lee")
+    r = run_cli(
+        "settle",
+        rid,
+        mine.id,
+        "--reason",
+        "checked on site: Sam's meter is calibrated",
+        "--db",
+        tmp_path / "a.db",
+        "--technician",
+        "Lee",
+    )
     assert r.returncode == 0, r.stderr
     assert versions.conflicts(a) == {}
     (rec,) = export_records(a, day=DAY)
@@ -311,23 +329,42 @@ def damaged_copy(tmp_path, sql, name="bad.db"):
     return tmp_path / name
 
 
-@pytest.mark.parametrize("sql, table, fld, reason", [
-    ("UPDATE reading SET note = CAST(X'4d44c3282d31' AS TEXT) WHERE version = 2", "reading", "note",
-     "is not valid UTF-8"),
-    ("UPDATE reading SET va = 'abc' WHERE version = 1", "reading", "va", "text in a numeric column"),
-    ("UPDATE reading SET vb = 1e300 WHERE version = 2", "reading", "vb", "too large"),
-    ("UPDATE reading SET technician = 'Sam' || char(0) WHERE version = 1", "reading", "technician", "NUL"),
-    ("UPDATE reading SET version = 0 WHERE version = 2", "reading", "version", "not a version number"),
-    ("UPDATE reading SET recorded_at = 'yesterday' WHERE version = 2", "reading", "recorded_at", "not a stored"),
-    ("UPDATE reading SET system = 'star' WHERE version = 1", "reading", "system", "unknown system"),
-    ("UPDATE reading SET inputs_json = '[1' WHERE version = 1", "reading", "inputs_json", "not a JSON object"),
-    ("UPDATE setting_version SET value_json = '\"x\"' WHERE field = 'nominal_v'", "setting_version",
-     "value of nominal_v", "not a number"),
-    ("UPDATE setting_version SET value_json = '\"7\"' WHERE field = 'af_label_date'", "setting_version",
-     "value of af_label_date", "not a date"),
-    ("UPDATE setting_version SET field = 'colour' WHERE field = 'af_ppe'", "setting_version", "field",
-     "not a board setting"),
-])
+@pytest.mark.parametrize(
+    "sql, table, fld, reason",
+    [
+        (
+            "UPDATE reading SET note = CAST(X'4d44c3282d31' AS TEXT) WHERE version = 2",
+            "reading",
+            "note",
+            "is not valid UTF-8",
+        ),
+        ("UPDATE reading SET va = 'abc' WHERE version = 1", "reading", "va", "text in a numeric column"),
+        ("UPDATE reading SET vb = 1e300 WHERE version = 2", "reading", "vb", "too large"),
+        ("UPDATE reading SET technician = 'Sam' || char(0) WHERE version = 1", "reading", "technician", "NUL"),
+        ("UPDATE reading SET version = 0 WHERE version = 2", "reading", "version", "not a version number"),
+        ("UPDATE reading SET recorded_at = 'yesterday' WHERE version = 2", "reading", "recorded_at", "not a stored"),
+        ("UPDATE reading SET system = 'star' WHERE version = 1", "reading", "system", "unknown system"),
+        ("UPDATE reading SET inputs_json = '[1' WHERE version = 1", "reading", "inputs_json", "not a JSON object"),
+        (
+            "UPDATE setting_version SET value_json = '\"x\"' WHERE field = 'nominal_v'",
+            "setting_version",
+            "value of nominal_v",
+            "not a number",
+        ),
+        (
+            "UPDATE setting_version SET value_json = '\"7\"' WHERE field = 'af_label_date'",
+            "setting_version",
+            "value of af_label_date",
+            "not a date",
+        ),
+        (
+            "UPDATE setting_version SET field = 'colour' WHERE field = 'af_ppe'",
+            "setting_version",
+            "field",
+            "not a board setting",
+        ),
+    ],
+)
 def test_merge_refuses_a_bad_row_naming_file_table_row_field_and_reason(tmp_path, sql, table, fld, reason):
     main, *_ = laptop(tmp_path / "main.db", 1, "1")
     before = {t: main[t].count for t in ("site", "board", "reading", "setting_version")}
@@ -356,8 +393,10 @@ def test_merge_refuses_a_file_that_fails_its_integrity_check(tmp_path):
     bad = damaged_copy(tmp_path, "SELECT 1")
     conn = sqlite3.connect(bad)
     conn.execute("PRAGMA writable_schema = ON")
-    conn.execute("UPDATE sqlite_master SET sql = replace(sql, 'reading(board_id, taken_at)', "
-                 "'reading(taken_at, board_id)') WHERE name = 'reading_board'")
+    conn.execute(
+        "UPDATE sqlite_master SET sql = replace(sql, 'reading(board_id, taken_at)', "
+        "'reading(taken_at, board_id)') WHERE name = 'reading_board'"
+    )
     conn.commit()
     conn.close()
     with pytest.raises(MergeRefused, match="fails its integrity check"):
@@ -374,11 +413,31 @@ def test_merge_of_a_file_from_before_the_settings_history(tmp_path):
     _migrations().apply(old, stop_before="0004_crew_identity")
     now = "2026-01-01T00:00:00.000000Z"
     old["site"].insert({"id": "s-old", "name": "Depot", "created_at": now, "updated_at": now})
-    old["board"].insert({"id": "b-old", "site_id": "s-old", "name": "DB-2", "system": "wye", "af_ppe": "2",
-                         "created_at": now, "updated_at": now})
-    old["reading"].insert({"id": "r1", "reading_id": "r1", "version": 1, "board_id": "b-old", "taken_at": now,
-                           "recorded_at": now, "inputs_json": "{}", "system": "wye", "standard": "ansi",
-                           "va": 277.0})
+    old["board"].insert(
+        {
+            "id": "b-old",
+            "site_id": "s-old",
+            "name": "DB-2",
+            "system": "wye",
+            "af_ppe": "2",
+            "created_at": now,
+            "updated_at": now,
+        }
+    )
+    old["reading"].insert(
+        {
+            "id": "r1",
+            "reading_id": "r1",
+            "version": 1,
+            "board_id": "b-old",
+            "taken_at": now,
+            "recorded_at": now,
+            "inputs_json": "{}",
+            "system": "wye",
+            "standard": "ansi",
+            "va": 277.0,
+        }
+    )
     old.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
     old.close()
     before = files_beside(tmp_path / "old.db")
@@ -464,8 +523,17 @@ def test_settings_from_before_the_history_merge_field_by_field_after_the_upgrade
     _migrations().apply(old, stop_before="0004_crew_identity")
     now = "2026-01-01T00:00:00.000000Z"
     old["site"].insert({"id": "s-old", "name": "Depot", "created_at": now, "updated_at": now})
-    old["board"].insert({"id": "b-old", "site_id": "s-old", "name": "DB-2", "system": "wye", "af_ppe": "2",
-                         "created_at": now, "updated_at": now})
+    old["board"].insert(
+        {
+            "id": "b-old",
+            "site_id": "s-old",
+            "name": "DB-2",
+            "system": "wye",
+            "af_ppe": "2",
+            "created_at": now,
+            "updated_at": now,
+        }
+    )
     old.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
     old.close()
     shutil.copy(tmp_path / "a.db", tmp_path / "b.db")
@@ -496,8 +564,17 @@ def test_settings_that_differed_before_the_history_agree_in_either_order(tmp_pat
         _migrations().apply(old, stop_before="0004_crew_identity")
         now = "2026-01-01T00:00:00.000000Z"
         old["site"].insert({"id": "s-old", "name": "Depot", "created_at": now, "updated_at": now})
-        old["board"].insert({"id": "b-old", "site_id": "s-old", "name": "DB-2", "system": "wye", "af_ppe": ppe,
-                             "created_at": now, "updated_at": now})
+        old["board"].insert(
+            {
+                "id": "b-old",
+                "site_id": "s-old",
+                "name": "DB-2",
+                "system": "wye",
+                "af_ppe": ppe,
+                "created_at": now,
+                "updated_at": now,
+            }
+        )
         old.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
         old.close()
     for name in ("x.db", "y.db"):
@@ -507,8 +584,10 @@ def test_settings_that_differed_before_the_history_agree_in_either_order(tmp_pat
     y = open_db(tmp_path / "y.db")
     merge_file(y, tmp_path / "pristine-x.db")
     assert sites.get_board(x, "b-old")["af_ppe"] == sites.get_board(y, "b-old")["af_ppe"]
-    assert {h["value"] for h in settings_history.setting_history(x, "board", "b-old")
-            if h["field"] == "af_ppe"} == {"1", "4"}
+    assert {h["value"] for h in settings_history.setting_history(x, "board", "b-old") if h["field"] == "af_ppe"} == {
+        "1",
+        "4",
+    }
     assert sorted(r["id"] for r in x["setting_version"].rows) == sorted(r["id"] for r in y["setting_version"].rows)
 
 
@@ -560,8 +639,10 @@ def test_a_file_copied_with_its_wal_but_no_shm_is_read_whole_and_nothing_is_made
 
     other, _, bid, _ = laptop(tmp_path / "live.db", 2, "2")
     other.close()
-    code = ("import os, sys\nfrom fieldpad.storage.db import open_db\nfrom fieldpad.storage import versions\n"
-            f"db = open_db(sys.argv[1])\nversions.save_reading(db, {bid!r}, {BAL!r})\nos._exit(0)\n")
+    code = (
+        "import os, sys\nfrom fieldpad.storage.db import open_db\nfrom fieldpad.storage import versions\n"
+        f"db = open_db(sys.argv[1])\nversions.save_reading(db, {bid!r}, {BAL!r})\nos._exit(0)\n"
+    )
     subprocess.run([sys.executable, "-c", code, str(tmp_path / "live.db")], check=True)  # killed, -wal left
     (tmp_path / "stick").mkdir()
     for side in ("", "-wal"):

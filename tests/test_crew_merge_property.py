@@ -2,6 +2,7 @@
 edits, joins of two boards, settled conflicts, rounds started and finished, merges of each other's files along
 the way), merged in every order and repeatedly, give databases identical by content, and no version of
 anything is lost.  Real database files, as the laptops keep them."""
+
 import itertools
 import json
 import shutil
@@ -26,23 +27,29 @@ def content(db) -> dict:
 
 
 def ids(db) -> set:
-    return {(t, r[0]) for t in ("reading", "setting_version", "id_join", "version_parent")
-            for r in db.conn.execute(f"SELECT id FROM {t}")}
+    return {
+        (t, r[0])
+        for t in ("reading", "setting_version", "id_join", "version_parent")
+        for r in db.conn.execute(f"SELECT id FROM {t}")
+    }
 
 
-OPS = st.lists(st.one_of(
-    st.tuples(st.just("save"), st.integers(0, 5), st.integers(200, 300)),
-    st.tuples(st.just("correct"), st.integers(0, 5), st.integers(200, 300)),
-    st.tuples(st.just("void"), st.integers(0, 5), st.just(0)),
-    st.tuples(st.just("rename"), st.integers(0, 5), st.integers(0, 3)),
-    st.tuples(st.just("label"), st.integers(0, 5), st.integers(0, 4)),
-    st.tuples(st.just("board"), st.integers(0, 5), st.just(0)),
-    st.tuples(st.just("pull"), st.integers(0, 2), st.just(0)),
-    st.tuples(st.just("settle"), st.integers(0, 5), st.integers(0, 3)),
-    st.tuples(st.just("join"), st.integers(0, 5), st.integers(0, 5)),
-    st.tuples(st.just("start"), st.integers(0, 5), st.integers(0, 3)),
-    st.tuples(st.just("finish"), st.integers(0, 5), st.integers(0, 3)),
-), max_size=10)
+OPS = st.lists(
+    st.one_of(
+        st.tuples(st.just("save"), st.integers(0, 5), st.integers(200, 300)),
+        st.tuples(st.just("correct"), st.integers(0, 5), st.integers(200, 300)),
+        st.tuples(st.just("void"), st.integers(0, 5), st.just(0)),
+        st.tuples(st.just("rename"), st.integers(0, 5), st.integers(0, 3)),
+        st.tuples(st.just("label"), st.integers(0, 5), st.integers(0, 4)),
+        st.tuples(st.just("board"), st.integers(0, 5), st.just(0)),
+        st.tuples(st.just("pull"), st.integers(0, 2), st.just(0)),
+        st.tuples(st.just("settle"), st.integers(0, 5), st.integers(0, 3)),
+        st.tuples(st.just("join"), st.integers(0, 5), st.integers(0, 5)),
+        st.tuples(st.just("start"), st.integers(0, 5), st.integers(0, 3)),
+        st.tuples(st.just("finish"), st.integers(0, 5), st.integers(0, 3)),
+    ),
+    max_size=10,
+)
 
 
 def play(db, name, ops, paths):
@@ -53,15 +60,15 @@ def play(db, name, ops, paths):
         if op == "save" or (op in ("correct", "void") and not readings):
             versions.save_reading(db, boards[k % len(boards)], {**BAL, "va": str(x)}, technician=name)
         elif op == "correct":
-            versions.correct_reading(db, readings[k % len(readings)], {**BAL, "vb": str(x)}, reason="re-read",
-                                     by=name)
+            versions.correct_reading(db, readings[k % len(readings)], {**BAL, "vb": str(x)}, reason="re-read", by=name)
         elif op == "void":
             versions.void_reading(db, readings[k % len(readings)], reason="wrong board", by=name)
         elif op == "rename":
             sites.update_board(db, boards[k % len(boards)], name=f"MDB-{k}{'abcd'[x]}", by=name)
         elif op == "label":
-            sites.update_board(db, boards[k % len(boards)], af_incident_energy_cal_cm2=[1.2, 4, 8, 25, 38][x],
-                               af_ppe=str(x), by=name)
+            sites.update_board(
+                db, boards[k % len(boards)], af_incident_energy_cal_cm2=[1.2, 4, 8, 25, 38][x], af_ppe=str(x), by=name
+            )
         elif op == "board":
             sites.create_board(db, site, f"DB-{k}", by=name)
         elif op == "settle":
@@ -85,8 +92,9 @@ def play(db, name, ops, paths):
 
 @settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(OPS, OPS, OPS, OPS, OPS, OPS)
-def test_three_laptops_merged_in_every_order_agree_and_lose_nothing(tmp_path_factory, ops_a, ops_b, ops_c,
-                                                                     later_a, later_b, later_c):
+def test_three_laptops_merged_in_every_order_agree_and_lose_nothing(
+    tmp_path_factory, ops_a, ops_b, ops_c, later_a, later_b, later_c
+):
     d = tmp_path_factory.mktemp("crew")
     base = open_db(d / "base.db")
     sid = sites.create_site(base, "Fernwick")

@@ -1,4 +1,5 @@
 """The demo site: invented data that imports cleanly and shows the problems it is built to show."""
+
 from datetime import date
 from pathlib import Path
 
@@ -17,6 +18,7 @@ def test_plain_files_match_the_generator():
 def test_demo_shows_each_deliberate_problem(tmp_path):
     build_demo(tmp_path / "demo.db", day=date(2026, 3, 10))
     from fieldpad.storage.db import open_db
+
     recs = export_records(open_db(tmp_path / "demo.db"))
     codes = {}
     for r in recs:

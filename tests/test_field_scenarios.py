@@ -5,6 +5,7 @@ Scenario models (supply, load, meter accuracy) and the fault catalogue: tests/fi
 Targets: healthy boards at most 1 % with a warning and none with an alarm; each fault kind at least 99 %
 detected and named by the top finding at least 95 %.
 """
+
 import pytest
 from field_scenarios import KINDS, evaluate
 

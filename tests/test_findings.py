@@ -3,6 +3,7 @@
 Each test states the input a crew typed and what a commissioning engineer expects to read; the source of
 each threshold is named beside it.
 """
+
 import pytest
 from test_analysis import BAL, codes, run
 
@@ -12,6 +13,7 @@ def finding(r, code):
 
 
 # ---- 1. all three in phase; zero currents -------------------------------------------------------
+
 
 def test_three_voltages_in_phase_is_unknown_rotation_and_an_alarm():
     # Issue 12 item 1: va=vb=vc=277, all angles 0. X1 = X2 = 0 (0 >= 2·0 was "ABC").
@@ -42,6 +44,7 @@ def test_zero_currents_rotate_neither_way():
 
 # ---- 2. neutral equal to the highest phase ------------------------------------------------------
 
+
 def test_neutral_phasor_sum_equal_to_highest_phase_does_not_exceed():
     # Issue 12 item 2: one phase loaded, the others at 0 A: the neutral is that phase's current, and
     # |polar(12.7, θ)| may come out a hair above 12.7. Equal is not "exceeds" (common practice).
@@ -53,6 +56,7 @@ def test_neutral_phasor_sum_equal_to_highest_phase_does_not_exceed():
 
 # ---- 7. open phase at exactly one half ----------------------------------------------------------
 
+
 def test_open_phase_on_three_wire_feed_at_exactly_half_is_lost():
     # Issue 12 item 7: 480/240/240 (C open: Vab whole, Vbc and Vca in series across it). Collapse
     # ratio 0.5 (common practice), "at or below".
@@ -63,6 +67,7 @@ def test_open_phase_on_three_wire_feed_at_exactly_half_is_lost():
 
 # ---- 8. delta with the Vab angle left blank -----------------------------------------------------
 
+
 def test_delta_with_blank_vab_angle_takes_it_as_zero_like_va():
     # Issue 12 item 8: a meter showing angles against Vab shows none for Vab itself.
     rec = {"system": "delta", "vab": 480, "vbc": 480, "vca": 480, "vbc_deg": -120, "vca_deg": 120, "nominal_v": 480}
@@ -71,10 +76,11 @@ def test_delta_with_blank_vab_angle_takes_it_as_zero_like_va():
     assert r["basis"] == "line-to-line phasors (line-to-neutral equivalent)"
     assert r["rotation"] == "ABC" == full["rotation"]
     assert "MAGNITUDE_ONLY" not in codes(r)
-    assert r["v1"] == pytest.approx(full["v1"]) and r["v1"] == pytest.approx(480 / 3 ** 0.5)
+    assert r["v1"] == pytest.approx(full["v1"]) and r["v1"] == pytest.approx(480 / 3**0.5)
 
 
 # ---- 11. a dead phase shows no angle ------------------------------------------------------------
+
 
 def test_dead_phase_without_angle_keeps_the_other_current_results():
     # Issue 12 item 11: Ic = 0 A and no angle (the meter shows none at 0 A): the zero phasor needs none.
@@ -92,6 +98,7 @@ def test_dead_phase_without_angle_keeps_the_other_current_results():
 
 # ---- 3. line-to-line quantities named by their pair ---------------------------------------------
 
+
 def test_line_to_line_voltage_finding_names_the_pair():
     # Issue 12 item 3: on a delta the voltage compared with nominal is line-to-line: Vca 430 V on
     # 480 V nominal is -10.4 %, outside ANSI C84.1 Range B (-8.3 %); it is "C-A", not "C".
@@ -102,11 +109,27 @@ def test_line_to_line_voltage_finding_names_the_pair():
 
 # ---- 10. arithmetic or vector apparent power ----------------------------------------------------
 
+
 def test_s_va_says_whether_arithmetic_or_vector():
     # Issue 12 item 10. IEEE 1459-2010: arithmetic S = ΣV·I per phase; vector S = |P + jQ|.
     (wye,) = run(BAL)
-    (delta,) = run({"system": "delta", "vab": 480, "vbc": 480, "vca": 480, "vab_deg": 30, "vbc_deg": -90,
-                    "vca_deg": 150, "ia": 100, "ib": 100, "ic": 100, "ia_deg": -30, "ib_deg": -150, "ic_deg": 90})
+    (delta,) = run(
+        {
+            "system": "delta",
+            "vab": 480,
+            "vbc": 480,
+            "vca": 480,
+            "vab_deg": 30,
+            "vbc_deg": -90,
+            "vca_deg": 150,
+            "ia": 100,
+            "ib": 100,
+            "ic": 100,
+            "ia_deg": -30,
+            "ib_deg": -150,
+            "ic_deg": 90,
+        }
+    )
     (none,) = run({"system": "delta", "vab": 480, "vbc": 480, "vca": 480})
     assert wye["s_va_method"] == "arithmetic" and wye["s_va"] == pytest.approx(3 * 277 * 100)
     assert delta["s_va_method"] == "vector" and delta["s_va"] == pytest.approx(delta["s_vector_va"])
@@ -115,11 +138,11 @@ def test_s_va_says_whether_arithmetic_or_vector():
 
 # ---- 5 and 9. sequence names that never contradict the unbalance -------------------------------
 
+
 def test_acb_set_names_v1_the_sequence_turning_with_the_system():
     # Issue 12 item 9: an A-C-B set, slightly unbalanced. vuf_pct = |V2|/|V1| (IEC 61000-4-30 Ed.3 5.7.1)
     # with V1 the sequence that turns with the system (README "Conventions").
-    (r,) = run({**BAL, "va": 277, "vb": 271, "vc": 280, "vb_deg": 120, "vc_deg": -120,
-                "ib_deg": 90, "ic_deg": -150})
+    (r,) = run({**BAL, "va": 277, "vb": 271, "vc": 280, "vb_deg": 120, "vc_deg": -120, "ib_deg": 90, "ic_deg": -150})
     assert r["rotation"] == "ACB"
     assert r["v1"] > 250 and r["v2"] < 5
     assert r["vuf_pct"] == pytest.approx(100 * r["v2"] / r["v1"], abs=1e-3)
@@ -137,6 +160,7 @@ def test_current_unbalance_against_the_system_rotation():
 
 
 # ---- 6. ANSI C84.1 on the table's own bases; no low-voltage table on medium voltage ------------
+
 
 def test_ansi_range_a_on_the_tables_120_v_base():
     # Issue 12 item 6: 114.05 V on a 208Y/120 board. ANSI C84.1-2020 Table 1 (from memory): Range A
@@ -169,10 +193,21 @@ def test_iec_on_its_table_base():
 
 # ---- 4. high-leg delta --------------------------------------------------------------------------
 
+
 def test_plain_120_set_has_no_high_leg():
     # Issue 12 item 4: 120/120/120 on a "high-leg delta": no leg is √3/2 of line-to-line (208 of 240).
-    (r,) = run({"system": "high-leg-delta", "nominal_v": 240, "vab": 240, "vbc": 240, "vca": 240,
-                "va": 120, "vb": 120, "vc": 120})
+    (r,) = run(
+        {
+            "system": "high-leg-delta",
+            "nominal_v": 240,
+            "vab": 240,
+            "vbc": 240,
+            "vca": 240,
+            "va": 120,
+            "vb": 120,
+            "vc": 120,
+        }
+    )
     assert r["high_leg"] is None and "HIGH_LEG_POSITION" not in codes(r)
     assert finding(r, "HIGH_LEG_NOT_FOUND")["severity"] == "info"
 
@@ -180,13 +215,27 @@ def test_plain_120_set_has_no_high_leg():
 def test_high_leg_delta_has_no_120_degree_neutral_estimate():
     # Issue 12 item 4: the magnitude-only neutral estimate assumes 120° spacing; A and C are 180° apart
     # about the centre tap, so no estimate is given (NaN -> null), never a made-up number.
-    (r,) = run({"system": "high-leg-delta", "nominal_v": 240, "vab": 240, "vbc": 240, "vca": 240,
-                "va": 120, "vb": 208, "vc": 120, "ia": 30, "ib": 10, "ic": 20})
+    (r,) = run(
+        {
+            "system": "high-leg-delta",
+            "nominal_v": 240,
+            "vab": 240,
+            "vbc": 240,
+            "vca": 240,
+            "va": 120,
+            "vb": 208,
+            "vc": 120,
+            "ia": 30,
+            "ib": 10,
+            "ic": 20,
+        }
+    )
     assert r["high_leg"] == "B"
     assert r["i_n_est"] is None
 
 
 # ---- the worst false alarms ---------------------------------------------------------------------
+
 
 def severity(r, code):
     return {f["severity"] for f in r["findings"] if f["code"] == code}
@@ -202,8 +251,20 @@ def test_healthy_208y120_panel_at_40_34_46_a_is_no_warning():
 
 
 def test_split_phase_uneven_legs_is_info():
-    (r,) = run({"system": "split-phase", "nominal_v": 240, "va": 120, "vb": 120, "va_deg": 0, "vb_deg": 180,
-                "ia": 50, "ib": 20, "ia_deg": 0, "ib_deg": 180})
+    (r,) = run(
+        {
+            "system": "split-phase",
+            "nominal_v": 240,
+            "va": 120,
+            "vb": 120,
+            "va_deg": 0,
+            "vb_deg": 180,
+            "ia": 50,
+            "ib": 20,
+            "ia_deg": 0,
+            "ib_deg": 180,
+        }
+    )
     assert severity(r, "CURRENT_UNBALANCE") == {"info"}
 
 
@@ -235,6 +296,7 @@ def test_light_phase_at_pf_minus_0_02_is_not_a_reversed_ct():
 
 
 # ---- silent wiring faults -----------------------------------------------------------------------
+
 
 def test_clamps_moved_one_phase_on_are_named():
     # Issue 12: A's clamp on B, B's on C, C's on A. BAL's loads lag 30°; the clamp on A then reads B's
@@ -274,9 +336,11 @@ def test_two_cts_reversed_say_polarity():
 
 # ---- checks that catch wiring, and the board inputs (issue 12 "What to build" 1 and 2) ----------
 
+
 def run_board(*records):
     from fieldpad.core.readings import validate_record
     from fieldpad.core.results import analyze_records
+
     clean = []
     for rec in records:
         c, problems = validate_record(rec, board_inputs=True)
@@ -285,8 +349,22 @@ def run_board(*records):
     return analyze_records(clean)
 
 
-DELTA = {"system": "delta", "nominal_v": 480, "vab": 480, "vbc": 480, "vca": 480, "vab_deg": 30, "vbc_deg": -90,
-         "vca_deg": 150, "ia": 100, "ib": 100, "ic": 100, "ia_deg": -30, "ib_deg": -150, "ic_deg": 90}
+DELTA = {
+    "system": "delta",
+    "nominal_v": 480,
+    "vab": 480,
+    "vbc": 480,
+    "vca": 480,
+    "vab_deg": 30,
+    "vbc_deg": -90,
+    "vca_deg": 150,
+    "ia": 100,
+    "ib": 100,
+    "ic": 100,
+    "ia_deg": -30,
+    "ib_deg": -150,
+    "ic_deg": 90,
+}
 
 
 def test_line_to_line_angles_that_cannot_close_are_named_and_vuf_from_magnitudes():
@@ -332,8 +410,18 @@ def test_split_phase_lost_neutral_legs_80_160():
 
 
 def test_high_leg_delta_halves_100_140():
-    (r,) = run({"system": "high-leg-delta", "nominal_v": 240, "vab": 240, "vbc": 240, "vca": 240,
-                "va": 100, "vb": 208, "vc": 140})
+    (r,) = run(
+        {
+            "system": "high-leg-delta",
+            "nominal_v": 240,
+            "vab": 240,
+            "vbc": 240,
+            "vca": 240,
+            "va": 100,
+            "vb": 208,
+            "vc": 140,
+        }
+    )
     f = finding(r, "NEUTRAL_SHIFT")
     assert f["severity"] == "warning" and f["value"] == pytest.approx(100 * 20 / 120, abs=1e-4)
 
@@ -341,19 +429,27 @@ def test_high_leg_delta_halves_100_140():
 def test_displacement_angle_is_an_alternative_to_absolute_current_angles():
     # 30 lag on each phase is the same reading as BAL's absolute -30, -150, 90 (README "Board inputs").
     rec = {k: v for k, v in BAL.items() if not k.startswith("i")}
-    (a,) = run_board({**rec, "ia": 100, "ib": 100, "ic": 100, "ia_vi_deg": "30 lag", "ib_vi_deg": "30 lag",
-                      "ic_vi_deg": "30 lag"})
+    (a,) = run_board(
+        {**rec, "ia": 100, "ib": 100, "ic": 100, "ia_vi_deg": "30 lag", "ib_vi_deg": "30 lag", "ic_vi_deg": "30 lag"}
+    )
     (b,) = run(BAL)
     for k in ("p_w", "q_var", "i1", "i2", "pf_b"):
         assert a[k] == pytest.approx(b[k]), k
-    (d,) = run_board({**{k: v for k, v in DELTA.items() if not k.endswith(("a_deg", "b_deg", "c_deg"))
-                         or k.startswith("v")}, "ia_vi_deg": -30, "ib_vi_deg": -30, "ic_vi_deg": -30})
+    (d,) = run_board(
+        {
+            **{k: v for k, v in DELTA.items() if not k.endswith(("a_deg", "b_deg", "c_deg")) or k.startswith("v")},
+            "ia_vi_deg": -30,
+            "ib_vi_deg": -30,
+            "ic_vi_deg": -30,
+        }
+    )
     (e,) = run(DELTA)
     assert d["p_w"] == pytest.approx(e["p_w"]) and d["findings"] == []
 
 
 def test_board_inputs_are_checked():
     from fieldpad.core.readings import validate_record
+
     _, problems = validate_record({**BAL, "rating_a": 0, "purpose": "pump", "ia_vi_deg": 10}, board_inputs=True)
     fields = {f for f, _ in problems}
     assert fields == {"rating_a", "purpose", "ia_vi_deg"}
@@ -391,6 +487,7 @@ def test_expected_rotation_and_purpose():
 def test_every_definition_says_what_to_check_and_never_that_it_is_safe():
     from fieldpad.core.registry import REGISTRY
     from fieldpad.core.thresholds import SOURCES
+
     for d in REGISTRY.values():
         assert d.source == "voltage" or d.source in SOURCES, d.code
         assert "safe" not in (d.seen + d.check).lower(), d.code

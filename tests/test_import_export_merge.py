@@ -1,4 +1,5 @@
 """fieldpad import, export and merge: all-or-nothing import, export round trip, merge properties."""
+
 import csv
 import io
 import json
@@ -15,12 +16,12 @@ from fieldpad.storage.db import open_db
 from fieldpad.storage.importer import import_bytes
 from fieldpad.storage.merge import merge_file
 
-GOOD = ("site,board,taken_at,technician,round,system,vab,vbc,vca,note\n"
-        "Plant 7,MCC-2,2026-12-01T09:00:00Z,Sam,AM,delta,460,467,450,\n"
-        "Plant 7,MCC-2,2026-12-01T13:00:00Z,Sam,PM,delta,480,479,481,fan noisy\n"
-        "Plant 7,LP-1,2026-12-01T09:10:00Z,Ana,AM,wye,,,,\n")
-
-
+GOOD = (
+    "site,board,taken_at,technician,round,system,vab,vbc,vca,note\n"
+    "Plant 7,MCC-2,2026-12-01T09:00:00Z,Sam,AM,delta,460,467,450,\n"
+    "Plant 7,MCC-2,2026-12-01T13:00:00Z,Sam,PM,delta,480,479,481,fan noisy\n"
+    "Plant 7,LP-1,2026-12-01T09:10:00Z,Ana,AM,wye,,,,\n"
+)
 
 
 class TestImport:
@@ -33,9 +34,11 @@ class TestImport:
         assert sorted(r["label"] for r in rounds.list_rounds(db, site["id"])) == ["AM", "PM"]
 
     def test_all_or_nothing_and_every_bad_record_named(self, db):
-        bad = GOOD + ("Plant 7,MCC-2,not a time,Sam,AM,delta,460,467,450,\n"
-                      ",MCC-2,2026-12-01T09:00:00Z,Sam,AM,delta,abc,467,450,\n"
-                      "Plant 7,MCC-2,2026-12-01T09:00:00Z,Sam,AM,star,460,467,4500,\n")
+        bad = GOOD + (
+            "Plant 7,MCC-2,not a time,Sam,AM,delta,460,467,450,\n"
+            ",MCC-2,2026-12-01T09:00:00Z,Sam,AM,delta,abc,467,450,\n"
+            "Plant 7,MCC-2,2026-12-01T09:00:00Z,Sam,AM,star,460,467,4500,\n"
+        )
         rep = import_bytes(db, bad.encode())
         assert db["reading"].count == 0 and db["site"].count == 0
         text = "\n".join(rep.problems)
@@ -72,7 +75,7 @@ class TestExport:
         assert doc["format_version"] == 1 and len(doc["readings"]) == 1
 
     def test_csv_neutralises_formulas_numbers_stay_numbers(self, db, board):
-        versions.save_reading(db, board, BAL, technician="=HYPERLINK(\"x\")", note="+1 call me")
+        versions.save_reading(db, board, BAL, technician='=HYPERLINK("x")', note="+1 call me")
         text = to_csv(export_records(db))
         row = next(csv.DictReader(io.StringIO(text.lstrip("\ufeff"))))
         assert row["technician"].startswith("'=") and row["note"] == "'+1 call me"
@@ -96,8 +99,18 @@ class TestExport:
         assert rep.problems == []
 
         def key(recs):
-            return sorted((r["site"], r["board"], r["taken_at"], r["technician"], r["note"],
-                           json.dumps(r["inputs"], sort_keys=True)) for r in recs)
+            return sorted(
+                (
+                    r["site"],
+                    r["board"],
+                    r["taken_at"],
+                    r["technician"],
+                    r["note"],
+                    json.dumps(r["inputs"], sort_keys=True),
+                )
+                for r in recs
+            )
+
         assert key(export_records(fresh)) == key(export_records(a))
 
     def test_cli_output_file_is_private(self, tmp_path):
@@ -148,6 +161,7 @@ def test_merge_idempotent_order_independent_no_duplicates(tmp_path_factory, ops_
     expected = base["reading"].count + sum(open_db(d / f)["reading"].count for f in ("a.db", "b.db"))
     base.close()
     import shutil
+
     shutil.copy(d / "x.db", d / "y.db")
     x, y = open_db(d / "x.db"), open_db(d / "y.db")
     merge_file(x, d / "a.db")
@@ -178,6 +192,7 @@ def test_merge_reports_same_named_board(tmp_path):
 def test_merge_refuses_non_database(tmp_path, db):
     (tmp_path / "junk.db").write_text("junk")
     from fieldpad.storage.db import StorageError
+
     with pytest.raises(StorageError, match="not a fieldpad database"):
         merge_file(db, tmp_path / "junk.db")
 
@@ -192,12 +207,17 @@ class TestStreamingExport:
         sid = sites.find_site(a, "Plant 7")["id"]
         sites.update_site(a, sid, phase_labels="L123", thresholds={"vuf_pct": 1.0})
         b = sites.find_board(a, sid, "LP-1")["id"]
-        other = sites.create_board(a, sites.create_site(a, "Annex, \"old\""), "=DB 2", system="split-phase")
-        s = versions.save_reading(a, b, BAL, note="=SUM(A1), \"quoted\"\nsecond line", technician="Ana",
-                                  taken_at="2026-12-01T11:00:00.000000Z")
+        other = sites.create_board(a, sites.create_site(a, 'Annex, "old"'), "=DB 2", system="split-phase")
+        s = versions.save_reading(
+            a, b, BAL, note='=SUM(A1), "quoted"\nsecond line', technician="Ana", taken_at="2026-12-01T11:00:00.000000Z"
+        )
         versions.correct_reading(a, s.reading_id, {**BAL, "ib_deg": "30", "va": "277.123456789"}, reason="CT")
-        versions.save_reading(a, other, {"va": "120", "vb": "121", "va_deg": "0", "vb_deg": "180", "ia": "10",
-                                         "ib": "0", "ia_deg": "-10"}, taken_at="2026-03-29T01:30:00.000000Z")
+        versions.save_reading(
+            a,
+            other,
+            {"va": "120", "vb": "121", "va_deg": "0", "vb_deg": "180", "ia": "10", "ib": "0", "ia_deg": "-10"},
+            taken_at="2026-03-29T01:30:00.000000Z",
+        )
         return a
 
     def test_csv_same_bytes(self, tmp_path):
@@ -284,8 +304,13 @@ class TestIdempotentImport:
         text = to_csv(export_records(a))
         b = open_db(tmp_path / "b.db")
         assert import_bytes(b, text.encode()).readings == 4
-        ids = lambda d: sorted((r["reading_id"], r["id"], r["version"]) for r in d.query(  # noqa: E731
-            "SELECT reading_id, id, version FROM reading_current"))
+
+        def ids(d):
+            return sorted(
+                (r["reading_id"], r["id"], r["version"])
+                for r in d.query("SELECT reading_id, id, version FROM reading_current")
+            )
+
         assert ids(b) == ids(a)
         rep = import_bytes(b, text.encode())
         assert rep.readings == 0 and rep.already == 4
@@ -312,8 +337,9 @@ def test_import_reads_its_file_without_the_write_lock(tmp_path):
             writes.append(1)
             return super().read(*a)
 
-    body = "".join(f"Plant 7,MCC-2,2026-12-01T09:{k // 60:02d}:{k % 60:02d}Z,Sam,AM,delta,460,467,450,\n"
-                   for k in range(3000))
+    body = "".join(
+        f"Plant 7,MCC-2,2026-12-01T09:{k // 60:02d}:{k % 60:02d}Z,Sam,AM,delta,460,467,450,\n" for k in range(3000)
+    )
     from fieldpad.storage.importer import import_stream
 
     rep = import_stream(db, Reading((GOOD.splitlines()[0] + "\n" + body).encode()))

@@ -3,6 +3,7 @@
 The computation layer imports no UI, terminal or database module (checked in a fresh interpreter); every
 module imports only its own layer or lower ones, screens never import each other, and there are no import
 cycles (checked on the source, lazy imports inside functions included)."""
+
 import ast
 import functools
 import pkgutil
@@ -30,8 +31,18 @@ def test_core_is_pure():
 
 ROOT = Path(fieldpad.__file__).parent
 #: Layer of each part of the package: a module may import its own layer or a lower one, never a higher one.
-LAYERS = {"core": 0, "formats": 1, "storage": 2, "report": 3, "demo_site": 3, "commands": 4, "ui": 4,
-          "cli": 5, "__main__": 5, "__init__": 0}
+LAYERS = {
+    "core": 0,
+    "formats": 1,
+    "storage": 2,
+    "report": 3,
+    "demo_site": 3,
+    "commands": 4,
+    "ui": 4,
+    "cli": 5,
+    "__main__": 5,
+    "__init__": 0,
+}
 SCREENS = {"boards", "sheet", "history", "review"}
 
 
@@ -88,9 +99,13 @@ def test_every_layer_imports_only_downwards():
 
 
 def test_screens_never_import_each_other():
-    bad = [f"{mod} imports {t}" for mod, targets in _graph().items() if mod.startswith("fieldpad.ui.")
-           and mod.split(".")[-1] in SCREENS for t in targets
-           if t.startswith("fieldpad.ui.") and t.split(".")[2] in SCREENS and t.split(".")[2] != mod.split(".")[-1]]
+    bad = [
+        f"{mod} imports {t}"
+        for mod, targets in _graph().items()
+        if mod.startswith("fieldpad.ui.") and mod.split(".")[-1] in SCREENS
+        for t in targets
+        if t.startswith("fieldpad.ui.") and t.split(".")[2] in SCREENS and t.split(".")[2] != mod.split(".")[-1]
+    ]
     assert bad == []
 
 
@@ -101,7 +116,7 @@ def test_no_import_cycles():
 
     def visit(m):
         if m in stack:
-            cycles.append(stack[stack.index(m):] + [m])
+            cycles.append(stack[stack.index(m) :] + [m])
             return
         if m in seen:
             return
@@ -115,4 +130,3 @@ def test_no_import_cycles():
         visit(m)
     # A package's __init__ importing nothing of its own is the usual case; a cycle through one is still one.
     assert cycles == []
-

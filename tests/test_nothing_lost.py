@@ -4,6 +4,7 @@ real file and are safe on a terminal.
 
 The mounts need root (CI runs as root); where mounting is refused the test says so and skips.
 """
+
 import contextlib
 import json
 import os
@@ -28,11 +29,14 @@ def cli(*args, stdin=None):
 @contextlib.contextmanager
 def tmpfs(folder: Path, size: str):
     folder.mkdir(parents=True, exist_ok=True)
-    r = subprocess.run(["mount", "-t", "tmpfs", "-o", f"size={size}", "tmpfs", str(folder)], capture_output=True,
-                       text=True)
+    r = subprocess.run(
+        ["mount", "-t", "tmpfs", "-o", f"size={size}", "tmpfs", str(folder)], capture_output=True, text=True
+    )
     if r.returncode != 0:
-        pytest.skip(f"cannot mount a tmpfs here ({r.stderr.strip() or 'not root'}); "
-                    "the read-only and full file-system cases need it")
+        pytest.skip(
+            f"cannot mount a tmpfs here ({r.stderr.strip() or 'not root'}); "
+            "the read-only and full file-system cases need it"
+        )
     try:
         yield folder
     finally:
@@ -60,6 +64,7 @@ def fill_disk(folder: Path):
 
 
 # ---- not writable is not damaged ---------------------------------------------------------------------
+
 
 @pytest.mark.parametrize("shm_left", [False, True], ids=["closed-cleanly", "wal-and-shm-left"])
 def test_read_only_file_system_opens_for_reading_and_says_why(tmp_path, shm_left):
@@ -145,6 +150,7 @@ def test_full_file_system_keeps_what_is_saved_and_says_full(tmp_path):
 
 # ---- backups and exports: whole or not at all --------------------------------------------------------
 
+
 @pytest.mark.parametrize("content", [b"", b"hello, not a database\n" * 10], ids=["empty", "text"])
 def test_db_check_never_calls_an_empty_or_foreign_file_ok(tmp_path, content):
     p = tmp_path / "backup.db"
@@ -196,8 +202,10 @@ def test_export_to_a_full_disk_names_the_final_file(tmp_path, db, board):
 
 # ---- commands do not invent a database; messages name the file and are terminal-safe -----------------
 
-@pytest.mark.parametrize("args", [["export", "--format", "csv"], ["db", "info"], ["db", "backup", "b.db"],
-                                  ["db", "check"]])
+
+@pytest.mark.parametrize(
+    "args", [["export", "--format", "csv"], ["db", "info"], ["db", "backup", "b.db"], ["db", "check"]]
+)
 def test_reading_commands_refuse_a_path_with_no_database(tmp_path, args):
     typo = tmp_path / "no" / "such" / "fieldpd.db"
     r = cli(*args, "--db", str(typo))
@@ -215,12 +223,23 @@ def test_export_of_a_site_that_does_not_exist_is_an_error(tmp_path, db, board):
 def test_compute_into_a_closed_pipe_is_quiet(tmp_path):
     recs = [dict(BAL) for _ in range(20000)]
     (tmp_path / "big.json").write_text(json.dumps(recs))
-    r = subprocess.run(f"{sys.executable} -m fieldpad compute {tmp_path / 'big.json'} | head -c 10",
-                       shell=True, capture_output=True, text=True, timeout=120, executable="/bin/bash")
+    r = subprocess.run(
+        f"{sys.executable} -m fieldpad compute {tmp_path / 'big.json'} | head -c 10",
+        shell=True,
+        capture_output=True,
+        text=True,
+        timeout=120,
+        executable="/bin/bash",
+    )
     assert "Traceback" not in r.stderr and "Broken pipe" not in r.stderr, r.stderr[-500:]
-    r = subprocess.run(f"set -o pipefail; {sys.executable} -m fieldpad compute {tmp_path / 'big.json'} | head -c 10"
-                       " >/dev/null", shell=True, capture_output=True, text=True, timeout=120,
-                       executable="/bin/bash")
+    r = subprocess.run(
+        f"set -o pipefail; {sys.executable} -m fieldpad compute {tmp_path / 'big.json'} | head -c 10 >/dev/null",
+        shell=True,
+        capture_output=True,
+        text=True,
+        timeout=120,
+        executable="/bin/bash",
+    )
     assert r.returncode == 0, r.stderr[-500:]
 
 
@@ -305,21 +324,32 @@ def test_json_constants_and_duplicate_keys_name_the_record_and_field(tmp_path):
     assert not any(line.startswith("record 1") for line in lines)
 
 
-@pytest.mark.parametrize("taken_at, why", [("2026-03-29T02:30:00", "does not exist"),
-                                           ("2026-10-25T02:30:00", "happened twice")])
+@pytest.mark.parametrize(
+    "taken_at, why", [("2026-03-29T02:30:00", "does not exist"), ("2026-10-25T02:30:00", "happened twice")]
+)
 def test_local_times_that_a_clock_change_makes_unclear_are_refused(tmp_path, taken_at, why):
     # Europe/Berlin: clocks forward 2026-03-29 02:00 -> 03:00, back 2026-10-25 03:00 -> 02:00 (EU summer-time
     # rule, Directive 2000/84/EC art. 2-3: last Sunday of March and of October at 01:00 UTC).
     f = tmp_path / "r.csv"
     f.write_text(f"site,board,taken_at,va,vb,vc\nS,B,{taken_at},277,277,277\n")
     db = tmp_path / "x.db"
-    r = subprocess.run([sys.executable, "-m", "fieldpad", "import", str(f), "--db", str(db)], capture_output=True,
-                       text=True, timeout=120, env={**os.environ, "TZ": "Europe/Berlin"})
+    r = subprocess.run(
+        [sys.executable, "-m", "fieldpad", "import", str(f), "--db", str(db)],
+        capture_output=True,
+        text=True,
+        timeout=120,
+        env={**os.environ, "TZ": "Europe/Berlin"},
+    )
     assert r.returncode == 2 and f"line 2: taken_at: '{taken_at}' {why}" in r.stderr, r.stderr
     ok = f.read_text().replace(taken_at, taken_at + "+01:00")
     f.write_text(ok)
-    r = subprocess.run([sys.executable, "-m", "fieldpad", "import", str(f), "--db", str(db)], capture_output=True,
-                       text=True, timeout=120, env={**os.environ, "TZ": "Europe/Berlin"})
+    r = subprocess.run(
+        [sys.executable, "-m", "fieldpad", "import", str(f), "--db", str(db)],
+        capture_output=True,
+        text=True,
+        timeout=120,
+        env={**os.environ, "TZ": "Europe/Berlin"},
+    )
     assert r.returncode == 0, r.stderr
 
 

@@ -1,4 +1,5 @@
 """The terminal phasor drawing and the sheet's text helpers."""
+
 from datetime import date
 
 from fieldpad.ui.phasor_art import Arrow, draw
@@ -6,8 +7,12 @@ from fieldpad.ui.sheet_model import LL_MAG, LN, caution_lines, cells, understood
 
 
 def test_letters_at_the_tips_and_size():
-    arrows = [Arrow("A", 277, 0, "#ffffff", "V"), Arrow("B", 277, -120, "#ffffff", "V"),
-              Arrow("C", 277, 120, "#ffffff", "V"), Arrow("Ia", 100, -30, "#ffffff", "I")]
+    arrows = [
+        Arrow("A", 277, 0, "#ffffff", "V"),
+        Arrow("B", 277, -120, "#ffffff", "V"),
+        Arrow("C", 277, 120, "#ffffff", "V"),
+        Arrow("Ia", 100, -30, "#ffffff", "I"),
+    ]
     text = draw(arrows, 38, 12, "ABC")
     lines = text.plain.split("\n")
     assert len(lines) == 12 and all(len(line) <= 38 for line in lines)
@@ -28,8 +33,17 @@ def test_grows_with_the_terminal():
 
 def test_reading_order_of_cells():
     assert [c.field for c in cells(LN, "wye")][:5] == ["va", "va_deg", "ia", "ia_deg", "vb"]
-    assert [c.field for c in cells(LL_MAG, "delta")] == ["vab", "ia", "ia_deg", "vbc", "ib", "ib_deg", "vca",
-                                                         "ic", "ic_deg"]
+    assert [c.field for c in cells(LL_MAG, "delta")] == [
+        "vab",
+        "ia",
+        "ia_deg",
+        "vbc",
+        "ib",
+        "ib_deg",
+        "vca",
+        "ic",
+        "ic_deg",
+    ]
     assert cells(LN, "split-phase")[-1].field == "i_n" and len(cells(LN, "split-phase")) == 9
 
 

@@ -1,4 +1,5 @@
 """Neutral current, power, motor derating, voltage ranges, rotation."""
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -61,18 +62,21 @@ class TestPower:
         assert power_factor(s.real, abs(s)) == pytest.approx(np.cos(np.pi / 6))
 
     @settings(max_examples=300)
-    @given(st.lists(st.floats(min_value=1, max_value=500), min_size=6, max_size=6),
-           st.lists(angles, min_size=6, max_size=6))
+    @given(
+        st.lists(st.floats(min_value=1, max_value=500), min_size=6, max_size=6),
+        st.lists(angles, min_size=6, max_size=6),
+    )
     def test_sequence_power_identity(self, m, a):
         v = polar(np.array(m[:3]), np.array(a[:3]))
         i = polar(np.array(m[3:]), np.array(a[3:]))
         total = complex_power(v, i).sum()
-        assert_allclose(sequence_power(sequence_components(v), sequence_components(i)), total,
-                        rtol=1e-9, atol=1e-6)
+        assert_allclose(sequence_power(sequence_components(v), sequence_components(i)), total, rtol=1e-9, atol=1e-6)
 
     @settings(max_examples=200)
-    @given(st.lists(st.floats(min_value=1, max_value=500), min_size=5, max_size=5),
-           st.lists(angles, min_size=5, max_size=5))
+    @given(
+        st.lists(st.floats(min_value=1, max_value=500), min_size=5, max_size=5),
+        st.lists(angles, min_size=5, max_size=5),
+    )
     def test_two_wattmeter_equals_three_element_for_three_wire(self, m, a):
         # Blondel's theorem: with Ia + Ib + Ic = 0, two elements measure the total power.
         v = polar(np.array(m[:3]), np.array(a[:3]))

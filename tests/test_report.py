@@ -1,4 +1,5 @@
 """The supervisor's report: HTML (parsed, escaped, self-contained, rendered in Chromium), CSV hostile text."""
+
 import csv
 import io
 import re
@@ -16,8 +17,24 @@ from fieldpad.storage.db import open_db
 from fieldpad.storage.importer import import_bytes
 
 HOSTILE = '<script>alert("x")</script> & "quotes" \'apos\''
-VOID = {"area", "base", "br", "col", "embed", "hr", "img", "input", "link", "meta", "source", "track", "wbr",
-        "circle", "line", "path"}
+VOID = {
+    "area",
+    "base",
+    "br",
+    "col",
+    "embed",
+    "hr",
+    "img",
+    "input",
+    "link",
+    "meta",
+    "source",
+    "track",
+    "wbr",
+    "circle",
+    "line",
+    "path",
+}
 
 
 class Checker(HTMLParser):
@@ -52,14 +69,24 @@ class Checker(HTMLParser):
 @pytest.fixture
 def report_db(db):
     sid = sites.create_site(db, HOSTILE, colour_set="iec60445")
-    b1 = sites.create_board(db, sid, "MDB <b>1</b>", system="wye", nominal_v=480, af_incident_energy_cal_cm2=8,
-                           af_ppe="2", af_label_date="2024-01-01")
+    b1 = sites.create_board(
+        db,
+        sid,
+        "MDB <b>1</b>",
+        system="wye",
+        nominal_v=480,
+        af_incident_energy_cal_cm2=8,
+        af_ppe="2",
+        af_label_date="2024-01-01",
+    )
     b2 = sites.create_board(db, sid, "=cmd|' /C calc'!A0", system="delta", nominal_v=480)
-    s = versions.save_reading(db, b1, BAL, technician=HOSTILE, note="+1 & <i>note</i>",
-                          taken_at="2026-12-01T10:00:00.000000Z")
+    s = versions.save_reading(
+        db, b1, BAL, technician=HOSTILE, note="+1 & <i>note</i>", taken_at="2026-12-01T10:00:00.000000Z"
+    )
     versions.correct_reading(db, s.reading_id, {**BAL, "ib_deg": "30"}, reason="<b>CT</b> check", by="Ana")
-    versions.save_reading(db, b2, {"vab": "460", "vbc": "467", "vca": "450"}, technician="@SUM(1)",
-                      taken_at="2026-12-01T11:00:00.000000Z")
+    versions.save_reading(
+        db, b2, {"vab": "460", "vbc": "467", "vca": "450"}, technician="@SUM(1)", taken_at="2026-12-01T11:00:00.000000Z"
+    )
     return db
 
 
@@ -109,10 +136,25 @@ def test_html_renders_in_headless_chromium(report_db, tmp_path):
     page = tmp_path / "report.html"
     page.write_text(to_html(report_db, export_records(report_db)), encoding="utf-8")
     png = tmp_path / "report.png"
-    subprocess.run([CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-                    "--disable-background-networking", "--disable-component-update", "--disable-sync",
-                    f"--user-data-dir={tmp_path / 'profile'}", "--window-size=900,1400",
-                    f"--screenshot={png}", page.as_uri()], capture_output=True, timeout=120)
+    subprocess.run(
+        [
+            CHROMIUM,
+            "--headless",
+            "--no-sandbox",
+            "--disable-gpu",
+            "--disable-quic",
+            "--no-first-run",
+            "--disable-background-networking",
+            "--disable-component-update",
+            "--disable-sync",
+            f"--user-data-dir={tmp_path / 'profile'}",
+            "--window-size=900,1400",
+            f"--screenshot={png}",
+            page.as_uri(),
+        ],
+        capture_output=True,
+        timeout=120,
+    )
     data = png.read_bytes()
     assert data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 20_000
 
@@ -151,19 +193,38 @@ def supervisor_day(db):
     measured at 420 A; DB-2 corrected (IA 100 -> 101); DB-3's morning reading voided; the morning round signed
     off; then DB-4 corrected (IA 160 -> 106): after the sign-off."""
     sid = sites.create_site(db, SITE, label_review_years=5)
-    boards = [sites.create_board(db, sid, f"DB-{k + 1}", location=f"Plant room {k + 1}", nominal_v=480,
-                                 **({} if k == 2 else {"af_incident_energy_cal_cm2": 8, "af_ppe": "2",
-                                                       "af_label_date": "2019-03-01" if k == 1 else "2024-05-01"}))
-              for k in range(4)]
+    boards = [
+        sites.create_board(
+            db,
+            sid,
+            f"DB-{k + 1}",
+            location=f"Plant room {k + 1}",
+            nominal_v=480,
+            **(
+                {}
+                if k == 2
+                else {
+                    "af_incident_energy_cal_cm2": 8,
+                    "af_ppe": "2",
+                    "af_label_date": "2019-03-01" if k == 1 else "2024-05-01",
+                }
+            ),
+        )
+        for k in range(4)
+    ]
     r1 = rounds.start_round(db, sid, "Ana Ruiz", label="Morning walk", started_at="2026-12-01T14:00:00.000000Z")
     r2 = rounds.start_round(db, sid, "Ben Ode", started_at="2026-12-01T19:00:00.000000Z")
     first = []
     for k, b in enumerate(boards):
         inp = {**BAL, "i_n": "420"} if k == 0 else {**BAL, "ia": "160"} if k == 3 else BAL
-        first.append(versions.save_reading(db, b, inp, technician="Ana Ruiz", round_id=r1,
-                                           taken_at=f"2026-12-01T14:{10 + k:02d}:00.000000Z"))
-        versions.save_reading(db, b, BAL, technician="Ben Ode", round_id=r2,
-                              taken_at=f"2026-12-01T19:{10 + k:02d}:00.000000Z")
+        first.append(
+            versions.save_reading(
+                db, b, inp, technician="Ana Ruiz", round_id=r1, taken_at=f"2026-12-01T14:{10 + k:02d}:00.000000Z"
+            )
+        )
+        versions.save_reading(
+            db, b, BAL, technician="Ben Ode", round_id=r2, taken_at=f"2026-12-01T19:{10 + k:02d}:00.000000Z"
+        )
     versions.correct_reading(db, first[1].reading_id, {**BAL, "ia": "101"}, reason="misread clamp", by="Ana Ruiz")
     versions.void_reading(db, first[2].reading_id, reason="meter on the wrong board", by="Ana Ruiz")
     signoffs.sign_off(db, sid, by="Carla Lind", round_id=r1, note="morning round checked")
@@ -201,7 +262,7 @@ def _sections(html: str) -> dict:
 
 def test_report_names_rounds_states_the_zone_and_tells_measured_from_computed(day_db):
     html = to_html(day_db, export_records(day_db, day=DAY, site=SITE), day=DAY, site=SITE)
-    head = html.split('<h2>Boards</h2>')[0]
+    head = html.split("<h2>Boards</h2>")[0]
     assert "Times are local time: <b>CST (UTC-06:00)</b>" in head
     # Rounds by name in the header (the unnamed one got its default), with their local start.
     assert "Rounds: <b>Morning walk</b> (08:00–not finished, Ana Ruiz); <b>Round 2 — 2026-12-01 13:00</b>" in head
@@ -220,8 +281,8 @@ def test_report_names_rounds_states_the_zone_and_tells_measured_from_computed(da
 
 def test_report_board_table_comes_first_with_last_reading_worst_finding_and_label(day_db):
     html = to_html(day_db, export_records(day_db, day=DAY, site=SITE), day=DAY, site=SITE)
-    table = html.split('<h2>Boards</h2>')[1].split("</table>")[0]
-    assert html.index('<h2>Boards</h2>') < html.index('<section class="board"')
+    table = html.split("<h2>Boards</h2>")[1].split("</table>")[0]
+    assert html.index("<h2>Boards</h2>") < html.index('<section class="board"')
     rows = table.split("<tr>")[2:]
     assert [re.search(r'href="#board-\d+">([^<]+)<', r).group(1) for r in rows] == ["DB-1", "DB-2", "DB-3", "DB-4"]
     assert "13:10, Ben Ode" in rows[0] and "WARNING</span> Neutral current 420.0 A exceeds" in rows[0]
@@ -277,17 +338,37 @@ def test_report_prints_to_pdf_with_no_board_split_across_pages(db, chicago, tmp_
     for k in range(5, 13):  # enough boards for several pages
         b = sites.create_board(db, sid, f"DB-{k}", location=f"Bay {k}", nominal_v=480)
         for h in (15, 16, 20):
-            versions.save_reading(db, b, {**BAL, "vc": "262"} if k % 3 else BAL, technician="Ana Ruiz",
-                                  taken_at=f"2026-12-01T{h}:{k:02d}:00.000000Z")
+            versions.save_reading(
+                db,
+                b,
+                {**BAL, "vc": "262"} if k % 3 else BAL,
+                technician="Ana Ruiz",
+                taken_at=f"2026-12-01T{h}:{k:02d}:00.000000Z",
+            )
     html = to_html(db, export_records(db, day=DAY, site=SITE), day=DAY, site=SITE)
     page = tmp_path / "report.html"
-    page.write_text(html.replace("@page { margin: 12mm; }", f"@page {{ size: {paper}; margin: 12mm; }}"),
-                    encoding="utf-8")
+    page.write_text(
+        html.replace("@page { margin: 12mm; }", f"@page {{ size: {paper}; margin: 12mm; }}"), encoding="utf-8"
+    )
     pdf = tmp_path / "report.pdf"
-    subprocess.run([CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
-                    "--disable-background-networking", "--disable-component-update", "--disable-sync",
-                    f"--user-data-dir={tmp_path / 'profile'}", "--no-pdf-header-footer",
-                    f"--print-to-pdf={pdf}", page.as_uri()], capture_output=True, timeout=180)
+    subprocess.run(
+        [
+            CHROMIUM,
+            "--headless",
+            "--no-sandbox",
+            "--disable-gpu",
+            "--no-first-run",
+            "--disable-background-networking",
+            "--disable-component-update",
+            "--disable-sync",
+            f"--user-data-dir={tmp_path / 'profile'}",
+            "--no-pdf-header-footer",
+            f"--print-to-pdf={pdf}",
+            page.as_uri(),
+        ],
+        capture_output=True,
+        timeout=180,
+    )
     data = pdf.read_bytes()
     assert data[:5] == b"%PDF-"
     if not shutil.which("pdftotext"):

@@ -2,6 +2,7 @@
 
 The robustness run (tests/robustness/run.py) repeats the random and crash parts at larger counts.
 """
+
 import os
 import sqlite3
 import subprocess
@@ -52,8 +53,10 @@ def test_damaged_or_foreign_files_get_a_message_and_are_not_changed(tmp_path, da
         c.close()
     elif damage == "newer":
         c = sqlite3.connect(p)
-        c.execute("INSERT INTO _sqlite_migrations (migration_set, name, applied_at) "
-                  "VALUES ('fieldpad', '9999_future', '2030-01-01')")
+        c.execute(
+            "INSERT INTO _sqlite_migrations (migration_set, name, applied_at) "
+            "VALUES ('fieldpad', '9999_future', '2030-01-01')"
+        )
         c.commit()
         c.close()
     for suffix in ("-wal", "-shm"):
@@ -118,8 +121,17 @@ async def test_app_keeps_typed_values_when_the_disk_is_full(tmp_path):
         assert "NOT SAVED" in str(sheet.query_one("#status").render())
 
 
-HOSTILE = ["Robert'); DROP TABLE reading;--", "<img src=x onerror=alert(1)>", "=HYPERLINK(\"http://x\")",
-           "\x1b[31mred\x1b[0m\x07", "x" * 200, "\u202eevil\u202c", "Schaltschrank ⚡ 🔌", "tab\there", "-2+3"]
+HOSTILE = [
+    "Robert'); DROP TABLE reading;--",
+    "<img src=x onerror=alert(1)>",
+    '=HYPERLINK("http://x")',
+    "\x1b[31mred\x1b[0m\x07",
+    "x" * 200,
+    "\u202eevil\u202c",
+    "Schaltschrank ⚡ 🔌",
+    "tab\there",
+    "-2+3",
+]
 
 
 def test_hostile_text_is_stored_as_typed_escaped_and_neutralised(db):
@@ -138,7 +150,7 @@ def test_hostile_text_is_stored_as_typed_escaped_and_neutralised(db):
     assert ",-2+3" not in csv_text and "'-2+3" in csv_text
     for text in HOSTILE:
         shown = printable(text)
-        assert not any(ord(c) < 32 or 0x7f <= ord(c) <= 0x9f for c in shown)
+        assert not any(ord(c) < 32 or 0x7F <= ord(c) <= 0x9F for c in shown)
 
 
 async def test_board_list_shows_hostile_names_without_control_sequences(db_path, db):

@@ -1,4 +1,5 @@
 """Symmetrical components against textbook worked examples and reference libraries."""
+
 import numpy as np
 import pytest
 import scipy.fft
@@ -22,8 +23,7 @@ angles = st.floats(min_value=-180.0, max_value=180.0, allow_nan=False, allow_inf
 
 
 def phasor_sets():
-    return st.tuples(mags, mags, mags, angles, angles, angles).map(
-        lambda t: polar(np.array(t[:3]), np.array(t[3:])))
+    return st.tuples(mags, mags, mags, angles, angles, angles).map(lambda t: polar(np.array(t[:3]), np.array(t[3:])))
 
 
 class TestTextbookExamples:
@@ -144,6 +144,7 @@ class TestProperties:
 @given(st.floats(min_value=-360.0, max_value=360.0, allow_nan=False))
 def test_half_angle_cos_sin_match_numpy(deg):
     from fieldpad.core.phasors import cos_sin_deg
+
     c, s = cos_sin_deg(deg)
     assert c == pytest.approx(np.cos(np.deg2rad(deg)), abs=1e-14)
     assert s == pytest.approx(np.sin(np.deg2rad(deg)), abs=1e-14)
@@ -151,6 +152,7 @@ def test_half_angle_cos_sin_match_numpy(deg):
 
 def test_half_angle_at_180():
     from fieldpad.core.phasors import cos_sin_deg
+
     c, s = cos_sin_deg(np.array([180.0, -180.0, 90.0, np.nan]))
     assert_allclose(c[:3], [-1.0, -1.0, 0.0], atol=1e-15)
     assert np.isnan(c[3]) and np.isnan(s[3])

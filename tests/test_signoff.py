@@ -1,4 +1,5 @@
 """Rounds with names and sign-offs: storage, the upgrade that names old rounds, the signoff command."""
+
 import os
 import sqlite3
 import subprocess
@@ -32,10 +33,12 @@ def test_upgrade_names_the_rounds_an_older_database_left_unnamed(tmp_path):
     now = "2026-01-01T00:00:00.000000Z"
     old["site"].insert({"id": "s1", "name": "Old", "created_at": now, "updated_at": now})
     old["site"].insert({"id": "s2", "name": "Other", "created_at": now, "updated_at": now})
-    for rid, site, start, label in (("r2", "s1", "2026-01-02T10:00:00.000000Z", None),
-                                    ("r1", "s1", "2026-01-01T10:00:00.000000Z", ""),
-                                    ("r3", "s1", "2026-01-03T10:00:00.000000Z", "night check"),
-                                    ("r4", "s2", "2026-01-05T10:00:00.000000Z", None)):
+    for rid, site, start, label in (
+        ("r2", "s1", "2026-01-02T10:00:00.000000Z", None),
+        ("r1", "s1", "2026-01-01T10:00:00.000000Z", ""),
+        ("r3", "s1", "2026-01-03T10:00:00.000000Z", "night check"),
+        ("r4", "s2", "2026-01-05T10:00:00.000000Z", None),
+    ):
         old["round"].insert({"id": rid, "site_id": site, "label": label, "started_at": start})
     old.close()
     db = open_db(path)
@@ -74,20 +77,27 @@ def test_signoff_refuses_what_it_cannot_store(db, board):
     sid = sites.get_board(db, board)["site_id"]
     other = sites.create_site(db, "Elsewhere")
     foreign = rounds.start_round(db, other, "Ana")
-    for kwargs, why in (({"by": "", "day": "2026-12-01"}, "signed by: is required"),
-                        ({"by": "C", "day": "12/01/2026"}, "is not a date"),
-                        ({"by": "C"}, "either a round or a day"),
-                        ({"by": "C", "day": "2026-12-01", "round_id": foreign}, "either a round or a day"),
-                        ({"by": "C", "round_id": foreign}, "another site"),
-                        ({"by": "C", "round_id": "nope"}, "no round")):
+    for kwargs, why in (
+        ({"by": "", "day": "2026-12-01"}, "signed by: is required"),
+        ({"by": "C", "day": "12/01/2026"}, "is not a date"),
+        ({"by": "C"}, "either a round or a day"),
+        ({"by": "C", "day": "2026-12-01", "round_id": foreign}, "either a round or a day"),
+        ({"by": "C", "round_id": foreign}, "another site"),
+        ({"by": "C", "round_id": "nope"}, "no round"),
+    ):
         with pytest.raises(ValidationError, match=why):
             signoffs.sign_off(db, sid, **kwargs)
     assert next(db.query("SELECT COUNT(*) AS n FROM signoff"))["n"] == 0
 
 
 def _fieldpad(*args, env=None):
-    return subprocess.run([sys.executable, "-m", "fieldpad.cli", *args], capture_output=True, text=True,
-                          timeout=60, env={**os.environ, **(env or {})})
+    return subprocess.run(
+        [sys.executable, "-m", "fieldpad.cli", *args],
+        capture_output=True,
+        text=True,
+        timeout=60,
+        env={**os.environ, **(env or {})},
+    )
 
 
 def test_signoff_command(db_path, db, board):
@@ -101,14 +111,22 @@ def test_signoff_command(db_path, db, board):
     assert p.returncode == 0, p.stderr
     p = _fieldpad("signoff", "--db", str(db_path), "--round", rid, "--by", "Carla Lind", "--site", "North Cold Store")
     assert p.returncode == 0, p.stderr
-    for args, why in ((["--by", "X"], "give --day YYYY-MM-DD"),
-                      (["--day", "yesterday", "--by", "X"], "is not a date"),
-                      (["--round", "Evening", "--by", "X"], "no round with the id or name 'Evening'"),
-                      (["--day", "2026-12-01", "--by", "X", "--site", "Nowhere"], "no site named 'Nowhere'"),
-                      (["--day", "2026-12-01", "--by", " "], "signed by: is required")):
+    for args, why in (
+        (["--by", "X"], "give --day YYYY-MM-DD"),
+        (["--day", "yesterday", "--by", "X"], "is not a date"),
+        (["--round", "Evening", "--by", "X"], "no round with the id or name 'Evening'"),
+        (["--day", "2026-12-01", "--by", "X", "--site", "Nowhere"], "no site named 'Nowhere'"),
+        (["--day", "2026-12-01", "--by", " "], "signed by: is required"),
+    ):
         p = _fieldpad("signoff", "--db", str(db_path), *args)
         assert p.returncode == 2 and why in p.stderr and "nothing was signed" in p.stderr, (args, p.stderr)
-    rows = sqlite3.connect(db_path).execute(
-        "SELECT day, round_id, signed_by, note FROM signoff ORDER BY signed_at").fetchall()
-    assert rows == [("2026-12-01", None, "Carla Lind", "=all read"), (None, rid, "Carla Lind", None),
-                    (None, rid, "Carla Lind", None)]
+    rows = (
+        sqlite3.connect(db_path)
+        .execute("SELECT day, round_id, signed_by, note FROM signoff ORDER BY signed_at")
+        .fetchall()
+    )
+    assert rows == [
+        ("2026-12-01", None, "Carla Lind", "=all read"),
+        (None, rid, "Carla Lind", None),
+        (None, rid, "Carla Lind", None),
+    ]

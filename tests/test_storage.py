@@ -1,4 +1,5 @@
 """The field database against real SQLite files in a temporary folder."""
+
 import os
 import sqlite3
 import stat
@@ -35,8 +36,13 @@ def test_new_file_is_private(db_path, db):
 def test_migrations_from_empty_file(db):
     applied = [r["name"] for r in db.query("SELECT name FROM _sqlite_migrations ORDER BY rowid")]
     assert applied == schema_version_names()
-    assert applied[:5] == ["0001_initial", "0002_drafts", "0003_rounds_signoff", "0004_crew_identity",
-                           "0005_board_overrides"]
+    assert applied[:5] == [
+        "0001_initial",
+        "0002_drafts",
+        "0003_rounds_signoff",
+        "0004_crew_identity",
+        "0005_board_overrides",
+    ]
     assert "0007_sync" in applied
     assert {"site", "board", "round", "reading", "draft", "signoff", "sync_state", "sync_log"} <= set(db.table_names())
 
@@ -51,11 +57,23 @@ def test_upgrade_from_every_earlier_version_keeps_data_and_backs_up(tmp_path):
         _migrations().apply(old, stop_before=stop)
         now = "2026-01-01T00:00:00.000000Z"
         old["site"].insert({"id": "s1", "name": "Old", "created_at": now, "updated_at": now})
-        old["board"].insert({"id": "b1", "site_id": "s1", "name": "B", "system": "wye",
-                             "created_at": now, "updated_at": now})
-        old["reading"].insert({"id": "r1", "reading_id": "r1", "version": 1, "board_id": "b1", "taken_at": now,
-                               "recorded_at": now, "inputs_json": "{}", "system": "wye", "standard": "ansi",
-                               "va": 277.0})
+        old["board"].insert(
+            {"id": "b1", "site_id": "s1", "name": "B", "system": "wye", "created_at": now, "updated_at": now}
+        )
+        old["reading"].insert(
+            {
+                "id": "r1",
+                "reading_id": "r1",
+                "version": 1,
+                "board_id": "b1",
+                "taken_at": now,
+                "recorded_at": now,
+                "inputs_json": "{}",
+                "system": "wye",
+                "standard": "ansi",
+                "va": 277.0,
+            }
+        )
         old.close()
         db = open_db(path)
         assert [r["name"] for r in db.query("SELECT name FROM _sqlite_migrations ORDER BY rowid")] == names
@@ -67,8 +85,7 @@ def test_upgrade_from_every_earlier_version_keeps_data_and_backs_up(tmp_path):
 
 
 def test_newer_database_is_refused_and_untouched(db_path, db):
-    db["_sqlite_migrations"].insert({"migration_set": "fieldpad", "name": "9999_future",
-                                     "applied_at": "2030-01-01"})
+    db["_sqlite_migrations"].insert({"migration_set": "fieldpad", "name": "9999_future", "applied_at": "2030-01-01"})
     db.close()
     before = db_path.read_bytes()
     with pytest.raises(NewerDatabaseError, match="newer fieldpad"):
@@ -140,8 +157,10 @@ class TestReadings:
             versions.correct_reading(db, s.reading_id, BAL, reason=" ")
 
     def test_board_history_and_previous(self, db, board):
-        ids = [versions.save_reading(db, board, BAL, taken_at=f"2026-12-01T0{k}:00:00.000000Z").reading_id
-               for k in range(5)]
+        ids = [
+            versions.save_reading(db, board, BAL, taken_at=f"2026-12-01T0{k}:00:00.000000Z").reading_id
+            for k in range(5)
+        ]
         hist = versions.board_history(db, board, limit=3)
         assert [h["reading_id"] for h in hist] == ids[::-1][:3]
         assert versions.previous_reading(db, board, ids[4])["reading_id"] == ids[3]
@@ -161,8 +180,9 @@ class TestReadings:
 
     def test_foreign_keys_enforced(self, db):
         with pytest.raises(sqlite3.IntegrityError):
-            db["board"].insert({"id": "x", "site_id": "missing", "name": "n", "system": "wye",
-                                "created_at": "t", "updated_at": "t"})
+            db["board"].insert(
+                {"id": "x", "site_id": "missing", "name": "n", "system": "wye", "created_at": "t", "updated_at": "t"}
+            )
 
     def test_board_validation(self, db):
         sid = sites.create_site(db, "S")

@@ -2,6 +2,7 @@
 
 The robustness run (tests/robustness/run.py) does the same at larger counts.
 """
+
 import random
 import subprocess
 import sys
@@ -26,8 +27,10 @@ def test_sigkill_loses_no_committed_reading(tmp_path):
 def test_two_writers_at_once(tmp_path):
     path = tmp_path / "busy.db"
     board = _setup(path)
-    procs = [subprocess.Popen([sys.executable, WRITER, str(path), board, "150"], stdout=subprocess.PIPE, text=True)
-             for _ in range(2)]
+    procs = [
+        subprocess.Popen([sys.executable, WRITER, str(path), board, "150"], stdout=subprocess.PIPE, text=True)
+        for _ in range(2)
+    ]
     outs = [p.communicate(timeout=120)[0] for p in procs]
     lines = [line for out in outs for line in out.splitlines()]
     errors = [line for line in lines if line.startswith("error")]

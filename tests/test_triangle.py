@@ -1,4 +1,5 @@
 """The voltage triangle and its Napoleon triangles (fieldpad/core/triangle.py)."""
+
 import numpy as np
 from numpy.testing import assert_allclose
 
@@ -35,14 +36,14 @@ class TestNapoleon:
         # inner² = (a²+b²+c²)/6 − (2/√3)·S (the standard Napoleon side formula; from memory), so
         # outer² = 50/6 + 12/√3 = 15.2616 (3.9066) and inner² = 50/6 − 12/√3 = 1.4051 (1.1854).
         outer, inner = napoleon_sides(3.0, 4.0, 5.0)
-        assert_allclose([outer ** 2, inner ** 2], [50 / 6 + 12 / np.sqrt(3), 50 / 6 - 12 / np.sqrt(3)])
+        assert_allclose([outer**2, inner**2], [50 / 6 + 12 / np.sqrt(3), 50 / 6 - 12 / np.sqrt(3)])
         assert_allclose([outer, inner], [3.9066, 1.1854], atol=5e-5)
 
     def test_difference_of_the_napoleon_areas_is_the_triangle_area(self):
         # Coxeter & Greitzer §3.3 (from memory): area(outer) − area(inner) = area(triangle).
         outer, inner = napoleon_sides(3.0, 4.0, 5.0)
         eq_area = np.sqrt(3) / 4
-        assert_allclose(eq_area * (outer ** 2 - inner ** 2), 6.0)
+        assert_allclose(eq_area * (outer**2 - inner**2), 6.0)
 
     def test_sides_are_root3_times_the_line_to_neutral_sequence_magnitudes(self):
         # Fortescue, "Method of symmetrical co-ordinates applied to the solution of polyphase networks",
@@ -50,8 +51,8 @@ class TestNapoleon:
         # An unbalanced line-to-neutral set (invented): 277 V∠0°, 262 V∠-118°, 281 V∠123°.
         op = np.exp(2j * np.pi / 3)
         va, vb, vc = (m * np.exp(1j * np.radians(d)) for m, d in ((277, 0), (262, -118), (281, 123)))
-        v1 = abs(va + op * vb + op ** 2 * vc) / 3
-        v2 = abs(va + op ** 2 * vb + op * vc) / 3
+        v1 = abs(va + op * vb + op**2 * vc) / 3
+        v2 = abs(va + op**2 * vb + op * vc) / 3
         outer, inner = napoleon_sides(abs(va - vb), abs(vb - vc), abs(vc - va))
         assert_allclose([outer, inner], [np.sqrt(3) * v1, np.sqrt(3) * v2], rtol=1e-9)
 

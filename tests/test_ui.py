@@ -1,4 +1,5 @@
 """The entry app, headless: pilot tests for the whole flow, SVG snapshots, a real-terminal burst."""
+
 import contextlib
 import os
 import shutil
@@ -20,9 +21,19 @@ from fieldpad.ui.sheet import ReadingSheet
 def seeded(path):
     db = open_db(path)
     sid = sites.create_site(db, "Test Yard", colour_set="na-480y277")
-    bid = sites.create_board(db, sid, "MDB-7", system="wye", nominal_v=480, location="Plant room",
-                            af_incident_energy_cal_cm2=4.2, af_working_distance_mm=455, af_boundary_mm=900,
-                            af_ppe="2", af_label_date="2024-06-01")
+    bid = sites.create_board(
+        db,
+        sid,
+        "MDB-7",
+        system="wye",
+        nominal_v=480,
+        location="Plant room",
+        af_incident_energy_cal_cm2=4.2,
+        af_working_distance_mm=455,
+        af_boundary_mm=900,
+        af_ppe="2",
+        af_label_date="2024-06-01",
+    )
     versions.save_reading(db, bid, BAL, technician="Earlier Tech", taken_at="2026-11-30T09:00:00.000000Z")
     db.close()
     return bid
@@ -44,9 +55,51 @@ async def test_first_run_create_site_board_enter_save_correct(tmp_path):
         sheet = app.screen
         assert isinstance(sheet, ReadingSheet)
         # The reference angle (VA°) is not a Tab stop: V, Tab, I as one expects.
-        keys = ["2", "7", "7", "tab", "1", "0", "0", "tab", "-", "3", "0", "tab",
-                "2", "7", "7", "tab", "2", "4", "0", "tab", "1", "0", "0", "tab", "-", "1", "5", "0", "tab",
-                "2", "7", "7", "tab", "1", "2", "0", "tab", "1", "0", "0", "tab", "9", "0"]
+        keys = [
+            "2",
+            "7",
+            "7",
+            "tab",
+            "1",
+            "0",
+            "0",
+            "tab",
+            "-",
+            "3",
+            "0",
+            "tab",
+            "2",
+            "7",
+            "7",
+            "tab",
+            "2",
+            "4",
+            "0",
+            "tab",
+            "1",
+            "0",
+            "0",
+            "tab",
+            "-",
+            "1",
+            "5",
+            "0",
+            "tab",
+            "2",
+            "7",
+            "7",
+            "tab",
+            "1",
+            "2",
+            "0",
+            "tab",
+            "1",
+            "0",
+            "0",
+            "tab",
+            "9",
+            "0",
+        ]
         await pilot.press(*keys)
         grid_rows = seen(sheet, "#grid").splitlines()
         assert grid_rows[1].split()[2:] == ["277", "0", "ref", "100", "-30"]
@@ -154,8 +207,9 @@ def test_draft_age_in_words():
 async def test_mode_switch_keeps_or_converts_what_is_typed_and_says_so(tmp_path):
     async with sheet_open(tmp_path, "m.db", size=(100, 30)) as (app, pilot):
         sheet = app.screen
-        await pilot.press(*"277", "tab", "tab", "tab", *"277", "tab", *"-120", "tab", "tab", "tab",
-                          *"277", "tab", *"120")
+        await pilot.press(
+            *"277", "tab", "tab", "tab", *"277", "tab", *"-120", "tab", "tab", "tab", *"277", "tab", *"120"
+        )
         await pilot.press("f5")  # line-to-line with angles: converted from the phasors typed
         assert grid_row(sheet, 0) == ["V", "V°", "I", "I°"]
         assert grid_row(sheet, 1)[2:4] == ["479.8", "30.0"]
@@ -202,8 +256,9 @@ async def test_key_strip_lists_the_screen_keys_and_follows_the_screen(tmp_path):
     # help stay whatever the width, the others fill the room left.
     text = strip_text([("f2", "Save", True), ("f3", "Previous reading", True), ("esc", "Back", True)], width=33)
     assert text.plain == " F2  Save  Esc  Back "
-    text = strip_text([("f2", "Save", True), ("f3", "Prev", True), ("f9", "Previous reading", True),
-                       ("esc", "Back", True)], width=33)
+    text = strip_text(
+        [("f2", "Save", True), ("f3", "Prev", True), ("f9", "Previous reading", True), ("esc", "Back", True)], width=33
+    )
     assert text.plain == " F2  Save  F3  Prev  Esc  Back "
     assert key_cap("f12") == "F12" and key_cap("escape") == "Esc" and key_cap("n") == "n"
 
@@ -220,10 +275,34 @@ def _sheet_app(tmp_path, name):
         # A fixed "today": the label dated 2024-06-01 is current on it, whatever the computer's date.
         app.push_screen(ReadingSheet(bid, today=date(2026, 12, 2)))
         await pilot.pause()
-        await pilot.press(*"277", "tab", *"100", "tab", *"-30", "tab", *"277", "tab", *"240", "tab",
-                          *"100", "tab", "-", *"150", "tab", *"277", "tab", *"120", "tab", *"100", "tab",
-                          *"270", "tab", *"12")
+        await pilot.press(
+            *"277",
+            "tab",
+            *"100",
+            "tab",
+            *"-30",
+            "tab",
+            *"277",
+            "tab",
+            *"240",
+            "tab",
+            *"100",
+            "tab",
+            "-",
+            *"150",
+            "tab",
+            *"277",
+            "tab",
+            *"120",
+            "tab",
+            *"100",
+            "tab",
+            *"270",
+            "tab",
+            *"12",
+        )
         await pilot.pause()
+
     return app, run_before
 
 
@@ -242,12 +321,24 @@ class Terminal:
 
     def __init__(self, db):
         self.session = f"fp{os.getpid()}{int(time.time() * 1000) % 100000}"
-        subprocess.run(["tmux", "new-session", "-d", "-s", self.session, "-x", "80", "-y", "24",
-                        f"{sys.executable} -m fieldpad --db {db}"], check=True)
+        subprocess.run(
+            [
+                "tmux",
+                "new-session",
+                "-d",
+                "-s",
+                self.session,
+                "-x",
+                "80",
+                "-y",
+                "24",
+                f"{sys.executable} -m fieldpad --db {db}",
+            ],
+            check=True,
+        )
 
     def screen(self) -> str:
-        return subprocess.run(["tmux", "capture-pane", "-p", "-t", self.session], capture_output=True,
-                              text=True).stdout
+        return subprocess.run(["tmux", "capture-pane", "-p", "-t", self.session], capture_output=True, text=True).stdout
 
     def keys(self, *keys) -> None:
         subprocess.run(["tmux", "send-keys", "-t", self.session, *keys], check=True)  # one burst
@@ -262,8 +353,9 @@ class Terminal:
         subprocess.run(["tmux", "kill-session", "-t", self.session])
 
 
-needs_tmux = pytest.mark.skipif(shutil.which("tmux") is None,
-                                reason="tmux is not installed (the .ci/run script installs it)")
+needs_tmux = pytest.mark.skipif(
+    shutil.which("tmux") is None, reason="tmux is not installed (the .ci/run script installs it)"
+)
 
 
 @needs_tmux
@@ -277,20 +369,77 @@ def test_fast_burst_through_a_real_terminal(tmp_path):
         term.keys("Enter")
         term.wait("Label:")
         # V, Tab, I: the reference angle (VA°) is not a Tab stop; blank, it is 0°.
-        term.keys("2", "7", "7", "Tab", "1", "0", "0", "Tab", "-", "3", "0", "Tab",
-                  "2", "7", "6", "Tab", "2", "4", "0", "Tab", "9", "9", "Tab", "-", "1", "5", "0", "Enter",
-                  "2", "7", "8", "Enter", "1", "2", "0", "Enter", "9", "8", "Enter", "9", "0", "Tab", "7", "F2")
+        term.keys(
+            "2",
+            "7",
+            "7",
+            "Tab",
+            "1",
+            "0",
+            "0",
+            "Tab",
+            "-",
+            "3",
+            "0",
+            "Tab",
+            "2",
+            "7",
+            "6",
+            "Tab",
+            "2",
+            "4",
+            "0",
+            "Tab",
+            "9",
+            "9",
+            "Tab",
+            "-",
+            "1",
+            "5",
+            "0",
+            "Enter",
+            "2",
+            "7",
+            "8",
+            "Enter",
+            "1",
+            "2",
+            "0",
+            "Enter",
+            "9",
+            "8",
+            "Enter",
+            "9",
+            "0",
+            "Tab",
+            "7",
+            "F2",
+        )
         shown = term.wait("SAVED")
         assert "SAVED" in shown, shown
     finally:
         term.close()
     d = open_db(db)
     row = versions.board_history(d, sites.list_boards(d, sites.list_sites(d)[0]["id"])[0]["id"], 1)[0]
-    got = {k: row[k] for k in ("va", "va_deg", "ia", "ia_deg", "vb", "vb_deg", "ib", "ib_deg", "vc", "vc_deg",
-                               "ic", "ic_deg", "i_n")}
-    assert got == {"va": 277.0, "va_deg": None, "ia": 100.0, "ia_deg": -30.0, "vb": 276.0, "vb_deg": 240.0,
-                   "ib": 99.0, "ib_deg": -150.0, "vc": 278.0, "vc_deg": 120.0, "ic": 98.0, "ic_deg": 90.0,
-                   "i_n": 7.0}
+    got = {
+        k: row[k]
+        for k in ("va", "va_deg", "ia", "ia_deg", "vb", "vb_deg", "ib", "ib_deg", "vc", "vc_deg", "ic", "ic_deg", "i_n")
+    }
+    assert got == {
+        "va": 277.0,
+        "va_deg": None,
+        "ia": 100.0,
+        "ia_deg": -30.0,
+        "vb": 276.0,
+        "vb_deg": 240.0,
+        "ib": 99.0,
+        "ib_deg": -150.0,
+        "vc": 278.0,
+        "vc_deg": 120.0,
+        "ic": 98.0,
+        "ic_deg": 90.0,
+        "i_n": 7.0,
+    }
 
 
 async def test_day_review_filters_compare_and_export(tmp_path, monkeypatch):
@@ -359,17 +508,45 @@ def test_fast_burst_in_the_board_form(tmp_path):
         term.wait("Name / tag")
         term.wait("Esc  Cancel")  # the form's key strip, whose going away below means "saved"
         time.sleep(0.5)  # the form has just opened; the burst below is what is under test
-        term.keys("LP-9", "Tab", "Roof plant", "Tab", "panelboard", "Tab", "208", "Tab", "60", "Tab", "1.5", "Tab",
-                  "455", "Tab", "600", "Tab", "1", "Tab", "2025-01-31", "F2")
+        term.keys(
+            "LP-9",
+            "Tab",
+            "Roof plant",
+            "Tab",
+            "panelboard",
+            "Tab",
+            "208",
+            "Tab",
+            "60",
+            "Tab",
+            "1.5",
+            "Tab",
+            "455",
+            "Tab",
+            "600",
+            "Tab",
+            "1",
+            "Tab",
+            "2025-01-31",
+            "F2",
+        )
         last_screen = term.wait("Esc  Cancel", present=False)  # the form's key strip goes once it is saved
     finally:
         term.close()
     d = open_db(db)
     b = sites.find_board(d, sites.list_sites(d)[0]["id"], "LP-9")
     assert b is not None, last_screen
-    assert (b["location"], b["kind"], b["nominal_v"], b["frequency_hz"], b["af_incident_energy_cal_cm2"],
-            b["af_working_distance_mm"], b["af_boundary_mm"], b["af_ppe"], b["af_label_date"]) == (
-        "Roof plant", "panelboard", 208.0, 60.0, 1.5, 455.0, 600.0, "1", "2025-01-31")
+    assert (
+        b["location"],
+        b["kind"],
+        b["nominal_v"],
+        b["frequency_hz"],
+        b["af_incident_energy_cal_cm2"],
+        b["af_working_distance_mm"],
+        b["af_boundary_mm"],
+        b["af_ppe"],
+        b["af_label_date"],
+    ) == ("Roof plant", "panelboard", 208.0, 60.0, 1.5, 455.0, 600.0, "1", "2025-01-31")
 
 
 async def test_site_settings_change_thresholds_and_findings_follow(tmp_path):
@@ -499,8 +676,31 @@ async def test_the_triplen_hint_only_when_the_measured_neutral_is_higher(tmp_pat
     async with sheet_open(tmp_path, "nm.db", size=(120, 40)) as (app, pilot):
         sheet = app.screen
         # Phase C at 60 A: the phasor sum is 40 A (invented values).
-        await pilot.press(*"277", "tab", *"100", "tab", *"-30", "tab", *"277", "tab", *"-120", "tab", *"100",
-                          "tab", *"-150", "tab", *"277", "tab", *"120", "tab", *"60", "tab", *"90", "tab", *"10")
+        await pilot.press(
+            *"277",
+            "tab",
+            *"100",
+            "tab",
+            *"-30",
+            "tab",
+            *"277",
+            "tab",
+            *"-120",
+            "tab",
+            *"100",
+            "tab",
+            *"-150",
+            "tab",
+            *"277",
+            "tab",
+            *"120",
+            "tab",
+            *"60",
+            "tab",
+            *"90",
+            "tab",
+            *"10",
+        )
         assert "triplen" not in seen(sheet, "#findings")
         assert "Measured neutral is below the phasor sum of the phases by -30.0 A" in seen(sheet, "#findings")
         await pilot.press(*"60")
@@ -617,7 +817,8 @@ async def test_history_keeps_the_cursor_and_the_void_dialog_names_the_reading(tm
         await pilot.press("x")
         await pilot.pause()
         assert f"reading {ids[1]}, version 1" in seen(app.screen, ".question") and "by Tech 01" in seen(
-            app.screen, ".question")
+            app.screen, ".question"
+        )
         await pilot.press(*"wrong board", "enter")
         await pilot.pause()
         assert str(t.get_row_at(t.cursor_row)[-1]) == "Tech 01"  # the next void does not hit another reading
@@ -656,10 +857,16 @@ async def test_board_form_opens_at_the_top_and_speaks_in_labels_and_takes_inches
 async def test_board_overrides_the_sites_voltage_standard(tmp_path):
     bid = seeded(tmp_path / "o.db")  # an ANSI site
     db = open_db(tmp_path / "o.db")
-    iec = sites.create_board(db, sites.get_board(db, bid)["site_id"], "SKD-4", system="wye", nominal_v=400,
-                             voltage_standard="iec", colour_set="iec60445")
-    saved = versions.save_reading(db, iec, {"va": "253", "vb": "230", "vc": "230", "vb_deg": "-120",
-                                            "vc_deg": "120"})
+    iec = sites.create_board(
+        db,
+        sites.get_board(db, bid)["site_id"],
+        "SKD-4",
+        system="wye",
+        nominal_v=400,
+        voltage_standard="iec",
+        colour_set="iec60445",
+    )
+    saved = versions.save_reading(db, iec, {"va": "253", "vb": "230", "vc": "230", "vb_deg": "-120", "vc_deg": "120"})
     assert versions.current_version(db, saved.reading_id)["standard"] == "iec"
     db.close()
     app = FieldpadApp(tmp_path / "o.db", technician="T")
@@ -667,8 +874,9 @@ async def test_board_overrides_the_sites_voltage_standard(tmp_path):
         await pilot.pause()
         app.push_screen(ReadingSheet(iec))
         await pilot.pause()
-        await pilot.press(*"254", "tab", "tab", "tab", *"230", "tab", *"-120", "tab", "tab", "tab", *"230", "tab",
-                          *"120")
+        await pilot.press(
+            *"254", "tab", "tab", "tab", *"230", "tab", *"-120", "tab", "tab", "tab", *"230", "tab", *"120"
+        )
         assert "IEC 60038" in seen(app.screen, "#findings")  # 254 V on 230 V: +10.4 %, outside IEC ±10 %
 
 

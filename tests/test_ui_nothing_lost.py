@@ -1,6 +1,7 @@
 """The app loses nothing typed: drafts are flushed before every way out (Esc, Ctrl+Q, the terminal closing),
 quitting with unsaved values asks, and every write on a database that cannot be written says so on screen
 instead of ending in a traceback.  Real terminal (tmux) and real read-only mounts where they are needed."""
+
 import shutil
 import time
 
@@ -13,8 +14,9 @@ from fieldpad.storage.db import open_db
 from fieldpad.ui.app import FieldpadApp
 from fieldpad.ui.sheet import ReadingSheet
 
-needs_tmux = pytest.mark.skipif(shutil.which("tmux") is None,
-                                reason="tmux is not installed (the .ci/run script installs it)")
+needs_tmux = pytest.mark.skipif(
+    shutil.which("tmux") is None, reason="tmux is not installed (the .ci/run script installs it)"
+)
 
 
 def record_notifications(app) -> list[str]:

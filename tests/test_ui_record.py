@@ -1,4 +1,5 @@
 """The supervisor's record in the app: a round named when it starts, a sign-off from the day review."""
+
 from datetime import date
 
 from textual.widgets import DataTable, Static

@@ -1,4 +1,5 @@
 """Unbalance definitions: published examples, magnitude-only formulas, properties."""
+
 import numpy as np
 import pytest
 from hypothesis import assume, given, settings
@@ -108,6 +109,7 @@ class TestMagnitudeOnly:
     @given(mags, mags, mags, st.floats(min_value=1e-3, max_value=1e3))
     def test_percentages_do_not_change_with_scale(self, a, b, c, k):
         assume(triangle_ok(a, b, c))
-        assert_allclose(vuf_from_ll_magnitudes(a * k, b * k, c * k), vuf_from_ll_magnitudes(a, b, c),
-                        rtol=1e-6, atol=1e-6)
+        assert_allclose(
+            vuf_from_ll_magnitudes(a * k, b * k, c * k), vuf_from_ll_magnitudes(a, b, c), rtol=1e-6, atol=1e-6
+        )
         assert_allclose(max_deviation_pct([a * k, b * k, c * k]), max_deviation_pct([a, b, c]), rtol=1e-9, atol=1e-9)

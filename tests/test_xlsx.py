@@ -1,4 +1,5 @@
 """The supervisor's workbook: read back with openpyxl, converted headless by LibreOffice where present."""
+
 import datetime as dt
 import os
 import shutil
@@ -14,7 +15,7 @@ from fieldpad.report.xlsx import write_xlsx
 from fieldpad.storage import sites, versions
 
 openpyxl = pytest.importorskip("openpyxl")
-HOSTILE = ["=cmd|' /C calc'!A0", "+1+1", "-2+3", "@SUM(1)", "=HYPERLINK(\"http://x\")"]
+HOSTILE = ["=cmd|' /C calc'!A0", "+1+1", "-2+3", "@SUM(1)", '=HYPERLINK("http://x")']
 
 
 @pytest.fixture
@@ -26,10 +27,18 @@ def book(db, tmp_path, monkeypatch):
     supervisor_day(db)
     sid = sites.find_site(db, SITE)["id"]
     b = sites.create_board(db, sid, HOSTILE[0], nominal_v=480)
-    versions.save_reading(db, b, BAL, technician=HOSTILE[3], note=HOSTILE[1], instrument=HOSTILE[2],
-                          taken_at="2026-12-01T21:00:00.000000Z")
-    versions.correct_reading(db, versions.board_history(db, b)[0]["reading_id"], {**BAL, "vc": "262"},
-                             reason=HOSTILE[4], by=HOSTILE[3])
+    versions.save_reading(
+        db,
+        b,
+        BAL,
+        technician=HOSTILE[3],
+        note=HOSTILE[1],
+        instrument=HOSTILE[2],
+        taken_at="2026-12-01T21:00:00.000000Z",
+    )
+    versions.correct_reading(
+        db, versions.board_history(db, b)[0]["reading_id"], {**BAL, "vc": "262"}, reason=HOSTILE[4], by=HOSTILE[3]
+    )
     path = tmp_path / "day.xlsx"
     records = export_records(db, day=DAY, site=SITE)
     write_xlsx(db, records, path, day=DAY, site=SITE)
@@ -44,9 +53,21 @@ def test_readings_sheet_has_units_numbers_dates_words_frozen_header_and_filters(
     assert wb.sheetnames == ["Readings", "Findings", "Corrections", "Sign-offs", "About"]
     ws = wb["Readings"]
     head = [c.value for c in ws[1]]
-    for name in ("VA measured (V)", "IA measured (A)", "IA angle measured (°)", "IN measured (A)",
-                 "IN computed, phasor sum (A)", "VUF computed (%)", "P computed (kW)", "PF computed",
-                 "Date (local)", "Time (local)", "UTC offset", "Round", "Findings"):
+    for name in (
+        "VA measured (V)",
+        "IA measured (A)",
+        "IA angle measured (°)",
+        "IN measured (A)",
+        "IN computed, phasor sum (A)",
+        "VUF computed (%)",
+        "P computed (kW)",
+        "PF computed",
+        "Date (local)",
+        "Time (local)",
+        "UTC offset",
+        "Round",
+        "Findings",
+    ):
         assert name in head, name
     assert ws.freeze_panes == "A2"
     assert ws.auto_filter.ref == f"A1:{openpyxl.utils.get_column_letter(len(head))}{len(records) + 1}"
@@ -116,12 +137,20 @@ def test_export_command_needs_a_file_for_xlsx(db_path, db, tmp_path):
     supervisor_day(db)
     db.close()
     env = {**os.environ}
-    p = subprocess.run([sys.executable, "-m", "fieldpad.cli", "export", "--db", str(db_path), "--format", "xlsx"],
-                       capture_output=True, timeout=60, env=env)
+    p = subprocess.run(
+        [sys.executable, "-m", "fieldpad.cli", "export", "--db", str(db_path), "--format", "xlsx"],
+        capture_output=True,
+        timeout=60,
+        env=env,
+    )
     assert p.returncode == 2 and b"-o FILE.xlsx" in p.stderr and p.stdout == b""
     out = tmp_path / "out.xlsx"
-    p = subprocess.run([sys.executable, "-m", "fieldpad.cli", "export", "--db", str(db_path), "--format", "xlsx",
-                        "-o", str(out)], capture_output=True, timeout=60, env=env)
+    p = subprocess.run(
+        [sys.executable, "-m", "fieldpad.cli", "export", "--db", str(db_path), "--format", "xlsx", "-o", str(out)],
+        capture_output=True,
+        timeout=60,
+        env=env,
+    )
     assert p.returncode == 0, p.stderr
     assert openpyxl.load_workbook(out)["Readings"].max_row == 8  # header + 7 current (one of 8 voided)
     assert not [f for f in os.listdir(tmp_path) if f.startswith(".")]  # no part file left behind
@@ -134,18 +163,39 @@ SOFFICE = shutil.which("soffice") or shutil.which("libreoffice")
 def test_libreoffice_opens_the_workbook_and_prints_it(book, tmp_path):
     path, _ = book
     out = tmp_path / "lo"
-    p = subprocess.run([SOFFICE, f"-env:UserInstallation={(tmp_path / 'lo-profile').as_uri()}", "--headless",
-                        "--convert-to", "pdf", "--outdir", str(out), str(path)], capture_output=True, timeout=180)
+    p = subprocess.run(
+        [
+            SOFFICE,
+            f"-env:UserInstallation={(tmp_path / 'lo-profile').as_uri()}",
+            "--headless",
+            "--convert-to",
+            "pdf",
+            "--outdir",
+            str(out),
+            str(path),
+        ],
+        capture_output=True,
+        timeout=180,
+    )
     assert p.returncode == 0, p.stderr
     assert (out / "day.pdf").read_bytes()[:5] == b"%PDF-", p.stdout
     if shutil.which("pdftoppm"):  # pages as pictures to look at (Calc's own PNG filter needs a display)
-        subprocess.run(["pdftoppm", "-r", "60", "-png", str(out / "day.pdf"), str(out / "page")], check=True,
-                       timeout=120)
+        subprocess.run(
+            ["pdftoppm", "-r", "60", "-png", str(out / "day.pdf"), str(out / "page")], check=True, timeout=120
+        )
         pngs = sorted(out.glob("page-*.png"))
         assert pngs and all(f.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" for f in pngs)
     if shutil.which("pdftotext"):
         text = subprocess.run(["pdftotext", str(out / "day.pdf"), "-"], capture_output=True, text=True).stdout
         # LibreOffice read the cells as a person sees them: dates, times, numbers with their formats, words.
-        for shown in ("2026-12-01", "08:10:00", "277.0", "420.0", "Morning walk", "corrected after sign-off",
-                      "IA: 160 → 106", "=cmd|' /C calc'!A0"):
+        for shown in (
+            "2026-12-01",
+            "08:10:00",
+            "277.0",
+            "420.0",
+            "Morning walk",
+            "corrected after sign-off",
+            "IA: 160 → 106",
+            "=cmd|' /C calc'!A0",
+        ):
             assert shown in text, shown

@@ -1,4 +1,5 @@
 """``fieldpad`` / ``fieldpad app`` / ``fieldpad demo``: the entry app."""
+
 from __future__ import annotations
 
 

@@ -10,6 +10,7 @@ thresholds lets the allocator reuse the memory instead.  It is a process-wide
 setting, so the core never calls this; the batch commands and the benchmark
 do.  On other C libraries it does nothing.
 """
+
 from __future__ import annotations
 
 import ctypes
@@ -44,6 +45,7 @@ def keep_freed_memory() -> bool:
         del gnu_version
         mallopt.argtypes = (ctypes.c_int, ctypes.c_int)
         mallopt.restype = ctypes.c_int
-        _done = bool(mallopt(M_MMAP_THRESHOLD, MMAP_THRESHOLD_BYTES)
-                     and mallopt(M_TRIM_THRESHOLD, TRIM_THRESHOLD_BYTES))
+        _done = bool(
+            mallopt(M_MMAP_THRESHOLD, MMAP_THRESHOLD_BYTES) and mallopt(M_TRIM_THRESHOLD, TRIM_THRESHOLD_BYTES)
+        )
     return _done

@@ -3,6 +3,7 @@
 Exit status of every command: 0 success, 2 bad input or usage (messages on stderr, one line per problem,
 nothing on stdout), 1 any other failure with a one-line message.
 """
+
 from __future__ import annotations
 
 import contextlib

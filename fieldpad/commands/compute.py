@@ -7,6 +7,7 @@ temporary file past a limit); once every block is checked, each is analysed
 (:func:`fieldpad.core.analysis.analyze`, which splits a block over its threads) and written as CSV or JSON
 straight from the result columns (:mod:`fieldpad.formats.writers`).  Memory is bounded by the block.
 """
+
 from __future__ import annotations
 
 import io
@@ -41,7 +42,7 @@ def check_stream(stream, *, block_rows=None):
         if problems:
             count += len(problems)
             if len(lines) < 10_000:
-                lines.extend(problem_lines(raw, problems[:10_000 - len(lines)]))
+                lines.extend(problem_lines(raw, problems[: 10_000 - len(lines)]))
             spool.close()
             continue
         if count:
@@ -75,8 +76,10 @@ def write_results(spool, kind: str, fmt: str, out) -> None:
         out.flush()
         write = out.buffer.write
     elif isinstance(out, io.TextIOBase):
+
         def write(b, _w=out.write):
             _w(b.decode("utf-8"))
+
     if isinstance(kind, tuple):  # n-phase sets
         from . import nphase
 

@@ -1,4 +1,5 @@
 """``fieldpad db check|backup|info``."""
+
 from __future__ import annotations
 
 from ..formats.text import printable
@@ -18,15 +19,19 @@ def run(args) -> int:
         if problems:
             for p in problems[:MAX_PROBLEMS]:
                 print(f"problem: {printable(p)}")
-            print(f"{path}: damaged or not a fieldpad database. Nothing was changed; keep this file, and "
-                  "restore the latest backup beside it (the .bak files, or one made with 'fieldpad db backup').")
+            print(
+                f"{path}: damaged or not a fieldpad database. Nothing was changed; keep this file, and "
+                "restore the latest backup beside it (the .bak files, or one made with 'fieldpad db backup')."
+            )
             return 1
         reason = unwritable_reason(path)
         if reason:
-            print(f"{path}: healthy (integrity and foreign keys), but it cannot be written: {reason}. "
-                  "Nothing is damaged and nothing needs restoring: every reading can be looked at and "
-                  "exported; to add readings make it writable, or copy it to a writable place with "
-                  f"'fieldpad db backup DEST --db {path}' and open the copy.")
+            print(
+                f"{path}: healthy (integrity and foreign keys), but it cannot be written: {reason}. "
+                "Nothing is damaged and nothing needs restoring: every reading can be looked at and "
+                "exported; to add readings make it writable, or copy it to a writable place with "
+                f"'fieldpad db backup DEST --db {path}' and open the copy."
+            )
             return 0
         print(f"{path}: ok (integrity and foreign keys)")
         return 0
@@ -49,8 +54,10 @@ def run(args) -> int:
 
     last = last_sync(db)
     if last:
-        print(f"last sync: {last['synced_at']} with {printable(last['server'])} (sent {last['sent']}, "
-              f"received {last['received']})")
+        print(
+            f"last sync: {last['synced_at']} with {printable(last['server'])} (sent {last['sent']}, "
+            f"received {last['received']})"
+        )
         waiting = pending_count(db, None, any_author=True)
         print(f"versions not yet sent: {waiting}")
     return 0

@@ -1,4 +1,5 @@
 """``fieldpad export``: current readings with results and findings as CSV, JSON, the HTML report or a workbook."""
+
 from __future__ import annotations
 
 import sys
@@ -25,8 +26,12 @@ def run(args) -> int:
         except ValueError:
             return report_problems([f"--day: {args.day!r} is not a date (YYYY-MM-DD)"])
     if args.format == "xlsx" and (not args.output or args.output == "-"):
-        return report_problems(["--format xlsx: give the file to write with -o FILE.xlsx (a workbook is not "
-                                "text for standard output); nothing was written"])
+        return report_problems(
+            [
+                "--format xlsx: give the file to write with -o FILE.xlsx (a workbook is not "
+                "text for standard output); nothing was written"
+            ]
+        )
     out_path = None
     if args.output and args.output != "-":
         from ..storage.files import check_target
@@ -41,14 +46,21 @@ def run(args) -> int:
         found = sites.sites_matching(db, args.site)
         if not found:
             names = ", ".join(printable(s_["name"]) for s_ in sites.list_sites(db)) or "none"
-            return report_problems([f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
-                                     f"(sites: {names}); nothing was written"])
+            return report_problems(
+                [
+                    f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
+                    f"(sites: {names}); nothing was written"
+                ]
+            )
         if len(found) > 1:
             return report_problems(
-                [f"--site: {len(found)} sites are named '{printable(args.site)}' (two laptops each created one); "
-                 "nothing was written. Give the id with --site ID, or if they are the same site join them first "
-                 "(fieldpad join-sites KEEP_ID OTHER_ID):"]
-                + [f"  {s_['id']}  {printable(sites.site_summary(db, s_['id']))}" for s_ in found])
+                [
+                    f"--site: {len(found)} sites are named '{printable(args.site)}' (two laptops each created one); "
+                    "nothing was written. Give the id with --site ID, or if they are the same site join them first "
+                    "(fieldpad join-sites KEEP_ID OTHER_ID):"
+                ]
+                + [f"  {s_['id']}  {printable(sites.site_summary(db, s_['id']))}" for s_ in found]
+            )
         site_id, args.site = found[0]["id"], found[0]["name"]
     if args.format in ("csv", "json"):
         # Streamed: a block of readings at a time, whole file or none.

@@ -1,4 +1,5 @@
 """``fieldpad import FILE``: readings from CSV or JSON into the database, all or nothing, idempotent."""
+
 from __future__ import annotations
 
 import os
@@ -36,6 +37,7 @@ def run(args) -> int:
 
         def progress(done, total):
             bar.update(task, completed=done, total=total)
+
     try:
         report = import_stream(db, stream, progress)
     except InputError as e:

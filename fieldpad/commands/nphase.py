@@ -12,6 +12,7 @@ Fields (our own naming, README "n-phase sets"):
   ``iseq{k}_deg`` when the file has currents; empty (null) where the set has no such sequence, an angle is
   empty where its magnitude is zero (to within 1e-9 of the largest component).
 """
+
 from __future__ import annotations
 
 import numpy as np
@@ -21,8 +22,7 @@ from ..core.readings import ReadingError, parse_value
 from ..core.sequence import sequence_components_n
 
 MAX_PHASES = 12
-FIELDS = ("phases",) + tuple(f"{p}{k}{s}" for p in ("vp", "ip") for k in range(1, MAX_PHASES + 1)
-                             for s in ("", "_deg"))
+FIELDS = ("phases",) + tuple(f"{p}{k}{s}" for p in ("vp", "ip") for k in range(1, MAX_PHASES + 1) for s in ("", "_deg"))
 KIND = {f: ("V" if f.startswith("vp") else "A") if not f.endswith("_deg") else "deg" for f in FIELDS[1:]}
 
 
@@ -36,8 +36,13 @@ def _record_problems(rec: dict):
     problems = []
     for key in rec:
         if key not in FIELDS:
-            problems.append((str(key), "unknown field (an n-phase set takes phases, vp1..vpN, vp1_deg..vpN_deg, "
-                                       "ip1..ipN, ip1_deg..ipN_deg)"))
+            problems.append(
+                (
+                    str(key),
+                    "unknown field (an n-phase set takes phases, vp1..vpN, vp1_deg..vpN_deg, "
+                    "ip1..ipN, ip1_deg..ipN_deg)",
+                )
+            )
     n = None
     p = rec.get("phases")
     try:
@@ -148,9 +153,16 @@ def analyse(ni, cols, has_i):
             sel = np.flatnonzero((ni == n) & given)
             if not sel.size:
                 continue
-            ph = np.stack([polar(cols.get(f"{prefix}{k}", nan)[sel],
-                                 np.nan_to_num(cols.get(f"{prefix}{k}_deg", nan)[sel], nan=0.0))
-                           for k in range(1, n + 1)], axis=-1)
+            ph = np.stack(
+                [
+                    polar(
+                        cols.get(f"{prefix}{k}", nan)[sel],
+                        np.nan_to_num(cols.get(f"{prefix}{k}_deg", nan)[sel], nan=0.0),
+                    )
+                    for k in range(1, n + 1)
+                ],
+                axis=-1,
+            )
             s = sequence_components_n(ph)
             a = np.abs(s)
             scale = a.max(axis=-1, keepdims=True)
@@ -204,8 +216,9 @@ def write(spool, kind, fmt, write_bytes, m: int, currents: bool) -> None:
                     parts.append(b"," if j < len(fields) - 1 else b"\n")
                 else:
                     parts.append((b"{" if j == 0 else b",") + b"\n  " + json.dumps(f).encode() + b": ")
-                    parts.append([str(int(v)).encode() for v in x.tolist()] if f == "phases"
-                                 else float_cells(x, null=b"null"))
+                    parts.append(
+                        [str(int(v)).encode() for v in x.tolist()] if f == "phases" else float_cells(x, null=b"null")
+                    )
             if fmt == "csv":
                 write_bytes(assemble(parts, hi - lo))
                 continue

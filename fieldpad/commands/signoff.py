@@ -1,4 +1,5 @@
 """``fieldpad signoff``: a supervisor signs off a day or a round of a site (a record of its own)."""
+
 from __future__ import annotations
 
 import sys
@@ -15,8 +16,9 @@ def run(args) -> int:
     from ..storage.rows import ValidationError
 
     if args.day is None and args.round is None:
-        return report_problems(["signoff: give --day YYYY-MM-DD (the whole day) or --round ID (one round); "
-                                "nothing was signed"])
+        return report_problems(
+            ["signoff: give --day YYYY-MM-DD (the whole day) or --round ID (one round); nothing was signed"]
+        )
     if args.day is not None:
         try:
             _dt.date.fromisoformat(args.day)
@@ -29,32 +31,54 @@ def run(args) -> int:
     if args.site is not None:
         site = next((s for s in all_sites if s["name"] == args.site), None)
         if site is None:
-            return report_problems([f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
-                                    f"(sites: {names}); nothing was signed"])
+            return report_problems(
+                [
+                    f"--site: no site named '{printable(args.site)}' in {resolve_path(args.db)} "
+                    f"(sites: {names}); nothing was signed"
+                ]
+            )
     round_row = None
     if args.round is not None:
         found = rounds.find_round(db, args.round, site["id"] if site else None)
         if args.day is not None and len(found) > 1:
             start, end = signoffs.local_day_range_utc(args.day)
-            of_day = {r["id"] for s in {f["site_id"] for f in found}
-                      for r in rounds.rounds_of_day(db, s, start, end)}
+            of_day = {r["id"] for s in {f["site_id"] for f in found} for r in rounds.rounds_of_day(db, s, start, end)}
             found = [f for f in found if f["id"] in of_day]
         if not found:
-            return report_problems([f"--round: no round with the id or name '{printable(args.round)}'"
-                                    + (f" at {printable(site['name'])}" if site else "") + "; nothing was signed"])
+            return report_problems(
+                [
+                    f"--round: no round with the id or name '{printable(args.round)}'"
+                    + (f" at {printable(site['name'])}" if site else "")
+                    + "; nothing was signed"
+                ]
+            )
         if len(found) > 1:
-            return report_problems([f"--round: {len(found)} rounds are named '{printable(args.round)}'; give the "
-                                    "round's id (or --site, --day) to choose one; nothing was signed"])
+            return report_problems(
+                [
+                    f"--round: {len(found)} rounds are named '{printable(args.round)}'; give the "
+                    "round's id (or --site, --day) to choose one; nothing was signed"
+                ]
+            )
         round_row = found[0]
         site = site or sites.get_site(db, round_row["site_id"])
     if site is None:
         if len(all_sites) != 1:
-            return report_problems([f"--site: the database holds {len(all_sites)} sites ({names}); say which "
-                                    "with --site NAME; nothing was signed"])
+            return report_problems(
+                [
+                    f"--site: the database holds {len(all_sites)} sites ({names}); say which "
+                    "with --site NAME; nothing was signed"
+                ]
+            )
         site = all_sites[0]
     try:
-        sid = signoffs.sign_off(db, site["id"], by=args.by, note=args.note,
-                                day=None if round_row else args.day, round_id=round_row["id"] if round_row else None)
+        sid = signoffs.sign_off(
+            db,
+            site["id"],
+            by=args.by,
+            note=args.note,
+            day=None if round_row else args.day,
+            round_id=round_row["id"] if round_row else None,
+        )
     except ValidationError as e:
         return report_problems([f"signoff: {field}: {why}; nothing was signed" for field, why in e.problems])
     so = signoffs.get_signoff(db, sid)

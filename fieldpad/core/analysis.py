@@ -22,6 +22,7 @@ This module computes the quantities; the findings are defined one by one in
 :mod:`fieldpad.core.registry` (the rule modules ``rules_voltage`` and
 ``rules_current``), which read them from the namespace ``q`` built here.
 """
+
 from __future__ import annotations
 
 import os
@@ -46,8 +47,19 @@ from .quantities import (
 from .quantities import nominal as nominal_and_high_leg
 from .thresholds import Thresholds
 
-__all__ = ["Analysis", "analyze", "analyze_block", "default_workers", "BLOCK", "BASIS_NAMES", "BASIS_NONE",
-           "BASIS_LN", "BASIS_LL", "BASIS_MAG"]
+__all__ = [
+    "Analysis",
+    "analyze",
+    "analyze_block",
+    "default_workers",
+    "BLOCK",
+    "BASIS_NAMES",
+    "BASIS_NONE",
+    "BASIS_LN",
+    "BASIS_LL",
+    "BASIS_MAG",
+]
+
 
 @dataclass
 class Analysis:
@@ -91,8 +103,7 @@ def default_workers() -> int:
     return max(1, min(8, cpus))
 
 
-def analyze(cols, system, standard=None, thresholds: Thresholds | None = None,
-            workers: int | None = None) -> Analysis:
+def analyze(cols, system, standard=None, thresholds: Thresholds | None = None, workers: int | None = None) -> Analysis:
     """Analyse N readings (see :func:`analyze_block`) in cache-sized blocks.
 
     Large batches are split into blocks of ``BLOCK`` readings, analysed on
@@ -111,8 +122,9 @@ def analyze(cols, system, standard=None, thresholds: Thresholds | None = None,
     bounds = [(lo, min(n, lo + BLOCK)) for lo in range(0, n, BLOCK)]
 
     def block(lo, hi):
-        return analyze_block({k: v[lo:hi] for k, v in cols.items()}, system[lo:hi],
-                             None if std is None else std[lo:hi], thresholds)
+        return analyze_block(
+            {k: v[lo:hi] for k, v in cols.items()}, system[lo:hi], None if std is None else std[lo:hi], thresholds
+        )
 
     first = block(*bounds[0])
     values = {k: np.empty(n, np.asarray(v).dtype) for k, v in first.values.items()}
@@ -122,8 +134,10 @@ def analyze(cols, system, standard=None, thresholds: Thresholds | None = None,
         # filled in only where the finding is raised.
         return item if isinstance(item, str) or np.ndim(item) == 0 else np.zeros(n, dtype)
 
-    findings = [(code, sev, np.empty(n, bool), out_like(v, float), out_like(t, float), unit, out_like(p, np.int8))
-                for code, sev, _m, v, t, unit, p in first.findings]
+    findings = [
+        (code, sev, np.empty(n, bool), out_like(v, float), out_like(t, float), unit, out_like(p, np.int8))
+        for code, sev, _m, v, t, unit, p in first.findings
+    ]
 
     def run(bound):
         _store_block(values, findings, *bound, block(*bound))
@@ -187,5 +201,3 @@ def analyze_block(cols, system, standard=None, thresholds: Thresholds | None = N
     power(q)
     nominal_and_high_leg(q)
     return Analysis(n=q.n, values=values(q), findings=registry.evaluate(q, th))
-
-

@@ -4,6 +4,7 @@ The label's values come from the board's own study (NFPA 70E art. 130.5(H) asks 
 is the usual calculation); fieldpad only repeats them and never computes a hazard.  A label older than the
 site's review interval is flagged: NFPA 70E 130.5(G) asks for the study to be reviewed at least every five
 years (from memory; local rules govern)."""
+
 from __future__ import annotations
 
 from dataclasses import dataclass

@@ -1,4 +1,5 @@
 """Small array helpers shared by the analysis and the finding rules (numpy only, no warnings)."""
+
 from __future__ import annotations
 
 import numpy as np

@@ -5,6 +5,7 @@ are RMS volts and amps; ``*_deg`` fields are angles in degrees, counter-clockwis
 :mod:`fieldpad.core`); ``va vb vc`` are line-to-neutral, ``vab vbc vca`` line-to-line; ``nominal_v`` is the
 line-to-line nominal (240 for split-phase).
 """
+
 from __future__ import annotations
 
 from . import nominal
@@ -19,9 +20,12 @@ I_PH = ("ia", "ib", "ic")
 #: Every numeric reading field.
 NUMERIC_FIELDS = (
     ("nominal_v",)
-    + V_LN + tuple(f + "_deg" for f in V_LN)
-    + V_LL + tuple(f + "_deg" for f in V_LL)
-    + I_PH + tuple(f + "_deg" for f in I_PH)
+    + V_LN
+    + tuple(f + "_deg" for f in V_LN)
+    + V_LL
+    + tuple(f + "_deg" for f in V_LL)
+    + I_PH
+    + tuple(f + "_deg" for f in I_PH)
     + ("i_n",)
 )
 

@@ -2,6 +2,7 @@
 
 A rule module lists its definitions with :func:`collector`; :mod:`fieldpad.core.registry` gathers them.
 """
+
 from __future__ import annotations
 
 from collections.abc import Callable

@@ -8,6 +8,7 @@ comes from).  The masks are computed vectorised by
 :func:`fieldpad.core.analysis.analyze`; each finding's wording and order are its definition's in
 :mod:`fieldpad.core.registry`; this module only words them.
 """
+
 from __future__ import annotations
 
 import math
@@ -76,18 +77,21 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
                 derating=f"{derating[i]:.2f}" if np.isfinite(derating[i]) else "n/a",
                 reason=REASON_TEXT.get(int(reason[i]), ""),
                 std="IEC 60038" if iec else "ANSI C84.1 Range B",
-                rot=ROTATION_NAMES[int(rcode[i])], expected=ROTATION_NAMES[int(expected[i])],
+                rot=ROTATION_NAMES[int(rcode[i])],
+                expected=ROTATION_NAMES[int(expected[i])],
             )
-            out[i].append({
-                "code": code,
-                "severity": severity,
-                "message": msg,
-                "value": _num(value[i]),
-                "threshold": _num(threshold[i]),
-                "unit": unit,
-                "phase": phase_label(ph, labels),
-                "source": SOURCES[src_key],
-            })
+            out[i].append(
+                {
+                    "code": code,
+                    "severity": severity,
+                    "message": msg,
+                    "value": _num(value[i]),
+                    "threshold": _num(threshold[i]),
+                    "unit": unit,
+                    "phase": phase_label(ph, labels),
+                    "source": SOURCES[src_key],
+                }
+            )
     for lst in out:
         lst.sort(key=lambda f: ORDER[f["code"], f["severity"]])
     return out

@@ -12,19 +12,22 @@ The extra winding temperature rise of about ``2·u²`` percent (u the
 unbalance in percent; 3.5 % unbalance gives roughly 25 % more rise) is a rule
 of thumb (common practice), not a standard's figure.
 """
+
 from __future__ import annotations
 
 import numpy as np
 
 #: (line-voltage unbalance %, derating factor), read off the NEMA MG 1 curve (from memory).
-DERATING_CURVE = np.array([
-    [0.0, 1.00],
-    [1.0, 1.00],
-    [2.0, 0.95],
-    [3.0, 0.88],
-    [4.0, 0.82],
-    [5.0, 0.75],
-])
+DERATING_CURVE = np.array(
+    [
+        [0.0, 1.00],
+        [1.0, 1.00],
+        [2.0, 0.95],
+        [3.0, 0.88],
+        [4.0, 0.82],
+        [5.0, 0.75],
+    ]
+)
 MAX_UNBALANCE_PCT = 5.0
 
 

@@ -15,6 +15,7 @@ Notes
   true-RMS neutral current well above the phasor sum usually means harmonic
   load (switch-mode supplies, LED drivers) — common practice.
 """
+
 from __future__ import annotations
 
 import numpy as np

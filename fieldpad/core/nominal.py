@@ -15,6 +15,7 @@ Status codes: 0 within (Range A / ±10 %), 1 outside Range A but within
 Range B (ANSI only), 2 outside Range B (ANSI) or outside ±10 % (IEC);
 -1 where the voltage or the nominal is unknown.
 """
+
 from __future__ import annotations
 
 import numpy as np

@@ -4,6 +4,7 @@ from line-to-neutral.
 See :mod:`fieldpad.core` for the conventions (RMS volts/amps, degrees,
 counter-clockwise positive, one common reference).
 """
+
 from __future__ import annotations
 
 import numpy as np

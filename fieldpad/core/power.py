@@ -15,6 +15,7 @@ flowing back, or a reversed CT).
   (Blondel) method, ``S = Vab·Ia* + Vcb·Ic*`` with ``Vcb = −Vbc``; per-phase
   powers are not defined.
 """
+
 from __future__ import annotations
 
 import numpy as np

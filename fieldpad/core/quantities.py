@@ -5,6 +5,7 @@ what the earlier ones set); :func:`values` is the public result names; the findi
 (:mod:`fieldpad.core.registry`) read the rest of ``q``.  Units: V, A, W, var, VA, degrees; NaN where the
 input cannot give the quantity.
 """
+
 from __future__ import annotations
 
 import numpy as np
@@ -35,7 +36,6 @@ BASIS_NAMES = {
     BASIS_LL: "line-to-line phasors (line-to-neutral equivalent)",
     BASIS_MAG: "line-to-line magnitudes only (line-to-neutral equivalent)",
 }
-
 
 
 class _Q:
@@ -135,8 +135,9 @@ def voltages(q, th) -> None:
     rot_1 = v1a if r1 is None else np.where(use_ll, r1, v1a)
     rot_2 = v2a if r2 is None else np.where(use_ll, r2, v2a)
     rot_0 = v0a if r0 is None else np.where(use_ll, r0, v0a)
-    q.rcode, q.rreason = rot.rotation_from(rot_1, rot_2, q.low_rel, v_ok, th.collapse_ratio, th.dominance, rot_0,
-                                           th.in_phase_ratio)
+    q.rcode, q.rreason = rot.rotation_from(
+        rot_1, rot_2, q.low_rel, v_ok, th.collapse_ratio, th.dominance, rot_0, th.in_phase_ratio
+    )
     if split.any():
         q.rreason = np.where(split, rot.REASON_NOT_3PH, q.rreason).astype(np.int8)
         q.rcode = np.where(split, rot.UNKNOWN, q.rcode).astype(np.int8)
@@ -252,8 +253,9 @@ def power(q) -> None:
     q.theta = [wiring.displacement_deg(v, i) for v, i in zip(q.Vref, cur)]
     imax = np.where(q.i_max > 0, q.i_max, np.nan)
     weight = [np.abs(i) / imax for i in cur]
-    q.has_disp = q.has_i_ang & ((q.has_ln_ang & four_wire & ~q.high_leg_sys) | q.use_ll | (
-        q.high_leg_sys & q.has_ln_ang))
+    q.has_disp = q.has_i_ang & (
+        (q.has_ln_ang & four_wire & ~q.high_leg_sys) | q.use_ll | (q.high_leg_sys & q.has_ln_ang)
+    )
     q.hyp, q.hyp_gain = wiring.best_hypothesis(q.theta, weight, split, q.rcode == rot.ACB)
     q.hyp = np.where(q.has_disp, q.hyp, wiring.AS_WIRED).astype(np.int8)
 
@@ -301,18 +303,57 @@ def nominal(q) -> None:
 
 def values(q) -> dict:
     return {
-        "v0": q.v0, "v1": q.v1, "v2": q.v2, "v0_deg": q.v0_deg, "v1_deg": q.v1_deg, "v2_deg": q.v2_deg,
-        "vuf_pct": q.vuf_pct, "v0uf_pct": q.v0uf_pct, "lvur_pct": q.lvur, "pvur_pct": q.pvur,
-        "rotation": q.rcode, "rotation_reason": q.rreason, "basis": q.basis,
-        "i0": q.i0, "i1": q.i1, "i2": q.i2, "i0_deg": q.i0_deg, "i1_deg": q.i1_deg, "i2_deg": q.i2_deg,
-        "iuf_pct": q.iuf_pct, "iur_pct": q.iur,
-        "i_n_calc": q.i_n_calc, "i_n_calc_deg": q.i_n_calc_deg, "i_n_est": q.i_n_est, "i_n_diff": q.i_n_diff,
-        "p_w": q.p_w, "q_var": q.q_var, "s_va": q.s_va, "s_va_vector": q.s_va_vector, "s_vector_va": q.s_vector,
-        "pf": q.pf, "p_a_w": q.pa, "p_b_w": q.pb, "p_c_w": q.pc,
-        "q_a_var": q.Sa.imag, "q_b_var": q.Sb.imag, "q_c_var": q.Sc.imag, "pf_a": q.pf_a, "pf_b": q.pf_b,
-        "pf_c": q.pf_c, "derating": q.derate, "temp_rise_pct": q.temp_rise,
-        "v_dev_max_pct": q.dev_worst, "voltage_status": q.vstat_worst, "high_leg": q.high_leg_ix,
-        "vab": q.uab, "vbc": q.ubc, "vca": q.uca, "nominal_v": q.v_nom,
-        "ll_closure_pct": 100.0 * q.ll_closure, "i_sum_3w": q.i_sum_3w, "wiring": q.hyp,
+        "v0": q.v0,
+        "v1": q.v1,
+        "v2": q.v2,
+        "v0_deg": q.v0_deg,
+        "v1_deg": q.v1_deg,
+        "v2_deg": q.v2_deg,
+        "vuf_pct": q.vuf_pct,
+        "v0uf_pct": q.v0uf_pct,
+        "lvur_pct": q.lvur,
+        "pvur_pct": q.pvur,
+        "rotation": q.rcode,
+        "rotation_reason": q.rreason,
+        "basis": q.basis,
+        "i0": q.i0,
+        "i1": q.i1,
+        "i2": q.i2,
+        "i0_deg": q.i0_deg,
+        "i1_deg": q.i1_deg,
+        "i2_deg": q.i2_deg,
+        "iuf_pct": q.iuf_pct,
+        "iur_pct": q.iur,
+        "i_n_calc": q.i_n_calc,
+        "i_n_calc_deg": q.i_n_calc_deg,
+        "i_n_est": q.i_n_est,
+        "i_n_diff": q.i_n_diff,
+        "p_w": q.p_w,
+        "q_var": q.q_var,
+        "s_va": q.s_va,
+        "s_va_vector": q.s_va_vector,
+        "s_vector_va": q.s_vector,
+        "pf": q.pf,
+        "p_a_w": q.pa,
+        "p_b_w": q.pb,
+        "p_c_w": q.pc,
+        "q_a_var": q.Sa.imag,
+        "q_b_var": q.Sb.imag,
+        "q_c_var": q.Sc.imag,
+        "pf_a": q.pf_a,
+        "pf_b": q.pf_b,
+        "pf_c": q.pf_c,
+        "derating": q.derate,
+        "temp_rise_pct": q.temp_rise,
+        "v_dev_max_pct": q.dev_worst,
+        "voltage_status": q.vstat_worst,
+        "high_leg": q.high_leg_ix,
+        "vab": q.uab,
+        "vbc": q.ubc,
+        "vca": q.uca,
+        "nominal_v": q.v_nom,
+        "ll_closure_pct": 100.0 * q.ll_closure,
+        "i_sum_3w": q.i_sum_3w,
+        "wiring": q.hyp,
         "expected_rotation": q.expected,
     }

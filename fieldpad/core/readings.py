@@ -18,6 +18,7 @@ What a typed value may look like (decided, and shown back on the sheet)
 * NaN and infinity in any spelling, empty text inside a number, and anything
   else are refused with the reason.
 """
+
 from __future__ import annotations
 
 import math
@@ -72,8 +73,17 @@ _NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?
 _SUFFIX = {
     VOLTS: {"": 1.0, "v": 1.0, "kv": 1000.0},
     AMPS: {"": 1.0, "a": 1.0, "ka": 1000.0},
-    DEGREES: {"": 1.0, "°": 1.0, "deg": 1.0, "lead": 1.0, "lag": -1.0,
-              "°lead": 1.0, "°lag": -1.0, "deglead": 1.0, "deglag": -1.0},
+    DEGREES: {
+        "": 1.0,
+        "°": 1.0,
+        "deg": 1.0,
+        "lead": 1.0,
+        "lag": -1.0,
+        "°lead": 1.0,
+        "°lag": -1.0,
+        "deglead": 1.0,
+        "deglag": -1.0,
+    },
 }
 _UNIT_WORD = {VOLTS: "a voltage", AMPS: "a current", DEGREES: "an angle"}
 
@@ -114,7 +124,7 @@ def parse_value(value, kind: str):
     elif isinstance(value, str) and _PLAIN.fullmatch(value):
         x = float(value)  # the common case: a plain decimal number
     elif isinstance(value, str):
-        if any(ord(c) < 32 and c not in " \t" or 0x7f <= ord(c) <= 0x9f for c in value):
+        if any(ord(c) < 32 and c not in " \t" or 0x7F <= ord(c) <= 0x9F for c in value):
             raise ReadingError(f"{value!r} contains a control character")
         text = value.strip()
         if not text:
@@ -127,15 +137,17 @@ def parse_value(value, kind: str):
             if "." in low or low.count(",") > 1:
                 raise ReadingError(f"{text!r}: use one decimal separator, no thousands separators")
             if re.search(r",\d{3}(?!\d)", low):
-                raise ReadingError(f"{text!r} is ambiguous (thousands separator or decimal comma?): "
-                                   "type it with a decimal point")
+                raise ReadingError(
+                    f"{text!r} is ambiguous (thousands separator or decimal comma?): type it with a decimal point"
+                )
         if not m:
             raise ReadingError(f"{text!r} is not a number")
-        rest = low[m.end():]
+        rest = low[m.end() :]
         factor = _SUFFIX[kind].get(rest)
         if factor is None:
-            raise ReadingError(f"{text!r}: '{text[len(text) - len(rest):].strip() or rest}' "
-                               f"is not a unit for {_UNIT_WORD[kind]}")
+            raise ReadingError(
+                f"{text!r}: '{text[len(text) - len(rest) :].strip() or rest}' is not a unit for {_UNIT_WORD[kind]}"
+            )
         x = float(m.group(0)) * factor
     else:
         raise ReadingError(f"{value!r} is not a number")
@@ -229,9 +241,14 @@ def validate_record(record: dict, extra_fields=(), board_inputs: bool = False) -
         a, b, c = ll
         tol = 1e-9 * (a + b + c)
         if not (a <= b + c + tol and b <= a + c + tol and c <= a + b + tol):
-            problems.append(("vab,vbc,vca", f"{a:g}, {b:g}, {c:g} V cannot form a triangle (each line-to-line "
-                                            "voltage must be at most the sum of the other two): "
-                                            "re-read the line-to-line voltages"))
+            problems.append(
+                (
+                    "vab,vbc,vca",
+                    f"{a:g}, {b:g}, {c:g} V cannot form a triangle (each line-to-line "
+                    "voltage must be at most the sum of the other two): "
+                    "re-read the line-to-line voltages",
+                )
+            )
     if board_inputs:
         _board_inputs(record, clean, problems)
     std = record.get("standard")
@@ -257,8 +274,9 @@ def _board_inputs(record: dict, clean: dict, problems: list) -> None:
         if clean[vi] is not None and _empty(record.get(f)):
             problems.append((vi, f"displacement given without its magnitude {f}"))
         if clean[vi] is not None and clean[f + "_deg"] is not None:
-            problems.append((vi, f"give either {f}_deg (against the reference) or {vi} (against its own "
-                                 "voltage), not both"))
+            problems.append(
+                (vi, f"give either {f}_deg (against the reference) or {vi} (against its own voltage), not both")
+            )
     for name, choices in BOARD_TEXT_FIELDS.items():
         v = record.get(name)
         v = None if v is None or str(v).strip() == "" else str(v).strip().lower()

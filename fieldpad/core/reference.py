@@ -7,6 +7,7 @@ phase's angle given, is 0° (common practice: the reference phasor is drawn at
 0°).  The analysis (``core.analysis``), the sheet's grid and its phasor
 drawing all call this module.
 """
+
 from __future__ import annotations
 
 import numpy as np

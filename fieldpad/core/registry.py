@@ -4,6 +4,7 @@ from the rule modules, and :func:`evaluate`, which the analysis runs.
 Order shown to a technician ("top finding" first): severity (alarm, warning, info), then the definition's
 ``priority`` (the cause before its consequences: a lost phase before the voltage out of range it causes).
 """
+
 from __future__ import annotations
 
 from . import rules_current, rules_voltage
@@ -24,8 +25,9 @@ def evaluate(q, th) -> list:
     for d in REGISTRY.values():
         raised = d.rule(q, th)
         if [r[0] for r in raised] != list(d.severities):
-            raise RuntimeError(f"finding {d.code}: the rule raised {[r[0] for r in raised]}, "
-                               f"its definition says {list(d.severities)}")
+            raise RuntimeError(
+                f"finding {d.code}: the rule raised {[r[0] for r in raised]}, its definition says {list(d.severities)}"
+            )
         for severity, mask, value, threshold, phase in raised:
             out.append((d.code, severity, mask, value, threshold, d.unit, phase))
     return out

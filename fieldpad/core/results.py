@@ -3,6 +3,7 @@
 
 Values are rounded to 4 decimals; a quantity the input cannot give is None.
 """
+
 from __future__ import annotations
 
 import numpy as np
@@ -14,19 +15,56 @@ from .rotation import REASON_NOT_3PH, REASON_TEXT, ROTATION_NAMES
 #: Output fields in order.  The first block is the public contract of
 #: ``fieldpad compute``; the rest are additions.
 RESULT_FIELDS = (
-    "v0", "v1", "v2", "v0_deg", "v1_deg", "v2_deg",
-    "vuf_pct", "v0uf_pct", "lvur_pct", "pvur_pct", "rotation",
-    "i0", "i1", "i2", "i0_deg", "i1_deg", "i2_deg", "iuf_pct",
-    "i_n_calc", "i_n_calc_deg", "i_n_est",
-    "p_w", "q_var", "s_va", "pf", "derating",
+    "v0",
+    "v1",
+    "v2",
+    "v0_deg",
+    "v1_deg",
+    "v2_deg",
+    "vuf_pct",
+    "v0uf_pct",
+    "lvur_pct",
+    "pvur_pct",
+    "rotation",
+    "i0",
+    "i1",
+    "i2",
+    "i0_deg",
+    "i1_deg",
+    "i2_deg",
+    "iuf_pct",
+    "i_n_calc",
+    "i_n_calc_deg",
+    "i_n_est",
+    "p_w",
+    "q_var",
+    "s_va",
+    "pf",
+    "derating",
     # additions
-    "iur_pct", "i_n_diff", "s_vector_va",
-    "p_a_w", "p_b_w", "p_c_w", "q_a_var", "q_b_var", "q_c_var", "pf_a", "pf_b", "pf_c",
-    "temp_rise_pct", "v_dev_max_pct", "high_leg", "rotation_note", "basis", "s_va_method",
+    "iur_pct",
+    "i_n_diff",
+    "s_vector_va",
+    "p_a_w",
+    "p_b_w",
+    "p_c_w",
+    "q_a_var",
+    "q_b_var",
+    "q_c_var",
+    "pf_a",
+    "pf_b",
+    "pf_c",
+    "temp_rise_pct",
+    "v_dev_max_pct",
+    "high_leg",
+    "rotation_note",
+    "basis",
+    "s_va_method",
     "findings",
 )
-_FLOAT_FIELDS = tuple(f for f in RESULT_FIELDS if f not in
-                      ("rotation", "high_leg", "rotation_note", "basis", "s_va_method", "findings"))
+_FLOAT_FIELDS = tuple(
+    f for f in RESULT_FIELDS if f not in ("rotation", "high_leg", "rotation_note", "basis", "s_va_method", "findings")
+)
 #: How ``s_va`` and ``pf`` were formed (analysis value ``s_va_vector``).
 S_VA_METHOD = {-1: None, 0: "arithmetic", 1: "vector"}
 

@@ -18,6 +18,7 @@ Decision rule (common practice, thresholds adjustable per site)
 
 Codes: 1 = ABC, -1 = ACB, 0 = unknown.  Reason codes explain an unknown.
 """
+
 from __future__ import annotations
 
 import numpy as np
@@ -33,7 +34,7 @@ REASON_TEXT = {
     REASON_NO_DOMINANCE: "neither sequence clearly dominates: check the readings and the leads",
     REASON_NOT_3PH: "not a three-phase system",
     REASON_IN_PHASE: "the three are in phase (no rotating component): check that each lead is on its own phase "
-                     "and that every angle was read against the same reference",
+    "and that every angle was read against the same reference",
 }
 
 
@@ -62,8 +63,9 @@ def rotation(seq, magnitudes, has_angles, collapse_ratio=0.5, dominance=2.0):
     return rotation_from(s[..., 1], s[..., 2], low, has_angles, collapse_ratio, dominance)
 
 
-def rotation_from(x1_abs, x2_abs, lowest_ratio, has_angles, collapse_ratio=0.5, dominance=2.0,
-                  x0_abs=None, in_phase_ratio=0.1):
+def rotation_from(
+    x1_abs, x2_abs, lowest_ratio, has_angles, collapse_ratio=0.5, dominance=2.0, x0_abs=None, in_phase_ratio=0.1
+):
     """The decision rule on its inputs: |X1|, |X2|, the lowest phase magnitude
     over the highest (NaN or 0 when unknown), whether angles were entered and,
     optionally, |X0| (for rule 4; None skips it).
@@ -80,8 +82,7 @@ def rotation_from(x1_abs, x2_abs, lowest_ratio, has_angles, collapse_ratio=0.5, 
     v2 = np.asarray(x2_abs, dtype=float)
     # At exactly the ratio is collapsed (an open phase on a 3-wire feed leaves 1/2), with a relative margin.
     collapsed = ~(np.asarray(lowest_ratio, dtype=float) > collapse_ratio * (1.0 + 1e-9))
-    code = np.where((v1 >= dominance * v2) & (v1 > 0), ABC,
-                    np.where((v2 >= dominance * v1) & (v2 > 0), ACB, UNKNOWN))
+    code = np.where((v1 >= dominance * v2) & (v1 > 0), ABC, np.where((v2 >= dominance * v1) & (v2 > 0), ACB, UNKNOWN))
     reason = np.where(code == UNKNOWN, REASON_NO_DOMINANCE, REASON_NONE)
     if x0_abs is not None:
         in_phase = np.fmax(v1, v2) < in_phase_ratio * np.asarray(x0_abs, dtype=float)

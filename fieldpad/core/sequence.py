@@ -20,6 +20,7 @@ of Polyphase Networks", AIEE Transactions 37 (1918) — the n-phase form.
 J. J. Grainger and W. D. Stevenson, *Power System Analysis*, McGraw-Hill
 1994, chapter 11 (three-phase form and the 30-degree shift).
 """
+
 from __future__ import annotations
 
 import numpy as np

@@ -22,6 +22,7 @@ H. S. M. Coxeter and S. L. Greitzer, *Geometry Revisited*, MAA, 1967, §3.3
 (Napoleon triangles; the difference of their areas is the area of the
 original triangle) — from memory.
 """
+
 from __future__ import annotations
 
 import numpy as np
@@ -54,8 +55,8 @@ def vertices(u_ab, u_bc, u_ca):
     ok = (ab > 0) & (bc > 0) & (ca > 0) & (ab <= bc + ca) & (bc <= ab + ca) & (ca <= ab + bc)
     safe_bc = np.where(ok, bc, 1.0)
     # B at 0, C on the positive real axis, A below it (so A, B, C run clockwise): law of cosines.
-    x = (np.where(ok, ab, 1.0) ** 2 + safe_bc ** 2 - np.where(ok, ca, 1.0) ** 2) / (2.0 * safe_bc)
-    y = -np.sqrt(np.clip(np.where(ok, ab, 1.0) ** 2 - x ** 2, 0.0, None))
+    x = (np.where(ok, ab, 1.0) ** 2 + safe_bc**2 - np.where(ok, ca, 1.0) ** 2) / (2.0 * safe_bc)
+    y = -np.sqrt(np.clip(np.where(ok, ab, 1.0) ** 2 - x**2, 0.0, None))
     a0, b0, c0 = x + 1j * y, np.zeros_like(x) + 0j, safe_bc + 0j
     g = (a0 + b0 + c0) / 3.0
     a0, b0, c0 = a0 - g, b0 - g, c0 - g

@@ -30,6 +30,7 @@ Definitions
   system has, so the larger component is taken as the positive sequence (the
   normal case for a healthy supply); say so where it is shown.
 """
+
 from __future__ import annotations
 
 import numpy as np
@@ -122,10 +123,7 @@ def triangle_ok(u_ab, u_bc, u_ca):
     """
     a, b, c = (np.asarray(x, dtype=float) for x in (u_ab, u_bc, u_ca))
     tol = 1e-9 * (a + b + c)
-    return (
-        (a > 0) & (b > 0) & (c > 0)
-        & (a <= b + c + tol) & (b <= a + c + tol) & (c <= a + b + tol)
-    )
+    return (a > 0) & (b > 0) & (c > 0) & (a <= b + c + tol) & (b <= a + c + tol) & (c <= a + b + tol)
 
 
 def _triangle_area(a, b, c):

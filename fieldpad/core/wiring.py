@@ -16,6 +16,7 @@ Hypothesis codes (:data:`HYPOTHESES`): 0 as wired; 1-3 one CT reversed on A, B, 
 or C the right one; 7 all reversed; 8 every clamp one phase on (A's on B, B's on C, C's on A); 9 one phase
 back (A's on C, ...); 10-12 two clamps exchanged (A-B, B-C, C-A).
 """
+
 from __future__ import annotations
 
 import math
@@ -31,10 +32,19 @@ MARGIN_DEG = 20.0
 AS_WIRED, REV_A, REV_B, REV_C, TWO_A, TWO_B, TWO_C, ALL_REV, ROT_ON, ROT_BACK, SWAP_AB, SWAP_BC, SWAP_CA = range(13)
 #: code -> shift (degrees) undone on phases A, B, C for an A-B-C rotation (mirrored for A-C-B).
 HYPOTHESES = {
-    AS_WIRED: (0, 0, 0), REV_A: (180, 0, 0), REV_B: (0, 180, 0), REV_C: (0, 0, 180),
-    TWO_A: (0, 180, 180), TWO_B: (180, 0, 180), TWO_C: (180, 180, 0), ALL_REV: (180, 180, 180),
-    ROT_ON: (120, 120, 120), ROT_BACK: (240, 240, 240),
-    SWAP_AB: (120, 240, 0), SWAP_BC: (0, 120, 240), SWAP_CA: (240, 0, 120),
+    AS_WIRED: (0, 0, 0),
+    REV_A: (180, 0, 0),
+    REV_B: (0, 180, 0),
+    REV_C: (0, 0, 180),
+    TWO_A: (0, 180, 180),
+    TWO_B: (180, 0, 180),
+    TWO_C: (180, 180, 0),
+    ALL_REV: (180, 180, 180),
+    ROT_ON: (120, 120, 120),
+    ROT_BACK: (240, 240, 240),
+    SWAP_AB: (120, 240, 0),
+    SWAP_BC: (0, 120, 240),
+    SWAP_CA: (240, 0, 120),
 }
 #: The hypotheses that exist on two legs (split-phase): as wired, one reversed, both reversed.
 TWO_LEG = (AS_WIRED, REV_A, REV_B, ALL_REV)

@@ -16,6 +16,7 @@ commands); a file it cannot map line by line (a quoted value spanning lines, a r
 of values than the header, a text that is not UTF-8) is read by :mod:`csv` instead, with the same checks.
 JSON is decoded one record at a time from a bounded buffer.  Memory is bounded by the block, not the file.
 """
+
 from __future__ import annotations
 
 import codecs
@@ -195,8 +196,9 @@ def _scan(f, arrow: bool = True):
         except UnicodeDecodeError as e:
             data = e.object
             line = lines_before + data[: e.start].count(b"\n") + 1
-            raise InputError(f"line {line}: the file is not UTF-8 text (byte 0x{data[e.start]:02x}); "
-                             "save it as UTF-8 and try again") from None
+            raise InputError(
+                f"line {line}: the file is not UTF-8 text (byte 0x{data[e.start]:02x}); save it as UTF-8 and try again"
+            ) from None
         if "\x00" in text:
             raise InputError("the file contains NUL bytes: it is not a text file of readings")
         lines_before += chunk.count(b"\n")
@@ -280,11 +282,14 @@ def _csv_blocks_arrow(f, line_numbers, block_rows):
     try:
         reader = pcsv.open_csv(
             f,
-            read_options=pcsv.ReadOptions(column_names=names, skip_rows=1, block_size=1 << 20,
-                                          use_threads=True),
+            read_options=pcsv.ReadOptions(column_names=names, skip_rows=1, block_size=1 << 20, use_threads=True),
             parse_options=pcsv.ParseOptions(invalid_row_handler=on_invalid),
-            convert_options=pcsv.ConvertOptions(column_types={c: pa.string() for c in names},
-                                                strings_can_be_null=False, quoted_strings_can_be_null=False))
+            convert_options=pcsv.ConvertOptions(
+                column_types={c: pa.string() for c in names},
+                strings_can_be_null=False,
+                quoted_strings_can_be_null=False,
+            ),
+        )
         batches = _rebatch(reader, block_rows)
         first = next(batches, None)
     except (pa.ArrowInvalid, UnicodeDecodeError):
@@ -302,7 +307,7 @@ def _csv_blocks_arrow(f, line_numbers, block_rows):
                 if bad_rows:
                     raise _Fallback
                 n = b.num_rows
-                where = [f"line {k}" for k in line_numbers[pos:pos + n].tolist()]
+                where = [f"line {k}" for k in line_numbers[pos : pos + n].tolist()]
                 pos += n
                 arrow = {h: b.column(k) for k, h in enumerate(header)}
                 keep = _not_blank(arrow, n)
@@ -407,8 +412,9 @@ def _json_blocks(head: bytes, stream, block_rows):
             t = dec.decode(chunk, final)
         except UnicodeDecodeError as e:
             line = lines_before + chunk[: e.start].count(b"\n") + 1
-            raise InputError(f"line {line}: the file is not UTF-8 text (byte 0x{chunk[e.start]:02x}); "
-                             "save it as UTF-8 and try again") from None
+            raise InputError(
+                f"line {line}: the file is not UTF-8 text (byte 0x{chunk[e.start]:02x}); save it as UTF-8 and try again"
+            ) from None
         lines_before += chunk.count(b"\n")
         if "\x00" in t:
             raise InputError("the file contains NUL bytes: it is not a text file of readings")
@@ -416,7 +422,7 @@ def _json_blocks(head: bytes, stream, block_rows):
 
     buf = text_of(head)
     i = len(buf) - len(buf.lstrip())
-    if buf[i:i + 1] != "[":
+    if buf[i : i + 1] != "[":
         yield from _json_whole(buf + text_of(stream.read(), True))
         return
     decoder = json.JSONDecoder(parse_constant=_Constant, object_pairs_hook=_object)
@@ -499,8 +505,9 @@ def _json_blocks(head: bytes, stream, block_rows):
         if not isinstance(obj, dict) or not_object:
             # Reported once the whole text has been read (a syntax error later on is told first).
             if not not_object:
-                not_object.append(InputError(f"record {count}: expected a JSON object with reading fields, "
-                                             f"got {type(obj).__name__}"))
+                not_object.append(
+                    InputError(f"record {count}: expected a JSON object with reading fields, got {type(obj).__name__}")
+                )
             continue
         k = len(where)
         where.append(f"record {count}")
@@ -546,10 +553,11 @@ def _json_whole(text: str):
         obj, kind = [obj], "json-object"
     for start in range(0, len(obj), BLOCK_ROWS):
         cols, where, extra = {}, [], {}
-        for k, item in enumerate(obj[start:start + BLOCK_ROWS]):
+        for k, item in enumerate(obj[start : start + BLOCK_ROWS]):
             if not isinstance(item, dict):
-                raise InputError(f"record {start + k + 1}: expected a JSON object with reading fields, got "
-                                 f"{type(item).__name__}")
+                raise InputError(
+                    f"record {start + k + 1}: expected a JSON object with reading fields, got {type(item).__name__}"
+                )
             where.append(f"record {start + k + 1}")
             probs = item.pop(PROBLEMS_KEY, None)
             if probs:
@@ -634,7 +642,7 @@ def _arrow_numbers(a, kind):
     data_buf = a.buffers()[2]
     data = np.frombuffer(data_buf, np.uint8) if data_buf is not None else np.zeros(0, np.uint8)
     lengths = np.diff(offsets)
-    bad = np.concatenate(([0], np.cumsum(~_ALLOWED[data[offsets[0]:offsets[-1]]], dtype=np.int64)))
+    bad = np.concatenate(([0], np.cumsum(~_ALLOWED[data[offsets[0] : offsets[-1]]], dtype=np.int64)))
     nbad = bad[offsets[1:] - offsets[0]] - bad[offsets[:-1] - offsets[0]]
     plain = (nbad == 0) & (lengths > 0)
     x = np.full(n, np.nan)
@@ -662,8 +670,7 @@ def _cell(raw: RawBlock, name: str, i: int):
 
 
 def _strip_lower(values):
-    return [None if v is None or v is _MISSING or str(v).strip() == "" else str(v).strip().lower()
-            for v in values]
+    return [None if v is None or v is _MISSING or str(v).strip() == "" else str(v).strip().lower() for v in values]
 
 
 def _text_column(raw: RawBlock, name: str) -> list:
@@ -821,8 +828,7 @@ def problem_lines(clean_or_raw, problems) -> list[str]:
     return [f"{where[i]}: {f}: {r}" for i, f, r in problems]
 
 
-__all__ = ["BLOCK_ROWS", "CleanBlock", "RawBlock", "check_block", "problem_lines", "read_blocks",
-           "record_problems"]
+__all__ = ["BLOCK_ROWS", "CleanBlock", "RawBlock", "check_block", "problem_lines", "read_blocks", "record_problems"]
 
 
 class Spool:

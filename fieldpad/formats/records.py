@@ -5,6 +5,7 @@ Input: a JSON object, a JSON array of objects, or CSV with a header row
 names it in messages: ``record 3`` for JSON (counted from 1), ``line 4`` for
 CSV (the file's line number, header = line 1).
 """
+
 from __future__ import annotations
 
 import csv
@@ -31,8 +32,9 @@ def decode(data: bytes) -> str:
         return data.decode("utf-8-sig")
     except UnicodeDecodeError as e:
         line = data[: e.start].count(b"\n") + 1
-        raise InputError(f"line {line}: the file is not UTF-8 text (byte 0x{data[e.start]:02x}); "
-                         "save it as UTF-8 and try again") from None
+        raise InputError(
+            f"line {line}: the file is not UTF-8 text (byte 0x{data[e.start]:02x}); save it as UTF-8 and try again"
+        ) from None
 
 
 def parse_records(data: bytes) -> ParsedInput:
@@ -75,8 +77,9 @@ def _flat_export_record(rec):
     if not isinstance(rec, dict):
         return rec
     inputs = rec.get("inputs") if isinstance(rec.get("inputs"), dict) else {}
-    flat = {k: v for k, v in rec.items()
-            if k not in ("inputs", "results", "findings", "board_id", "site_id", "conflict")}
+    flat = {
+        k: v for k, v in rec.items() if k not in ("inputs", "results", "findings", "board_id", "site_id", "conflict")
+    }
     return {**flat, **inputs}
 
 
@@ -182,8 +185,7 @@ def csv_cell(value):
 
 
 def findings_cell(findings) -> str:
-    return " | ".join(f"{f['severity']}:{f['code']}" + (f"({f['phase']})" if f.get("phase") else "")
-                      for f in findings)
+    return " | ".join(f"{f['severity']}:{f['code']}" + (f"({f['phase']})" if f.get("phase") else "") for f in findings)
 
 
 def write_csv(records, fields) -> str:

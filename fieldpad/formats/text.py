@@ -3,6 +3,7 @@
 Used by the terminal UI (a raw escape sequence would drive the terminal) and
 by the HTML report (control characters have no place in a printed record).
 """
+
 from __future__ import annotations
 
 import re

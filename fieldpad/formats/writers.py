@@ -7,6 +7,7 @@ byte matrix, drops the padding and splices the variable parts in.  Numbers are w
 ``repr`` writes them (``277.0``, ``-120.0``, ``1.9608``), so the text is the same as the csv and json
 modules write for the same values.
 """
+
 from __future__ import annotations
 
 import json
@@ -18,9 +19,10 @@ import numpy as np
 # trailing zeros as NUL after the first digit (0 -> "0", 5000 -> "5", 1230 -> "123").
 _DIG = np.frombuffer(b"".join(f"{k:04d}".encode() for k in range(10000)), np.uint32)
 _LEAD = np.frombuffer(b"".join(f"{k:d}".encode().rjust(4, b"\0") for k in range(10000)), np.uint32)
-_FRAC = np.frombuffer(b"".join((f"{k:04d}".rstrip("0") or "0").encode().ljust(4, b"\0") for k in range(10000)),
-                      np.uint32)
-_LIMIT = float(2 ** 53)
+_FRAC = np.frombuffer(
+    b"".join((f"{k:04d}".rstrip("0") or "0").encode().ljust(4, b"\0") for k in range(10000)), np.uint32
+)
+_LIMIT = float(2**53)
 
 
 def float_cells(x, *, null: bytes = b"", rounded: bool = True):
@@ -75,15 +77,15 @@ def float_cells(x, *, null: bytes = b"", rounded: bool = True):
             last = j == groups - 1
             lead = ~higher & ((part > 0) | last)
             cell = np.where(higher, _DIG[part], np.where(lead, _LEAD[part], 0))
-            m[:, 1 + 4 * j:5 + 4 * j].view(np.uint32)[:, 0] = cell
+            m[:, 1 + 4 * j : 5 + 4 * j].view(np.uint32)[:, 0] = cell
             higher |= part > 0
     m[:, 1 + 4 * groups] = 46  # "."
-    m[:, 2 + 4 * groups:].view(np.uint32)[:, 0] = _FRAC[fp]
+    m[:, 2 + 4 * groups :].view(np.uint32)[:, 0] = _FRAC[fp]
     bad = ~ok
     if bad.any():
         m[bad] = 0
         if null:
-            m[bad, 1:1 + len(null)] = np.frombuffer(null, np.uint8)
+            m[bad, 1 : 1 + len(null)] = np.frombuffer(null, np.uint8)
     return m
 
 
@@ -96,7 +98,7 @@ def vocab_cells(codes, texts: dict, *, quote) -> np.ndarray:
     width = max([len(c) for c in cells] + [1])
     table = np.zeros((len(keys), width), np.uint8)
     for j, c in enumerate(cells):
-        table[j, :len(c)] = np.frombuffer(c, np.uint8)
+        table[j, : len(c)] = np.frombuffer(c, np.uint8)
     index = np.searchsorted(np.array(keys), codes)
     return table[index]
 
@@ -146,10 +148,12 @@ def _cached(v) -> str:
 def _dict_body(d: dict, inner: str) -> str:
     if tuple(d) == _FINDING_KEYS:  # a finding (core/findings.py): the repeating texts are encoded once
         c, sc = _cached, _json_scalar
-        return (f'{inner}"code": {c(d["code"])},{inner}"severity": {c(d["severity"])},{inner}"message": '
-                f'{_encode_str(d["message"]) if type(d["message"]) is str else sc(d["message"])},{inner}"value": '
-                f'{sc(d["value"])},{inner}"threshold": {sc(d["threshold"])},{inner}"unit": {c(d["unit"])},'
-                f'{inner}"phase": {c(d["phase"])},{inner}"source": {c(d["source"])}')
+        return (
+            f'{inner}"code": {c(d["code"])},{inner}"severity": {c(d["severity"])},{inner}"message": '
+            f'{_encode_str(d["message"]) if type(d["message"]) is str else sc(d["message"])},{inner}"value": '
+            f'{sc(d["value"])},{inner}"threshold": {sc(d["threshold"])},{inner}"unit": {c(d["unit"])},'
+            f'{inner}"phase": {c(d["phase"])},{inner}"source": {c(d["source"])}'
+        )
     return inner + ("," + inner).join(f"{_encode_str(k)}: {_json_scalar(v)}" for k, v in d.items())
 
 
@@ -207,10 +211,10 @@ def assemble(parts, n: int) -> bytes:
         for p in fixed:
             if isinstance(p, np.ndarray):
                 w = p.shape[1]
-                m[:, at:at + w] = p
+                m[:, at : at + w] = p
             else:
                 w = len(p)
-                m[:, at:at + w] = np.frombuffer(p, np.uint8)
+                m[:, at : at + w] = np.frombuffer(p, np.uint8)
             at += w
         if sep:
             m[:, -1] = 1
@@ -351,6 +355,8 @@ def slices(result, rows: int = WRITE_ROWS):
     for lo in range(0, n, rows):
         hi = min(n, lo + rows)
         values = {k: v[lo:hi] for k, v in result.values.items()}
-        findings = [(code, sev, mask[lo:hi], cut(v, lo, hi), cut(t, lo, hi), unit, cut(p, lo, hi))
-                    for code, sev, mask, v, t, unit, p in result.findings]
+        findings = [
+            (code, sev, mask[lo:hi], cut(v, lo, hi), cut(t, lo, hi), unit, cut(p, lo, hi))
+            for code, sev, mask, v, t, unit, p in result.findings
+        ]
         yield lo, hi, Analysis(n=hi - lo, values=values, findings=findings)

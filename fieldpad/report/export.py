@@ -3,6 +3,7 @@
 Results are computed here from the stored inputs by the core (they are not
 stored), with each site's own thresholds and phase labels.
 """
+
 from __future__ import annotations
 
 import csv
@@ -20,8 +21,19 @@ from ..storage.db import StorageError
 from ..storage.ids import local_text, to_utc_text, utc_now
 
 FORMAT_VERSION = 1
-META_FIELDS = ("site", "board", "taken_at", "technician", "instrument", "round", "note",
-               "reading_id", "version", "reason", "recorded_at")
+META_FIELDS = (
+    "site",
+    "board",
+    "taken_at",
+    "technician",
+    "instrument",
+    "round",
+    "note",
+    "reading_id",
+    "version",
+    "reason",
+    "recorded_at",
+)
 INPUT_FIELDS = ("system", "standard") + NUMERIC_FIELDS
 RESULT_COLUMNS = tuple(f for f in RESULT_FIELDS if f != "findings")
 #: Columns added after the contract's (their places are kept): the version's own id (imported again, the
@@ -52,8 +64,10 @@ def analyze_rows(rows: list[dict]) -> list[dict]:
     for (th_json, labels), idx in groups.items():
         th = Thresholds().with_overrides(json.loads(th_json))
         lab = phase_labels(labels)
-        recs = [{**{f: rows[k][f] for f in NUMERIC_FIELDS}, "system": rows[k]["system"],
-                 "standard": rows[k]["standard"]} for k in idx]
+        recs = [
+            {**{f: rows[k][f] for f in NUMERIC_FIELDS}, "system": rows[k]["system"], "standard": rows[k]["standard"]}
+            for k in idx
+        ]
         for k, res in zip(idx, analyze_records(recs, th, lab)):
             out[k] = res
     return out
@@ -68,8 +82,9 @@ def export_records(db, *, day=None, site=None, site_id=None, round_id=None) -> l
     if site and not site_id:
         found = sites.sites_matching(db, site)
         if len(found) > 1:
-            raise StorageError(f"{len(found)} sites are named {site!r}: choose one by id "
-                               f"({', '.join(s['id'] for s in found)})")
+            raise StorageError(
+                f"{len(found)} sites are named {site!r}: choose one by id ({', '.join(s['id'] for s in found)})"
+            )
         if not found:
             return []
         site_id = found[0]["id"]
@@ -78,18 +93,29 @@ def export_records(db, *, day=None, site=None, site_id=None, round_id=None) -> l
     competing = versions.conflicts(db, {r["reading_id"] for r in rows})
     out = []
     for r, res in zip(rows, results):
-        out.append({
-            "site": r["site_name"], "board": r["board_name"], "taken_at": r["taken_at"],
-            "taken_at_local": local_text(r["taken_at"], LOCAL_FORMAT),
-            "technician": r["technician"], "instrument": r["instrument"], "round": r["round_label"],
-            "note": r["note"], "reading_id": r["reading_id"], "version": r["version"], "version_id": r["id"],
-            "reason": r["reason"],
-            "recorded_at": r["recorded_at"], "board_id": r["shown_board_id"], "site_id": r["site_id"],
-            "conflict": r["reading_id"] in competing,
-            "inputs": {f: r[f] for f in INPUT_FIELDS},
-            "results": {f: res[f] for f in RESULT_COLUMNS},
-            "findings": res["findings"],
-        })
+        out.append(
+            {
+                "site": r["site_name"],
+                "board": r["board_name"],
+                "taken_at": r["taken_at"],
+                "taken_at_local": local_text(r["taken_at"], LOCAL_FORMAT),
+                "technician": r["technician"],
+                "instrument": r["instrument"],
+                "round": r["round_label"],
+                "note": r["note"],
+                "reading_id": r["reading_id"],
+                "version": r["version"],
+                "version_id": r["id"],
+                "reason": r["reason"],
+                "recorded_at": r["recorded_at"],
+                "board_id": r["shown_board_id"],
+                "site_id": r["site_id"],
+                "conflict": r["reading_id"] in competing,
+                "inputs": {f: r[f] for f in INPUT_FIELDS},
+                "results": {f: res[f] for f in RESULT_COLUMNS},
+                "findings": res["findings"],
+            }
+        )
     return out
 
 
@@ -108,15 +134,32 @@ def to_csv(records: list[dict]) -> str:
 
 
 def to_json(records: list[dict], *, day=None, site=None) -> str:
-    doc = {"format": EXPORT_FORMAT, "format_version": FORMAT_VERSION, "generated_at": utc_now(),
-           "filters": {"day": day, "site": site}, "readings": records}
+    doc = {
+        "format": EXPORT_FORMAT,
+        "format_version": FORMAT_VERSION,
+        "generated_at": utc_now(),
+        "filters": {"day": day, "site": site},
+        "readings": records,
+    }
     return json.dumps(doc, ensure_ascii=False, indent=2) + "\n"
 
 
 # ---- streaming exports: a block of readings at a time, written from columns -----------------------------------
 
-_STREAM_COLUMNS = ("id", "reading_id", "version", "taken_at", "technician", "instrument", "note", "reason",
-                   "recorded_at", "board_id", "system", "standard") + NUMERIC_FIELDS
+_STREAM_COLUMNS = (
+    "id",
+    "reading_id",
+    "version",
+    "taken_at",
+    "technician",
+    "instrument",
+    "note",
+    "reason",
+    "recorded_at",
+    "board_id",
+    "system",
+    "standard",
+) + NUMERIC_FIELDS
 
 
 def _current_query(db, *, day=None, site=None, site_id=None):
@@ -131,8 +174,9 @@ def _current_query(db, *, day=None, site=None, site_id=None):
     if site and not site_id:
         found = sites.sites_matching(db, site)
         if len(found) > 1:
-            raise StorageError(f"{len(found)} sites are named {site!r}: choose one by id "
-                               f"({', '.join(s['id'] for s in found)})")
+            raise StorageError(
+                f"{len(found)} sites are named {site!r}: choose one by id ({', '.join(s['id'] for s in found)})"
+            )
         if not found:
             return None
         site_id = found[0]["id"]
@@ -140,18 +184,28 @@ def _current_query(db, *, day=None, site=None, site_id=None):
         where.append("b.site_id = :site")
         params["site"] = site_id
     cols = ", ".join(f"r.{c}" for c in _STREAM_COLUMNS)
-    sql = (f"SELECT {cols}, b.id, b.site_id, b.name, s.name, s.phase_labels, s.thresholds_json, ro.label "
-           "FROM reading_current r JOIN board b0 ON b0.id = r.board_id "
-           "JOIN board b ON b.id = COALESCE(b0.joined_into, b0.id) JOIN site s ON s.id = b.site_id "
-           "LEFT JOIN round ro ON ro.id = r.round_id WHERE " + " AND ".join(where)
-           + " ORDER BY s.name, s.id, b.name, b.id, r.taken_at, r.id")
+    sql = (
+        f"SELECT {cols}, b.id, b.site_id, b.name, s.name, s.phase_labels, s.thresholds_json, ro.label "
+        "FROM reading_current r JOIN board b0 ON b0.id = r.board_id "
+        "JOIN board b ON b.id = COALESCE(b0.joined_into, b0.id) JOIN site s ON s.id = b.site_id "
+        "LEFT JOIN round ro ON ro.id = r.round_id WHERE "
+        + " AND ".join(where)
+        + " ORDER BY s.name, s.id, b.name, b.id, r.taken_at, r.id"
+    )
     return db.conn.execute(sql, params)
 
 
 def _blocks(cursor, rows=EXPORT_BLOCK):
     """Runs of rows with one site setting (thresholds, labels), at most ``rows`` long, as column dicts."""
-    names = _STREAM_COLUMNS + ("shown_board_id", "site_id", "board_name", "site_name", "phase_labels",
-                               "thresholds_json", "round_label")
+    names = _STREAM_COLUMNS + (
+        "shown_board_id",
+        "site_id",
+        "board_name",
+        "site_name",
+        "phase_labels",
+        "thresholds_json",
+        "round_label",
+    )
     while True:
         batch = cursor.fetchmany(rows)
         if not batch:
@@ -196,13 +250,14 @@ def local_times(utc_texts: list, fmt: str = LOCAL_FORMAT) -> list:
     secs = t.astype(np.int64)
     bad = np.isnat(t)
     quarter, inverse = np.unique(np.where(bad, 0, secs) // 900, return_inverse=True)
-    offsets = np.array([datetime.fromtimestamp(int(q) * 900, UTC).astimezone().utcoffset().total_seconds()
-                        for q in quarter.tolist()], np.int64)
+    offsets = np.array(
+        [datetime.fromtimestamp(int(q) * 900, UTC).astimezone().utcoffset().total_seconds() for q in quarter.tolist()],
+        np.int64,
+    )
     off = offsets[np.asarray(inverse).ravel()]
     local = np.datetime_as_string((secs + off).astype("datetime64[s]"), unit="s")
     texts = np.char.replace(local, "T", " ")
-    names = {o: f"{'+' if o >= 0 else '-'}{abs(o) // 3600:02d}{abs(o) % 3600 // 60:02d}" for o in
-             set(offsets.tolist())}
+    names = {o: f"{'+' if o >= 0 else '-'}{abs(o) // 3600:02d}{abs(o) % 3600 // 60:02d}" for o in set(offsets.tolist())}
     out = [f"{a} {names[o]}" for a, o in zip(texts.tolist(), off.tolist())]
     for i in np.flatnonzero(bad).tolist():
         out[i] = local_text(utc_texts[i], fmt)
@@ -256,8 +311,9 @@ def write_csv(db, out, *, day=None, site=None, site_id=None) -> int:
             rc = result_columns(result, labels)
             for f in RESULT_COLUMNS:
                 kind = rc[f]
-                parts.append(float_cells(kind[1]) if kind[0] == "num"
-                             else vocab_cells(kind[1], kind[2], quote=csv_text))
+                parts.append(
+                    float_cells(kind[1]) if kind[0] == "num" else vocab_cells(kind[1], kind[2], quote=csv_text)
+                )
                 parts.append(b",")
             parts.append(findings_csv_cells(result, labels))
             parts.append(b",")
@@ -275,8 +331,17 @@ def write_json(db, out, *, day=None, site=None, site_id=None) -> int:
     cursor = _current_query(db, day=day, site=site, site_id=site_id)
     if cursor is None:
         return -1
-    head = json.dumps({"format": EXPORT_FORMAT, "format_version": FORMAT_VERSION, "generated_at": utc_now(),
-                       "filters": {"day": day, "site": site}, "readings": []}, ensure_ascii=False, indent=2)
+    head = json.dumps(
+        {
+            "format": EXPORT_FORMAT,
+            "format_version": FORMAT_VERSION,
+            "generated_at": utc_now(),
+            "filters": {"day": day, "site": site},
+            "readings": [],
+        },
+        ensure_ascii=False,
+        indent=2,
+    )
     before, after = head.rsplit('"readings": []', 1)
     out.write((before + '"readings": [').encode("utf-8"))
     count = 0
@@ -290,12 +355,21 @@ def write_json(db, out, *, day=None, site=None, site_id=None) -> int:
         texts = []
         for i, res in enumerate(results):
             rec = {
-                "site": block["site_name"][i], "board": block["board_name"][i], "taken_at": block["taken_at"][i],
-                "taken_at_local": local[i], "technician": block["technician"][i],
-                "instrument": block["instrument"][i], "round": block["round_label"][i], "note": block["note"][i],
-                "reading_id": block["reading_id"][i], "version": block["version"][i], "version_id": block["id"][i],
-                "reason": block["reason"][i], "recorded_at": block["recorded_at"][i],
-                "board_id": block["shown_board_id"][i], "site_id": block["site_id"][i],
+                "site": block["site_name"][i],
+                "board": block["board_name"][i],
+                "taken_at": block["taken_at"][i],
+                "taken_at_local": local[i],
+                "technician": block["technician"][i],
+                "instrument": block["instrument"][i],
+                "round": block["round_label"][i],
+                "note": block["note"][i],
+                "reading_id": block["reading_id"][i],
+                "version": block["version"][i],
+                "version_id": block["id"][i],
+                "reason": block["reason"][i],
+                "recorded_at": block["recorded_at"][i],
+                "board_id": block["shown_board_id"][i],
+                "site_id": block["site_id"][i],
                 "conflict": block["reading_id"][i] in competing,
                 "inputs": {f: block[f][i] for f in INPUT_FIELDS},
                 "results": {f: res[f] for f in RESULT_COLUMNS},
@@ -304,5 +378,5 @@ def write_json(db, out, *, day=None, site=None, site_id=None) -> int:
             texts.append("\n    " + json.dumps(rec, ensure_ascii=False, indent=2).replace("\n", "\n    "))
         out.write(((",") if count else "").encode() + ",".join(texts).encode("utf-8"))
         count += len(results)
-    out.write(("\n  " if count else "") .encode() + ("]" + after + "\n").encode("utf-8"))
+    out.write(("\n  " if count else "").encode() + ("]" + after + "\n").encode("utf-8"))
     return count

@@ -13,6 +13,7 @@ magnitudes only): the "IN A" column shows a measured neutral as measured and
 a phasor-sum neutral as computed, both when both exist.  Times are in the
 local time zone of the laptop making the report, stated in the header.
 """
+
 from __future__ import annotations
 
 from collections import defaultdict
@@ -42,31 +43,49 @@ def _no_controls(value):
     return printable(value, keep_tab_newline=True) if isinstance(value, str) else value
 
 
-_ENV = Environment(loader=PackageLoader("fieldpad.report", "templates"), finalize=_no_controls,
-                   autoescape=select_autoescape(default=True, default_for_string=True))
+_ENV = Environment(
+    loader=PackageLoader("fieldpad.report", "templates"),
+    finalize=_no_controls,
+    autoescape=select_autoescape(default=True, default_for_string=True),
+)
 
 SOURCE_NAMES = [
-    ("Voltage unbalance factor (VUF)", "vuf_pct"), ("Motor derating (NEMA line-voltage unbalance)", "lvur_pct"),
-    ("Motor operation limit", "lvur_max_pct"), ("Current unbalance", "iur_pct"),
-    ("Neutral current", "neutral_overload_ratio"), ("Voltage against nominal (ANSI)", "voltage_ansi"),
-    ("Voltage against nominal (IEC)", "voltage_iec"), ("Phase rotation", "rotation"),
-    ("High-leg position", "high_leg"), ("Reversed CT", "ct_reversed"),
+    ("Voltage unbalance factor (VUF)", "vuf_pct"),
+    ("Motor derating (NEMA line-voltage unbalance)", "lvur_pct"),
+    ("Motor operation limit", "lvur_max_pct"),
+    ("Current unbalance", "iur_pct"),
+    ("Neutral current", "neutral_overload_ratio"),
+    ("Voltage against nominal (ANSI)", "voltage_ansi"),
+    ("Voltage against nominal (IEC)", "voltage_iec"),
+    ("Phase rotation", "rotation"),
+    ("High-leg position", "high_leg"),
+    ("Reversed CT", "ct_reversed"),
 ]
 
 #: How a typed field is called in a correction line (as on the sheet).
 FIELD_NAMES = {
-    **{f"v{p}": f"V{p.upper()}" for p in "abc"}, **{f"v{p}_deg": f"V{p.upper()} angle" for p in "abc"},
+    **{f"v{p}": f"V{p.upper()}" for p in "abc"},
+    **{f"v{p}_deg": f"V{p.upper()} angle" for p in "abc"},
     **{f"v{a}{b}": f"V{a.upper()}{b.upper()}" for a, b in ("ab", "bc", "ca")},
     **{f"v{a}{b}_deg": f"V{a.upper()}{b.upper()} angle" for a, b in ("ab", "bc", "ca")},
-    **{f"i{p}": f"I{p.upper()}" for p in "abc"}, **{f"i{p}_deg": f"I{p.upper()} angle" for p in "abc"},
-    "i_n": "IN", "nominal_v": "nominal V", "system": "system", "standard": "standard",
+    **{f"i{p}": f"I{p.upper()}" for p in "abc"},
+    **{f"i{p}_deg": f"I{p.upper()} angle" for p in "abc"},
+    "i_n": "IN",
+    "nominal_v": "nominal V",
+    "system": "system",
+    "standard": "standard",
 }
 LABEL_SHORT = {"missing": "⚠ none recorded", "undated": "⚠ undated", "unreadable date": "⚠ date unreadable"}
 
 
 #: Arc-flash label fields: where a board joined into this one recorded other values, the report says so.
-AF_FIELDS = {"af_incident_energy_cal_cm2": "{:g} cal/cm²", "af_working_distance_mm": "working distance {:g} mm",
-             "af_boundary_mm": "arc-flash boundary {:g} mm", "af_ppe": "PPE {}", "af_label_date": "dated {}"}
+AF_FIELDS = {
+    "af_incident_energy_cal_cm2": "{:g} cal/cm²",
+    "af_working_distance_mm": "working distance {:g} mm",
+    "af_boundary_mm": "arc-flash boundary {:g} mm",
+    "af_ppe": "PPE {}",
+    "af_label_date": "dated {}",
+}
 
 
 def _n(x, fmt="{:.2f}"):
@@ -86,10 +105,12 @@ def _label(board: dict, review_years: float, on: date) -> str:
     label = label_summary(board, review_years, on)
     if label.status == "missing":
         return "⚠ NONE RECORDED — hazard unknown, check the board"
-    tail = {"undated": "⚠ label date not recorded",
-            "unreadable date": f"⚠ label date {label.dated!r} unreadable",
-            "older than review interval": f"dated {label.dated}, ⚠ OLDER THAN {review_years:g} YEARS: have it reviewed",
-            "current": f"dated {label.dated}"}[label.status]
+    tail = {
+        "undated": "⚠ label date not recorded",
+        "unreadable date": f"⚠ label date {label.dated!r} unreadable",
+        "older than review interval": f"dated {label.dated}, ⚠ OLDER THAN {review_years:g} YEARS: have it reviewed",
+        "current": f"dated {label.dated}",
+    }[label.status]
     return ", ".join((*label.parts, tail))
 
 
@@ -213,8 +234,9 @@ def record_context(db, records: list[dict], *, day=None, site=None) -> dict:
     stored = {}
     voids: dict = defaultdict(list)
     for s in site_by_id.values():
-        for row in versions.current_readings(db, day_start_utc=start, day_end_utc=end, site_id=s["id"],
-                                             include_void=True):
+        for row in versions.current_readings(
+            db, day_start_utc=start, day_end_utc=end, site_id=s["id"], include_void=True
+        ):
             stored[row["reading_id"]] = row
             if row["void"]:
                 voids[(row["site_id"], row["shown_board_id"])].append(row)
@@ -230,14 +252,25 @@ def record_context(db, records: list[dict], *, day=None, site=None) -> dict:
         if row["round_id"] and row["round_id"] not in round_rows:
             round_rows[row["round_id"]] = rounds_store.get_round(db, row["round_id"])
     signoffs.sort(key=lambda so: so["signed_at"])
-    return {"site_by_id": site_by_id, "site_by_name": site_by_name, "stored": stored, "voids": voids,
-            "signoffs": signoffs, "round_rows": round_rows}
+    return {
+        "site_by_id": site_by_id,
+        "site_by_name": site_by_name,
+        "stored": stored,
+        "voids": voids,
+        "signoffs": signoffs,
+        "round_rows": round_rows,
+    }
 
 
 def after_signoff(ctx: dict, row: dict, version: dict) -> dict | None:
     """The sign-off covering ``row``'s reading that was signed before ``version`` was recorded, or None."""
-    return signoff_store.signed_before(ctx["signoffs"], site_id=row["site_id"], round_id=row["round_id"],
-                                       taken_at=version["taken_at"], recorded_at=version["recorded_at"])
+    return signoff_store.signed_before(
+        ctx["signoffs"],
+        site_id=row["site_id"],
+        round_id=row["round_id"],
+        taken_at=version["taken_at"],
+        recorded_at=version["recorded_at"],
+    )
 
 
 def version_trail(db, ctx: dict, tfmt: str = "%Y-%m-%d %H:%M") -> tuple[dict, dict]:
@@ -261,14 +294,23 @@ def version_trail(db, ctx: dict, tfmt: str = "%Y-%m-%d %H:%M") -> tuple[dict, di
                 so = after_signoff(ctx, row, v)
                 if so and row["reading_id"] not in late:
                     late[row["reading_id"]] = "voided after sign-off" if v["void"] else "corrected after sign-off"
-                by_board[(row["site_id"], row["shown_board_id"])].append({
-                    "site": row["site_name"], "board": row["board_name"], "taken_at": row["taken_at"],
-                    "taken": local_text(row["taken_at"], tfmt), "version": v["version"],
-                    "changes": changes(prev, v) or ["no value changed"], "reason": v["reason"],
-                    "by": v["recorded_by"], "recorded_at": v["recorded_at"], "recorded": local_text(v["recorded_at"]),
-                    "void": bool(v["void"]), "after_signoff": signoff_store.describe(so) if so else None,
-                    "competing": conflict and bool(v["is_head"]),
-                })
+                by_board[(row["site_id"], row["shown_board_id"])].append(
+                    {
+                        "site": row["site_name"],
+                        "board": row["board_name"],
+                        "taken_at": row["taken_at"],
+                        "taken": local_text(row["taken_at"], tfmt),
+                        "version": v["version"],
+                        "changes": changes(prev, v) or ["no value changed"],
+                        "reason": v["reason"],
+                        "by": v["recorded_by"],
+                        "recorded_at": v["recorded_at"],
+                        "recorded": local_text(v["recorded_at"]),
+                        "void": bool(v["void"]),
+                        "after_signoff": signoff_store.describe(so) if so else None,
+                        "competing": conflict and bool(v["is_head"]),
+                    }
+                )
             prev = v
     return by_board, late
 
@@ -279,7 +321,12 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
     on = date.fromisoformat(day) if day else (today or date.today())
     ctx = record_context(db, records, day=day, site=site)
     site_by_id, site_by_name, voids, signoffs, round_rows = (
-        ctx["site_by_id"], ctx["site_by_name"], ctx["voids"], ctx["signoffs"], ctx["round_rows"])
+        ctx["site_by_id"],
+        ctx["site_by_name"],
+        ctx["voids"],
+        ctx["signoffs"],
+        ctx["round_rows"],
+    )
     tfmt = "%H:%M" if day else "%Y-%m-%d %H:%M"
     trail, late = version_trail(db, ctx, tfmt)
     # Sites and boards by id: two of one name (one from each laptop) are two sections, each with its own label.
@@ -300,8 +347,10 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
     summary = {sev: {"readings": 0, "boards": []} for sev in ("alarm", "warning", "info")}
     boards, table = [], []
     times = []
-    order = sorted(by_board.items(), key=lambda kv: (site_by_id[kv[0][0]]["name"], kv[0][0],
-                                                     board_rows[kv[0][1]]["name"], kv[0][1]))
+    order = sorted(
+        by_board.items(),
+        key=lambda kv: (site_by_id[kv[0][0]]["name"], kv[0][0], board_rows[kv[0][1]]["name"], kv[0][1]),
+    )
     for n, ((site_id, board_id), recs) in enumerate(order):
         s = site_by_id[site_id]
         b = board_rows[board_id]
@@ -321,68 +370,127 @@ def to_html(db, records: list[dict], *, day=None, site=None, today: date | None 
         for r in sorted(recs, key=lambda r: r["taken_at"]):
             res, inp = r["results"], r["inputs"]
             times.append(r["taken_at"])
-            rows.append({
-                "taken": local_text(r["taken_at"], tfmt), "technician": r["technician"], "round": r["round"],
-                "v_text": (_entered(inp, ("va", "vb", "vc"), "\n") or _entered(inp, ("vab", "vbc", "vca"), "\n"))
-                .splitlines(),
-                "i_text": _entered(inp, ("ia", "ib", "ic"), "\n").splitlines(),
-                "neutral": neutral_parts(inp, res),
-                "vuf": _n(res["vuf_pct"]), "lvur": _n(res["lvur_pct"]), "rotation": res["rotation"] or "",
-                "p_kw": _n(None if res["p_w"] is None else res["p_w"] / 1000.0), "pf": _n(res["pf"]),
-                "magnitude_only": bool(res["basis"]) and "magnitudes" in res["basis"],
-                "version": r["version"], "note": r["note"], "instrument": r["instrument"],
-                "findings": r["findings"], "late": late.get(r["reading_id"]), "conflict": r.get("conflict", False),
-            })
+            rows.append(
+                {
+                    "taken": local_text(r["taken_at"], tfmt),
+                    "technician": r["technician"],
+                    "round": r["round"],
+                    "v_text": (
+                        _entered(inp, ("va", "vb", "vc"), "\n") or _entered(inp, ("vab", "vbc", "vca"), "\n")
+                    ).splitlines(),
+                    "i_text": _entered(inp, ("ia", "ib", "ic"), "\n").splitlines(),
+                    "neutral": neutral_parts(inp, res),
+                    "vuf": _n(res["vuf_pct"]),
+                    "lvur": _n(res["lvur_pct"]),
+                    "rotation": res["rotation"] or "",
+                    "p_kw": _n(None if res["p_w"] is None else res["p_w"] / 1000.0),
+                    "pf": _n(res["pf"]),
+                    "magnitude_only": bool(res["basis"]) and "magnitudes" in res["basis"],
+                    "version": r["version"],
+                    "note": r["note"],
+                    "instrument": r["instrument"],
+                    "findings": r["findings"],
+                    "late": late.get(r["reading_id"]),
+                    "conflict": r.get("conflict", False),
+                }
+            )
         void_rows = []
         for v in sorted(voids.get((site_id, board_id), []), key=lambda x: x["taken_at"]):
             vals = {k: v[k] for k in NUMERIC_FIELDS if v.get(k) is not None}
             so = after_signoff(ctx, v, v)
-            void_rows.append({
-                "taken": local_text(v["taken_at"], tfmt), "technician": v["technician"],
-                "entered": (_entered(vals, ("va", "vb", "vc")) or _entered(vals, ("vab", "vbc", "vca")))
-                + ("; " if vals.get("ia") is not None else "") + _entered(vals, ("ia", "ib", "ic")),
-                "reason": v["reason"], "by": v["recorded_by"], "when": local_text(v["recorded_at"]),
-                "after_signoff": signoff_store.describe(so) if so else None,
-            })
+            void_rows.append(
+                {
+                    "taken": local_text(v["taken_at"], tfmt),
+                    "technician": v["technician"],
+                    "entered": (_entered(vals, ("va", "vb", "vc")) or _entered(vals, ("vab", "vbc", "vca")))
+                    + ("; " if vals.get("ia") is not None else "")
+                    + _entered(vals, ("ia", "ib", "ic")),
+                    "reason": v["reason"],
+                    "by": v["recorded_by"],
+                    "when": local_text(v["recorded_at"]),
+                    "after_signoff": signoff_store.describe(so) if so else None,
+                }
+            )
         latest = max(recs, key=lambda r: r["taken_at"]) if recs else None
         all_findings = [f for r in recs for f in r["findings"]]
         worst = _worst(all_findings)
         worst_rec = next((r for r in recs if worst in r["findings"]), None) if worst else None
         label_text, label_bad = _label_short(b, s["label_review_years"], on)
         anchor = f"board-{n}"
-        table.append({
-            "name": title, "anchor": anchor, "location": b["location"] if b else None,
-            "last": f"{local_text(latest['taken_at'], tfmt)}, {latest['technician'] or '—'}" if latest else
-            "no current reading (voided only)",
-            "worst": worst, "worst_short": short_finding(worst["message"]) if worst else "",
-            "worst_when": local_text(worst_rec["taken_at"], tfmt) if worst_rec and len(recs) > 1 else "",
-            "more": len(all_findings) - 1 if worst else 0,
-            "label": label_text, "label_bad": label_bad, "readings": len(recs), "voids": len(void_rows),
-            "corrections": len(corrections),
-        })
-        boards.append({
-            "name": title, "anchor": anchor, "location": b["location"] if b else None,
-            "system": b["system"] if b else "",
-            "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
-            "label": _label(b, s["label_review_years"], on) if b else "—",
-            "label_joined": [AF_FIELDS[f].format(v) for f, v, _ in
-                             settings_history.joined_differences(db, "board", board_id, AF_FIELDS)],
-            "readings": rows, "voids": void_rows, "corrections": corrections, "conflicts": conflicted,
-            "svg": _svg(latest, labels, colours, title),
-        })
+        table.append(
+            {
+                "name": title,
+                "anchor": anchor,
+                "location": b["location"] if b else None,
+                "last": f"{local_text(latest['taken_at'], tfmt)}, {latest['technician'] or '—'}"
+                if latest
+                else "no current reading (voided only)",
+                "worst": worst,
+                "worst_short": short_finding(worst["message"]) if worst else "",
+                "worst_when": local_text(worst_rec["taken_at"], tfmt) if worst_rec and len(recs) > 1 else "",
+                "more": len(all_findings) - 1 if worst else 0,
+                "label": label_text,
+                "label_bad": label_bad,
+                "readings": len(recs),
+                "voids": len(void_rows),
+                "corrections": len(corrections),
+            }
+        )
+        boards.append(
+            {
+                "name": title,
+                "anchor": anchor,
+                "location": b["location"] if b else None,
+                "system": b["system"] if b else "",
+                "nominal_v": f"{b['nominal_v']:g}" if b and b["nominal_v"] else None,
+                "label": _label(b, s["label_review_years"], on) if b else "—",
+                "label_joined": [
+                    AF_FIELDS[f].format(v)
+                    for f, v, _ in settings_history.joined_differences(db, "board", board_id, AF_FIELDS)
+                ],
+                "readings": rows,
+                "voids": void_rows,
+                "corrections": corrections,
+                "conflicts": conflicted,
+                "svg": _svg(latest, labels, colours, title),
+            }
+        )
     crew = sorted({r["technician"] for r in records if r["technician"]})
     round_list = []
     for r in sorted((r for r in round_rows.values() if r), key=lambda r: r["started_at"]):
+
         def when(t):  # a round that began or ended on another day than the report's: with its date
             return local_text(t, tfmt if day and local_text(t, "%Y-%m-%d") == day else "%Y-%m-%d %H:%M")
+
         span = when(r["started_at"]) + "–" + (when(r["finished_at"]) if r["finished_at"] else "not finished")
-        round_list.append({"name": rounds_store.round_name(r), "span": span, "technician": r["technician"],
-                           "signed": [so for so in signoffs if so["round_id"] == r["id"]]})
+        round_list.append(
+            {
+                "name": rounds_store.round_name(r),
+                "span": span,
+                "technician": r["technician"],
+                "signed": [so for so in signoffs if so["round_id"] == r["id"]],
+            }
+        )
     site_title = site or (", ".join(site_by_name) if site_by_name else "no readings")
     return _ENV.get_template("report.html.j2").render(
-        site_title=site_title, day=day, generated=local_text(utc_now(), "%Y-%m-%d %H:%M"), version=__version__,
-        zone=zone_text(times), crew=", ".join(crew), rounds=round_list,
-        signoffs=[{"scope": signoff_store.scope_text(so), "by": so["signed_by"],
-                   "at": local_text(so["signed_at"]), "note": so["note"]} for so in signoffs],
-        summary=summary, table=table, boards=boards,
-        sources=[(name, SOURCES[key]) for name, key in SOURCE_NAMES])
+        site_title=site_title,
+        day=day,
+        generated=local_text(utc_now(), "%Y-%m-%d %H:%M"),
+        version=__version__,
+        zone=zone_text(times),
+        crew=", ".join(crew),
+        rounds=round_list,
+        signoffs=[
+            {
+                "scope": signoff_store.scope_text(so),
+                "by": so["signed_by"],
+                "at": local_text(so["signed_at"]),
+                "note": so["note"],
+            }
+            for so in signoffs
+        ],
+        summary=summary,
+        table=table,
+        boards=boards,
+        sources=[(name, SOURCES[key]) for name, key in SOURCE_NAMES],
+    )

@@ -11,6 +11,7 @@ Text typed by people is always written as a string cell, never as a formula (a n
 links are switched off too.  The file appears whole or not at all (a part file beside it, fsync, rename).
 Only this module imports XlsxWriter, so the app and the other exports start without it.
 """
+
 from __future__ import annotations
 
 import contextlib
@@ -30,12 +31,16 @@ from .html import record_context, short_finding, version_trail, zone_text
 #: Sources: ("meta", key) export record field; ("in", key) typed input; ("res", key) computed result.
 V, A, DEG, PCT = "0.0", "0.0", "0.0", "0.00"
 READING_COLUMNS = [
-    ("Site", ("meta", "site"), "text", 18), ("Board", ("meta", "board"), "text", 14),
-    ("Date (local)", ("date",), "date", 11), ("Time (local)", ("time",), "time", 9),
+    ("Site", ("meta", "site"), "text", 18),
+    ("Board", ("meta", "board"), "text", 14),
+    ("Date (local)", ("date",), "date", 11),
+    ("Time (local)", ("time",), "time", 9),
     ("UTC offset", ("offset",), "text", 7),
-    ("Technician", ("meta", "technician"), "text", 14), ("Round", ("meta", "round"), "text", 22),
+    ("Technician", ("meta", "technician"), "text", 14),
+    ("Round", ("meta", "round"), "text", 22),
     ("Instrument", ("meta", "instrument"), "text", 12),
-    ("System", ("in", "system"), "text", 9), ("Standard", ("in", "standard"), "text", 8),
+    ("System", ("in", "system"), "text", 9),
+    ("Standard", ("in", "standard"), "text", 8),
     ("Nominal (V, line-to-line)", ("in", "nominal_v"), "0", 9),
     *[(f"V{p} measured (V)", ("in", f"v{p.lower()}"), V, 9) for p in "ABC"],
     *[(f"V{p} angle measured (°)", ("in", f"v{p.lower()}_deg"), DEG, 9) for p in "ABC"],
@@ -50,12 +55,17 @@ READING_COLUMNS = [
     ("NEMA line-voltage unbalance computed (%)", ("res", "lvur_pct"), PCT, 11),
     ("Current unbalance computed (%)", ("res", "iur_pct"), PCT, 10),
     ("Rotation computed", ("res", "rotation"), "text", 9),
-    ("P computed (kW)", ("res", "p_w", 1e-3), "0.00", 10), ("Q computed (kvar)", ("res", "q_var", 1e-3), "0.00", 10),
-    ("S computed (kVA)", ("res", "s_va", 1e-3), "0.00", 10), ("PF computed", ("res", "pf"), "0.000", 10),
+    ("P computed (kW)", ("res", "p_w", 1e-3), "0.00", 10),
+    ("Q computed (kvar)", ("res", "q_var", 1e-3), "0.00", 10),
+    ("S computed (kVA)", ("res", "s_va", 1e-3), "0.00", 10),
+    ("PF computed", ("res", "pf"), "0.000", 10),
     ("Motor derating factor computed", ("res", "derating"), "0.00", 11),
-    ("Worst finding", ("worst",), "text", 10), ("Findings", ("findings",), "wrap", 60),
-    ("Version", ("meta", "version"), "0", 7), ("After sign-off", ("late",), "text", 14),
-    ("Note", ("meta", "note"), "text", 24), ("Reading id", ("meta", "reading_id"), "text", 38),
+    ("Worst finding", ("worst",), "text", 10),
+    ("Findings", ("findings",), "wrap", 60),
+    ("Version", ("meta", "version"), "0", 7),
+    ("After sign-off", ("late",), "text", 14),
+    ("Note", ("meta", "note"), "text", 24),
+    ("Reading id", ("meta", "reading_id"), "text", 38),
 ]
 
 
@@ -90,8 +100,15 @@ def write_xlsx(db, records: list[dict], path, *, day=None, site=None, protect=()
     try:
         fd = os.open(part, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
         with os.fdopen(fd, "wb") as f:
-            wb = xlsxwriter.Workbook(f, {"constant_memory": True, "strings_to_formulas": False,
-                                         "strings_to_numbers": False, "strings_to_urls": False})
+            wb = xlsxwriter.Workbook(
+                f,
+                {
+                    "constant_memory": True,
+                    "strings_to_formulas": False,
+                    "strings_to_numbers": False,
+                    "strings_to_urls": False,
+                },
+            )
             _fill(wb, db, records, day=day, site=site)
             wb.close()
             f.flush()
@@ -141,8 +158,9 @@ def _fill(wb, db, records, *, day, site) -> None:
         lines = 1
         for text, width in wrapped:
             if text:
-                lines = max(lines, sum(-(-max(len(part), 1) // max(int(width * 1.1), 1))
-                                       for part in str(text).split("\n")))
+                lines = max(
+                    lines, sum(-(-max(len(part), 1) // max(int(width * 1.1), 1)) for part in str(text).split("\n"))
+                )
         if lines > 1:
             ws.set_row(r, 15 * min(lines, 20))
 
@@ -191,9 +209,20 @@ def _fill(wb, db, records, *, day, site) -> None:
     ws.autofilter(0, 0, max(len(records), 1), len(READING_COLUMNS) - 1)
 
     # Findings
-    cols = [("Site", 18), ("Board", 14), ("Date (local)", 11), ("Time (local)", 9), ("Severity", 9),
-            ("Finding", 80), ("Phase", 6), ("Value", 9), ("Unit", 8), ("Threshold", 9), ("Source", 40),
-            ("Code", 18)]
+    cols = [
+        ("Site", 18),
+        ("Board", 14),
+        ("Date (local)", 11),
+        ("Time (local)", 9),
+        ("Severity", 9),
+        ("Finding", 80),
+        ("Phase", 6),
+        ("Value", 9),
+        ("Unit", 8),
+        ("Threshold", 9),
+        ("Source", 40),
+        ("Code", 18),
+    ]
     ws = wb.add_worksheet("Findings")
     header(ws, cols)
     r = 0
@@ -202,17 +231,37 @@ def _fill(wb, db, records, *, day, site) -> None:
         for f in rec["findings"]:
             r += 1
             fit_row(ws, r, [(f["message"], 80), (f.get("source"), 40)])
-            for c, (value, kind) in enumerate([
-                    (rec["site"], "text"), (rec["board"], "text"), (local, "date"), (local.time(), "time"),
-                    (f["severity"].upper(), "text"), (f["message"], "wrap"), (f.get("phase"), "text"),
-                    (f.get("value"), "0.00"), (f.get("unit"), "text"), (f.get("threshold"), "0.00"),
-                    (f.get("source"), "wrap"), (f["code"], "text")]):
+            for c, (value, kind) in enumerate(
+                [
+                    (rec["site"], "text"),
+                    (rec["board"], "text"),
+                    (local, "date"),
+                    (local.time(), "time"),
+                    (f["severity"].upper(), "text"),
+                    (f["message"], "wrap"),
+                    (f.get("phase"), "text"),
+                    (f.get("value"), "0.00"),
+                    (f.get("unit"), "text"),
+                    (f.get("threshold"), "0.00"),
+                    (f.get("source"), "wrap"),
+                    (f["code"], "text"),
+                ]
+            ):
                 put(ws, r, c, value, kind)
     ws.autofilter(0, 0, max(r, 1), len(cols) - 1)
 
     # Corrections
-    cols = [("Site", 18), ("Board", 14), ("Reading taken (local)", 16), ("Version", 7),
-            ("Field: old → new", 36), ("Reason", 30), ("Who", 14), ("When (local)", 16), ("After sign-off", 50)]
+    cols = [
+        ("Site", 18),
+        ("Board", 14),
+        ("Reading taken (local)", 16),
+        ("Version", 7),
+        ("Field: old → new", 36),
+        ("Reason", 30),
+        ("Who", 14),
+        ("When (local)", 16),
+        ("After sign-off", 50),
+    ]
     ws = wb.add_worksheet("Corrections")
     header(ws, cols)
     r = 0
@@ -220,12 +269,24 @@ def _fill(wb, db, records, *, day, site) -> None:
         for corr in trail[key]:
             r += 1
             fit_row(ws, r, [("\n".join(corr["changes"]), 36), (corr["reason"], 30), (corr["after_signoff"], 40)])
-            for c, (value, kind) in enumerate([
-                    (corr["site"], "text"), (corr["board"], "text"), (_local(corr["taken_at"]), "datetime"),
-                    (corr["version"], "0"), ("\n".join(corr["changes"]), "wrap"), (corr["reason"], "wrap"),
-                    (corr["by"], "text"), (_local(corr["recorded_at"]), "datetime"),
-                    (("voided" if corr["void"] else "corrected") + " after sign-off: " + corr["after_signoff"]
-                     if corr["after_signoff"] else None, "wrap")]):
+            for c, (value, kind) in enumerate(
+                [
+                    (corr["site"], "text"),
+                    (corr["board"], "text"),
+                    (_local(corr["taken_at"]), "datetime"),
+                    (corr["version"], "0"),
+                    ("\n".join(corr["changes"]), "wrap"),
+                    (corr["reason"], "wrap"),
+                    (corr["by"], "text"),
+                    (_local(corr["recorded_at"]), "datetime"),
+                    (
+                        ("voided" if corr["void"] else "corrected") + " after sign-off: " + corr["after_signoff"]
+                        if corr["after_signoff"]
+                        else None,
+                        "wrap",
+                    ),
+                ]
+            ):
                 put(ws, r, c, value, kind)
     ws.autofilter(0, 0, max(r, 1), len(cols) - 1)
 
@@ -236,33 +297,55 @@ def _fill(wb, db, records, *, day, site) -> None:
     names = {s["id"]: s["name"] for s in ctx["site_by_name"].values()}
     for r, so in enumerate(ctx["signoffs"], start=1):
         fit_row(ws, r, [(so["note"], 50)])
-        for c, (value, kind) in enumerate([
-                (names.get(so["site_id"]), "text"), (signoff_store.scope_text(so), "text"),
-                (so["signed_by"], "text"), (_local(so["signed_at"]), "datetime"), (so["note"], "wrap")]):
+        for c, (value, kind) in enumerate(
+            [
+                (names.get(so["site_id"]), "text"),
+                (signoff_store.scope_text(so), "text"),
+                (so["signed_by"], "text"),
+                (_local(so["signed_at"]), "datetime"),
+                (so["note"], "wrap"),
+            ]
+        ):
             put(ws, r, c, value, kind)
 
     # About
     ws = wb.add_worksheet("About")
     ws.set_column(0, 0, 22)
     ws.set_column(1, 1, 100)
-    round_names = [rounds_store.round_name(rr) for rr in sorted(
-        (rr for rr in ctx["round_rows"].values() if rr), key=lambda rr: rr["started_at"])]
+    round_names = [
+        rounds_store.round_name(rr)
+        for rr in sorted((rr for rr in ctx["round_rows"].values() if rr), key=lambda rr: rr["started_at"])
+    ]
     site_title = site or ", ".join(ctx["site_by_name"]) or "no readings"
     about = [
-        ("Site", site_title), ("Day", day or "all days"),
-        ("Time zone", "Dates and times are local time: " + zone_text([rec["taken_at"] for rec in records])
-         + " (the UTC offset of each reading is in its own column)."),
+        ("Site", site_title),
+        ("Day", day or "all days"),
+        (
+            "Time zone",
+            "Dates and times are local time: "
+            + zone_text([rec["taken_at"] for rec in records])
+            + " (the UTC offset of each reading is in its own column).",
+        ),
         ("Rounds", "; ".join(round_names) or "—"),
         ("Signed off", "; ".join(signoff_store.describe(so) for so in ctx["signoffs"]) or "not signed off"),
-        ("Readings", f"{len(records)} current reading(s); voided readings are not in the Readings sheet, their "
-                     "voids are in Corrections."),
-        ("Values", "'measured' = typed from the instrument; 'computed' = computed by fieldpad from the measured "
-                   "values; 'estimated' = the neutral from current magnitudes only (no angles)."),
+        (
+            "Readings",
+            f"{len(records)} current reading(s); voided readings are not in the Readings sheet, their "
+            "voids are in Corrections.",
+        ),
+        (
+            "Values",
+            "'measured' = typed from the instrument; 'computed' = computed by fieldpad from the measured "
+            "values; 'estimated' = the neutral from current magnitudes only (no angles).",
+        ),
         ("Generated", f"{local_text(utc_now())} by fieldpad"),
-        ("Caution", "These readings were taken on energised equipment. This workbook records measurements and "
-                    "computed checks; it does not show that any equipment is safe. Work on or near energised "
-                    "equipment only as a qualified person, under the site's energised-work permit, with the PPE "
-                    "the board's arc-flash label calls for. Local codes and licensed practice govern."),
+        (
+            "Caution",
+            "These readings were taken on energised equipment. This workbook records measurements and "
+            "computed checks; it does not show that any equipment is safe. Work on or near energised "
+            "equipment only as a qualified person, under the site's energised-work permit, with the PPE "
+            "the board's arc-flash label calls for. Local codes and licensed practice govern.",
+        ),
     ]
     for r, (k, v) in enumerate(about):
         fit_row(ws, r, [(v, 100)])

@@ -2,6 +2,7 @@
 read-only URIs, why a file cannot be written (read-only medium, file or folder, full disk), and a read-only
 connection that works even where SQLite cannot create its ``-shm`` file.  Nothing here opens the database
 file with a plain ``open()`` (see ``db.open_db``)."""
+
 from __future__ import annotations
 
 import os
@@ -59,8 +60,10 @@ def unwritable_reason(path: Path, error: Exception | None = None) -> str | None:
 
 
 def not_a_database(path: Path) -> StorageError:
-    return StorageError(f"{path} is not a fieldpad database (not an SQLite file). Nothing was changed. "
-                        "Check the path given with --db or FIELDPAD_DB.")
+    return StorageError(
+        f"{path} is not a fieldpad database (not an SQLite file). Nothing was changed. "
+        "Check the path given with --db or FIELDPAD_DB."
+    )
 
 
 def connect_read_only(path: Path) -> tuple[sqlite3.Connection, str | None]:
@@ -73,8 +76,13 @@ def connect_read_only(path: Path) -> tuple[sqlite3.Connection, str | None]:
     """
     last = None
     for immutable in (False, True):
-        conn = sqlite3.connect(read_only_uri(path, immutable=immutable), uri=True, isolation_level=None,
-                               check_same_thread=False, timeout=BUSY_TIMEOUT_MS / 1000)
+        conn = sqlite3.connect(
+            read_only_uri(path, immutable=immutable),
+            uri=True,
+            isolation_level=None,
+            check_same_thread=False,
+            timeout=BUSY_TIMEOUT_MS / 1000,
+        )
         try:
             conn.execute("SELECT COUNT(*) FROM sqlite_master").fetchone()
         except sqlite3.DatabaseError as e:
@@ -87,10 +95,11 @@ def connect_read_only(path: Path) -> tuple[sqlite3.Connection, str | None]:
         if immutable:
             wal = path.with_name(path.name + "-wal")
             if wal.exists() and wal.stat().st_size > 0:
-                note = ("its -wal file holds changes not yet folded into the database; they are not shown "
-                        "here, but they are not lost: open it where it can be written to see them")
+                note = (
+                    "its -wal file holds changes not yet folded into the database; they are not shown "
+                    "here, but they are not lost: open it where it can be written to see them"
+                )
         return conn, note
-    raise StorageError(f"{path}: the database cannot be read ({last}). Nothing was changed. "
-                       f"Run 'fieldpad db check --db {path}'.")
-
-
+    raise StorageError(
+        f"{path}: the database cannot be read ({last}). Nothing was changed. Run 'fieldpad db check --db {path}'."
+    )

@@ -8,6 +8,7 @@ changes are the numbered SQL files in ``db_schema/``, applied in order through
 backed up beside itself before it is upgraded, and a database written by a
 newer fieldpad is refused.
 """
+
 from __future__ import annotations
 
 import contextlib
@@ -74,9 +75,11 @@ def _statements(sql: str):
 def _migrations() -> sqlite_utils.Migrations:
     m = sqlite_utils.Migrations(MIGRATION_SET)
     for name, sql in _schema_files():
+
         def apply(db, sql=sql):
             for stmt in _statements(sql):
                 db.execute(stmt)
+
         m(name=name)(apply)
     return m
 
@@ -94,8 +97,7 @@ def connect(path: Path) -> sqlite3.Connection:
     """A read-write connection with fieldpad's settings.  Opened by URI (``as_uri`` quotes ``#``, ``?`` and
     ``%`` in names), so that ATTACH on it takes URIs too (merge attaches the other file read-only)."""
     name, uri = (":memory:", False) if str(path) == ":memory:" else (path.resolve().as_uri(), True)
-    conn = sqlite3.connect(name, uri=uri, timeout=BUSY_TIMEOUT_MS / 1000, isolation_level=None,
-                           check_same_thread=False)
+    conn = sqlite3.connect(name, uri=uri, timeout=BUSY_TIMEOUT_MS / 1000, isolation_level=None, check_same_thread=False)
     try:
         _settings(conn, path)
     except BaseException:
@@ -117,8 +119,10 @@ def _inspect(conn: sqlite3.Connection, path: Path) -> None:
     """Read the schema: a foreign or damaged file is reported before anything writes to it."""
     names = {r[0] for r in conn.execute("SELECT name FROM sqlite_master")}
     if names and "_sqlite_migrations" not in names:
-        raise StorageError(f"{path} is an SQLite database but not a fieldpad one (no fieldpad schema). "
-                           "Nothing was changed. Check the path given with --db or FIELDPAD_DB.")
+        raise StorageError(
+            f"{path} is an SQLite database but not a fieldpad one (no fieldpad schema). "
+            "Nothing was changed. Check the path given with --db or FIELDPAD_DB."
+        )
     if "reading" in names:
         conn.execute("SELECT COUNT(*) FROM (SELECT 1 FROM reading LIMIT 1)").fetchone()
 
@@ -175,8 +179,10 @@ def open_db(path: str | os.PathLike | None = None, *, create: bool = True) -> sq
             raise StorageError(f"{p} is a folder, not a database file. Check the path given with --db.")
         if not exists or p.stat().st_size == 0:
             if not create:
-                raise StorageError(f"no database at {p}. Nothing was created. Check the path given with --db "
-                                   "or FIELDPAD_DB (only the app, run for the first time, creates one).")
+                raise StorageError(
+                    f"no database at {p}. Nothing was created. Check the path given with --db "
+                    "or FIELDPAD_DB (only the app, run for the first time, creates one)."
+                )
             if not exists:
                 p.parent.mkdir(parents=True, exist_ok=True)
                 with contextlib.suppress(FileExistsError):
@@ -208,10 +214,13 @@ def open_db(path: str | os.PathLike | None = None, *, create: bool = True) -> sq
     except sqlite3.DatabaseError as e:
         reason = unwritable_reason(p, e)
         if reason:
-            raise StorageError(f"{p}: the database cannot be opened for writing because {reason} ({e}). "
-                               "Nothing was changed.") from None
-        raise StorageError(f"{p}: the database cannot be read ({e}). Nothing was changed. "
-                           f"Run 'fieldpad db check --db {p}', and restore a backup if it is damaged.") from None
+            raise StorageError(
+                f"{p}: the database cannot be opened for writing because {reason} ({e}). Nothing was changed."
+            ) from None
+        raise StorageError(
+            f"{p}: the database cannot be read ({e}). Nothing was changed. "
+            f"Run 'fieldpad db check --db {p}', and restore a backup if it is damaged."
+        ) from None
     except PermissionError as e:
         raise StorageError(f"{p}: no permission ({e.strerror}). Nothing was changed.") from None
     except OSError as e:
@@ -227,13 +236,16 @@ def _migrate(db: sqlite_utils.Database, path: Path, read_only: bool = False) -> 
     if unknown:
         raise NewerDatabaseError(
             f"{path} was written by a newer fieldpad (schema {unknown[-1]}); this fieldpad knows up to "
-            f"{max(known)}. Nothing was changed: update fieldpad to open it.")
+            f"{max(known)}. Nothing was changed: update fieldpad to open it."
+        )
     pending = migrations.pending(db)
     if not pending:
         return
     if read_only:
-        raise StorageError(f"{path} needs an upgrade to this fieldpad's schema but the file is read-only. "
-                           "Nothing was changed: make it writable, or use the fieldpad that wrote it.")
+        raise StorageError(
+            f"{path} needs an upgrade to this fieldpad's schema but the file is read-only. "
+            "Nothing was changed: make it writable, or use the fieldpad that wrote it."
+        )
     if applied and str(path) != ":memory:":
         stamp = datetime.now(UTC).strftime("%Y%m%dT%H%M%SZ")
         backup(db, path.with_name(f"{path.name}.before-{pending[0].name}-{stamp}.bak"))
@@ -278,13 +290,16 @@ def backup(db: sqlite_utils.Database, dest: str | os.PathLike) -> Path:
             os.close(fd)
         problems = check_file(part)
         if problems:
-            raise StorageError(f"backup not written: the copy failed its check ({problems[0]}); "
-                               "the database itself was not changed")
+            raise StorageError(
+                f"backup not written: the copy failed its check ({problems[0]}); the database itself was not changed"
+            )
         publish(part, dest, overwrite=False)
     except (sqlite3.Error, OSError) as e:
         reason = unwritable_reason(part, e) or (e.strerror if isinstance(e, OSError) and e.strerror else str(e))
-        raise StorageError(f"backup not written to {dest}: {reason}. Nothing was left under that name; "
-                           "the database itself was not changed.") from None
+        raise StorageError(
+            f"backup not written to {dest}: {reason}. Nothing was left under that name; "
+            "the database itself was not changed."
+        ) from None
     finally:
         for leftover in (part, part.with_name(part.name + "-journal")):
             with contextlib.suppress(OSError):
@@ -377,8 +392,10 @@ def check_file(path) -> list[str]:
         if "_sqlite_migrations" not in names:
             return ["no fieldpad schema in the file (an SQLite database of something else)"]
         problems = [r[0] for r in conn.execute("PRAGMA integrity_check").fetchall() if r[0] != "ok"]
-        problems += [f"{t} row {rowid} refers to a missing {parent}"
-                     for t, rowid, parent, _ in conn.execute("PRAGMA foreign_key_check").fetchall()]
+        problems += [
+            f"{t} row {rowid} refers to a missing {parent}"
+            for t, rowid, parent, _ in conn.execute("PRAGMA foreign_key_check").fetchall()
+        ]
     except sqlite3.DatabaseError as e:
         problems = [f"the file is damaged ({e})"]
     finally:

@@ -8,6 +8,7 @@ which the next run in that folder removes (the process that owned it is gone).
 The final name is never a half file, and a target that is not a regular file
 (a FIFO, a device, a folder) is refused rather than replaced.
 """
+
 from __future__ import annotations
 
 import contextlib
@@ -59,7 +60,7 @@ def clean_stale_parts(folder: Path) -> int:
         if not (name.startswith(PART_PREFIX) and name.endswith(PART_SUFFIX)):
             continue
         try:
-            pid = int(name[len(PART_PREFIX):].split("-", 1)[0])
+            pid = int(name[len(PART_PREFIX) :].split("-", 1)[0])
         except ValueError:
             continue
         if pid != os.getpid() and not _pid_alive(pid):
@@ -85,13 +86,17 @@ def check_target(final: Path, *, overwrite: bool, protect=(), stdout_hint: bool 
     for db in protect:
         db = Path(db)
         names = [db] + [db.with_name(db.name + side) for side in SIDE_FILES]
-        if any(final.absolute() == n.absolute() or (final.exists() and n.exists() and os.path.samefile(final, n))
-               for n in names):
-            raise FileWriteError(errno.EINVAL, "is the database itself (or one of its files): choose another "
-                                 "name", str(final))
+        if any(
+            final.absolute() == n.absolute() or (final.exists() and n.exists() and os.path.samefile(final, n))
+            for n in names
+        ):
+            raise FileWriteError(
+                errno.EINVAL, "is the database itself (or one of its files): choose another name", str(final)
+            )
     if final.name.endswith(SIDE_FILES) and final.with_name(final.name.rsplit("-", 1)[0]).exists():
-        raise FileWriteError(errno.EINVAL, "is a name SQLite keeps for the database beside it: choose "
-                             "another name", str(final))
+        raise FileWriteError(
+            errno.EINVAL, "is a name SQLite keeps for the database beside it: choose another name", str(final)
+        )
     try:
         st = os.stat(final)
     except FileNotFoundError:
@@ -99,16 +104,21 @@ def check_target(final: Path, *, overwrite: bool, protect=(), stdout_hint: bool 
             raise FileWriteError(errno.ENOENT, "no such folder", str(final)) from None
         return
     if not stat.S_ISREG(st.st_mode):
-        raise FileWriteError(errno.EINVAL, "not a regular file (a folder, FIFO or device); give a file name"
-                             + (", or '-' for standard output" if stdout_hint else ""), str(final))
+        raise FileWriteError(
+            errno.EINVAL,
+            "not a regular file (a folder, FIFO or device); give a file name"
+            + (", or '-' for standard output" if stdout_hint else ""),
+            str(final),
+        )
     if not overwrite:
         raise FileWriteError(errno.EEXIST, "already exists: choose a new name", str(final))
     # Not one of this process's open databases (checked above), so reading its first bytes cannot drop a
     # lock that SQLite holds here.
     with open(final, "rb") as f:
         if f.read(16) == SQLITE_HEADER:
-            raise FileWriteError(errno.EEXIST, "is an SQLite database: an export never replaces one; choose "
-                                 "another name", str(final))
+            raise FileWriteError(
+                errno.EEXIST, "is an SQLite database: an export never replaces one; choose another name", str(final)
+            )
 
 
 def fsync_folder(folder: Path) -> None:

@@ -4,6 +4,7 @@ IDs are UUIDv7 (RFC 9562 section 5.7): 48 bits of Unix time in milliseconds,
 then random bits, so they sort by creation time and never clash between
 laptops.  Times are stored as UTC ISO 8601 text with microseconds and a ``Z``.
 """
+
 from __future__ import annotations
 
 import os
@@ -70,10 +71,14 @@ def _check_local_time(text: str, dt: datetime) -> None:
     early, late = dt.replace(fold=0).astimezone(UTC), dt.replace(fold=1).astimezone(UTC)
     if early != late:
         if early.astimezone().replace(tzinfo=None) != dt and late.astimezone().replace(tzinfo=None) != dt:
-            raise ValueError(f"{text!r} does not exist in this laptop's time zone (the clocks went forward "
-                             "over it): give the time with its UTC offset, e.g. 2026-03-29T03:30:00+02:00")
-        raise ValueError(f"{text!r} happened twice in this laptop's time zone (the clocks went back): give "
-                         "the time with its UTC offset, e.g. 2026-10-25T02:30:00+01:00")
+            raise ValueError(
+                f"{text!r} does not exist in this laptop's time zone (the clocks went forward "
+                "over it): give the time with its UTC offset, e.g. 2026-03-29T03:30:00+02:00"
+            )
+        raise ValueError(
+            f"{text!r} happened twice in this laptop's time zone (the clocks went back): give "
+            "the time with its UTC offset, e.g. 2026-10-25T02:30:00+01:00"
+        )
 
 
 def local_text(utc_text: str | None, fmt: str = "%Y-%m-%d %H:%M") -> str:

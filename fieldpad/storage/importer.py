@@ -16,6 +16,7 @@ The file is read and checked a block of rows at a time (:mod:`fieldpad.formats.c
 store are kept aside (memory bounded by a block); only then is the write lock taken, for one transaction
 that stores them in batches.
 """
+
 from __future__ import annotations
 
 import io
@@ -264,8 +265,10 @@ def import_stream(db, stream, progress=None) -> ImportReport:
         for i in sorted((meta_bad | set(by_row)) - raw.skip.keys()):
             by_row[i] = list(raw.extra.get(i, ())) + _legacy_problems(raw.record(i))
         id_problems: dict = {}
-        ids = {name: _id_cells(_plain_list(raw, name), name, id_problems) if name in raw.cols else [None] * clean.n
-               for name in IDS}
+        ids = {
+            name: _id_cells(_plain_list(raw, name), name, id_problems) if name in raw.cols else [None] * clean.n
+            for name in IDS
+        }
         for i, probs in id_problems.items():
             by_row.setdefault(i, []).extend(probs)
         for i in sorted(by_row):
@@ -286,7 +289,8 @@ def import_stream(db, stream, progress=None) -> ImportReport:
                     system_problems.append(
                         f"{clean.where[i]}: site: {len(same)} sites are named {sname!r} (ids "
                         f"{', '.join(s_['id'] for s_ in same)}); nothing was imported. If they are the same "
-                        "site join them first (fieldpad join-sites KEEP_ID OTHER_ID)")
+                        "site join them first (fieldpad join-sites KEEP_ID OTHER_ID)"
+                    )
             s = site_cache[sname]
             b = None
             if s is not None:
@@ -298,11 +302,14 @@ def import_stream(db, stream, progress=None) -> ImportReport:
                         system_problems.append(
                             f"{clean.where[i]}: board: {len(twins)} boards of site {sname!r} are named {bname!r} "
                             f"(ids {', '.join(x['id'] for x in twins)}); nothing was imported. If they are the "
-                            "same board join them first (fieldpad join-boards KEEP_ID OTHER_ID)")
+                            "same board join them first (fieldpad join-boards KEEP_ID OTHER_ID)"
+                        )
                 b = board_cache[key]
             if b is not None and system_given[i] and b["system"] != _SYSTEM_NAME[int(clean.system[i])]:
-                system_problems.append(f"{clean.where[i]}: system: board {bname!r} is {b['system']}, "
-                                       f"the record says {_SYSTEM_NAME[int(clean.system[i])]}")
+                system_problems.append(
+                    f"{clean.where[i]}: system: board {bname!r} is {b['system']}, "
+                    f"the record says {_SYSTEM_NAME[int(clean.system[i])]}"
+                )
         if system_problems:
             continue
 
@@ -322,9 +329,18 @@ def import_stream(db, stream, progress=None) -> ImportReport:
         inputs_json = _inputs_json(raw, inputs_fields, keep)
         nbytes = sum(len(j) for j in inputs_json if j) + 50 * clean.n
         block = {
-            "keep": keep, "no_id": no_id, "where": clean.where, "cols": clean.cols, "system": clean.system,
-            "system_given": system_given, "standard": clean.standard, "standard_given": clean.standard_given,
-            "text": text, "taken_at": taken, "ids": ids, "inputs": inputs_json,
+            "keep": keep,
+            "no_id": no_id,
+            "where": clean.where,
+            "cols": clean.cols,
+            "system": clean.system,
+            "system_given": system_given,
+            "standard": clean.standard,
+            "standard_given": clean.standard_given,
+            "text": text,
+            "taken_at": taken,
+            "ids": ids,
+            "inputs": inputs_json,
         }
         spool.add(block, sum(v.nbytes for v in clean.cols.values()) + 200 * clean.n + nbytes, clean.n)
     if report.problem_count or system_problems:
@@ -352,8 +368,9 @@ def import_stream(db, stream, progress=None) -> ImportReport:
             nominal = cols["nominal_v"].copy()
             missing = np.isnan(nominal) & keep
             if missing.any():
-                board_nominal = np.array([np.nan if b is None or b["nominal_v"] is None else b["nominal_v"]
-                                          for b in board_of], float)
+                board_nominal = np.array(
+                    [np.nan if b is None or b["nominal_v"] is None else b["nominal_v"] for b in board_of], float
+                )
                 nominal[missing] = board_nominal[missing]
             values = {f: (nominal if f == "nominal_v" else cols[f]) for f in NUMERIC_FIELDS}
             # Records without an id that repeat a stored reading, or an earlier one of this file: a hash of
@@ -368,16 +385,20 @@ def import_stream(db, stream, progress=None) -> ImportReport:
                 for i in np.flatnonzero(no_id).tolist():
                     h = hashes[i]
                     j = here.get(h)
-                    same = (j is not None and _row_key(board_ids, block["taken_at"], values, j)
-                            == _row_key(board_ids, block["taken_at"], values, i))
-                    if same or (j is None and h in existing
-                                and _stored(db, _row_key(board_ids, block["taken_at"], values, i))):
+                    same = j is not None and _row_key(board_ids, block["taken_at"], values, j) == _row_key(
+                        board_ids, block["taken_at"], values, i
+                    )
+                    if same or (
+                        j is None and h in existing and _stored(db, _row_key(board_ids, block["taken_at"], values, i))
+                    ):
                         keep[i] = False
                         report.repeat_count += 1
                         if len(report.repeats) < 10_000:
-                            report.repeats.append(f"{block['where'][i]}: already stored: board "
-                                                  f"{text['board'][i]!r} at {block['taken_at'][i]} with the "
-                                                  "same values; not imported again")
+                            report.repeats.append(
+                                f"{block['where'][i]}: already stored: board "
+                                f"{text['board'][i]!r} at {block['taken_at'][i]} with the "
+                                "same values; not imported again"
+                            )
                         continue
                     existing.add(h)
                     here.setdefault(h, i)
@@ -386,8 +407,8 @@ def import_stream(db, stream, progress=None) -> ImportReport:
                 continue
             rows = _rows(db, block, idx, board_of, values, site_ids, site_std, round_ids)
             for k in range(0, len(rows), BATCH):
-                _insert(db, rows[k:k + BATCH])
-                done += len(rows[k:k + BATCH])
+                _insert(db, rows[k : k + BATCH])
+                done += len(rows[k : k + BATCH])
                 if progress:
                     progress(done, total)
         if progress:
@@ -414,8 +435,13 @@ def _site_and_board(db, pair, block, i, site_ids, site_std, board_rows, report):
         b = sites.find_board(db, sid, bname)
         if b is None:
             nominal = block["cols"]["nominal_v"][i]
-            bid = sites.create_board(db, sid, bname, system=_SYSTEM_NAME[int(block["system"][i])],
-                                     nominal_v=None if nominal != nominal else float(nominal))
+            bid = sites.create_board(
+                db,
+                sid,
+                bname,
+                system=_SYSTEM_NAME[int(block["system"][i])],
+                nominal_v=None if nominal != nominal else float(nominal),
+            )
             b = sites.get_board(db, bid)
             report.boards_created.append(f"{sname} / {bname}")
         board_rows[(sid, bname)] = b
@@ -463,14 +489,34 @@ def _rows(db, block, idx, board_of, values, site_ids, site_std, round_ids) -> li
     std_col = [_STD_NAME[s_] if g else site_std[text["site"][i]] for s_, g, i in zip(stds, std_given, sel)]
     placeholder = _BOARD_SYSTEM
     inputs = [block["inputs"][i] for i in sel]
-    inputs = [j.replace(placeholder, json.dumps(bs), 1) if placeholder in j else j for j, bs in zip(inputs,
-                                                                                                     system_names)]
+    inputs = [
+        j.replace(placeholder, json.dumps(bs), 1) if placeholder in j else j for j, bs in zip(inputs, system_names)
+    ]
     now = utc_now()
     numbers = [values[f][idx].tolist() for f in NUMERIC_FIELDS]  # NaN is stored as NULL by SQLite
     consts = [None] * m
-    return list(zip(vid, reading_id, version, consts, [b["id"] for b in boards], round_col, taken, technician,
-                    [text["instrument"][i] for i in sel], [text["note"][i] for i in sel], [0] * m, consts,
-                    [now] * m, technician, inputs, system_col, std_col, *numbers))
+    return list(
+        zip(
+            vid,
+            reading_id,
+            version,
+            consts,
+            [b["id"] for b in boards],
+            round_col,
+            taken,
+            technician,
+            [text["instrument"][i] for i in sel],
+            [text["note"][i] for i in sel],
+            [0] * m,
+            consts,
+            [now] * m,
+            technician,
+            inputs,
+            system_col,
+            std_col,
+            *numbers,
+        )
+    )
 
 
 def uuid7_many(n: int) -> list:
@@ -514,9 +560,25 @@ def _key_hashes(board_ids, taken, values) -> np.ndarray:
     return h.view(np.int64)[:n]
 
 
-_COLUMNS = ("id", "reading_id", "version", "supersedes", "board_id", "round_id", "taken_at", "technician",
-            "instrument", "note", "void", "reason", "recorded_at", "recorded_by", "inputs_json", "system",
-            "standard") + NUMERIC_FIELDS
+_COLUMNS = (
+    "id",
+    "reading_id",
+    "version",
+    "supersedes",
+    "board_id",
+    "round_id",
+    "taken_at",
+    "technician",
+    "instrument",
+    "note",
+    "void",
+    "reason",
+    "recorded_at",
+    "recorded_by",
+    "inputs_json",
+    "system",
+    "standard",
+) + NUMERIC_FIELDS
 _INSERT = f"INSERT INTO reading ({', '.join(_COLUMNS)}) VALUES ({', '.join('?' * len(_COLUMNS))})"
 
 
@@ -526,8 +588,11 @@ def _insert(db, rows):
 
 def _start_round(db, site_id, technician, label, started_at):
     rid = uuid7()
-    db.conn.execute("INSERT INTO round (id, site_id, label, technician, started_at, finished_at, note) "
-                    "VALUES (?, ?, ?, ?, ?, NULL, NULL)", (rid, site_id, label, technician, started_at))
+    db.conn.execute(
+        "INSERT INTO round (id, site_id, label, technician, started_at, finished_at, note) "
+        "VALUES (?, ?, ?, ?, ?, NULL, NULL)",
+        (rid, site_id, label, technician, started_at),
+    )
     return rid
 
 
@@ -549,7 +614,7 @@ def _present_ids(db, ids: set) -> set:
     out = set()
     ids = list(ids)
     for k in range(0, len(ids), 500):
-        part = ids[k:k + 500]
+        part = ids[k : k + 500]
         q = f"SELECT DISTINCT reading_id FROM reading WHERE reading_id IN ({', '.join('?' * len(part))})"
         out.update(r[0] for r in db.conn.execute(q, part))
     return out
@@ -569,9 +634,10 @@ def _stored_key_hashes(db, board_ids) -> set:
     cols = ", ".join(NUMERIC_FIELDS)
     ids = list(board_ids)
     for k in range(0, len(ids), 500):
-        part = ids[k:k + 500]
-        cur = db.conn.execute(f"SELECT board_id, taken_at, {cols} FROM reading WHERE board_id IN "
-                              f"({', '.join('?' * len(part))})", part)
+        part = ids[k : k + 500]
+        cur = db.conn.execute(
+            f"SELECT board_id, taken_at, {cols} FROM reading WHERE board_id IN ({', '.join('?' * len(part))})", part
+        )
         while True:
             batch = cur.fetchmany(65_536)
             if not batch:
@@ -582,8 +648,11 @@ def _stored_key_hashes(db, board_ids) -> set:
     return out
 
 
-_SAME = ("SELECT 1 FROM reading WHERE board_id = ? AND taken_at = ? AND "
-         + " AND ".join(f"{f} IS ?" for f in NUMERIC_FIELDS) + " LIMIT 1")
+_SAME = (
+    "SELECT 1 FROM reading WHERE board_id = ? AND taken_at = ? AND "
+    + " AND ".join(f"{f} IS ?" for f in NUMERIC_FIELDS)
+    + " LIMIT 1"
+)
 
 
 def _stored(db, key) -> bool:

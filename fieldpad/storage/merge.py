@@ -17,6 +17,7 @@ and board field rules): one bad row refuses the whole file, naming the file, tab
 reason, and nothing is merged.  The database itself (also through a symlink or a hard link) is refused.
 Reading the other file is ``other_file.py``; the checks of its rows, ``merge_checks.py``.
 """
+
 from __future__ import annotations
 
 import os
@@ -75,14 +76,17 @@ def merge_file(db, other: str | os.PathLike) -> MergeReport:
             try:
                 incoming = _collect(db, path)
                 if "immutable=1" in uri and _fingerprint(path) != seen:  # read as unchanging: was it?
-                    raise StorageError(f"{path} changed while it was being read (another fieldpad wrote to "
-                                       "it); nothing was merged: try again")
+                    raise StorageError(
+                        f"{path} changed while it was being read (another fieldpad wrote to "
+                        "it); nothing was merged: try again"
+                    )
                 with write(db):
                     _bring_in(db, incoming, report)
             finally:
                 db.conn.execute("DETACH DATABASE other")
-    report.same_name_sites = [[{**s, "summary": sites.site_summary(db, s["id"])} for s in group]
-                              for group in sites.same_name_sites(db)]
+    report.same_name_sites = [
+        [{**s, "summary": sites.site_summary(db, s["id"])} for s in group] for group in sites.same_name_sites(db)
+    ]
     report.same_name_boards = sites.same_name_boards(db)
     report.conflicts = _conflicts(db)
     return report
@@ -109,10 +113,16 @@ def _collect(db, path: Path) -> dict:
         new = _fetch(conn, table, cols, f'WHERE o.id NOT IN (SELECT id FROM main."{table}")')
         if table in APPEND_ONLY:
             diff = " OR ".join(f'm."{c}" IS NOT o."{c}"' for c in cols if c != "id")
-            for (bad,) in conn.execute(f'SELECT o.id FROM other."{table}" o JOIN main."{table}" m ON m.id = o.id '
-                                       f"WHERE {diff} LIMIT 20"):
-                ck.bad(table, bad, "(whole row)", "differs from the row of the same id already here: rows are "
-                                                  "never changed, so this file was altered")
+            for (bad,) in conn.execute(
+                f'SELECT o.id FROM other."{table}" o JOIN main."{table}" m ON m.id = o.id WHERE {diff} LIMIT 20'
+            ):
+                ck.bad(
+                    table,
+                    bad,
+                    "(whole row)",
+                    "differs from the row of the same id already here: rows are "
+                    "never changed, so this file was altered",
+                )
         else:
             diff = " OR ".join(f'm."{c}" IS NOT o."{c}"' for c in cols if c != "id")
             new += _fetch(conn, table, cols, f'JOIN main."{table}" m ON m.id = o.id WHERE {diff}')
@@ -134,8 +144,12 @@ def _legacy_settings(conn, ck: _Check) -> list:
     the same content-made rows ``settings_history.backfill_history`` makes, so every laptop agrees."""
     out = []
     for entity, fields in settings_history.HISTORY_FIELDS.items():
-        have = {(r[0], r[1]) for r in conn.execute(
-            "SELECT DISTINCT entity_id, field FROM other.setting_version WHERE entity = ?", [entity])}
+        have = {
+            (r[0], r[1])
+            for r in conn.execute(
+                "SELECT DISTINCT entity_id, field FROM other.setting_version WHERE entity = ?", [entity]
+            )
+        }
         cols = [c for c, _ in _columns(conn, "other", entity)]
         for v, _kinds in _fetch(conn, entity, cols, ""):
             if not isinstance(v.get("id"), str) or not isinstance(v.get("created_at"), str):
@@ -195,8 +209,10 @@ def _bring_in(db, incoming: dict, report: MergeReport) -> None:
         for table in ("reading", "version_parent", "signoff"):
             cols = incoming[table][0]
             col_sql = ", ".join(f'"{c}"' for c in cols)
-            conn.executemany(f'INSERT INTO "{table}" ({col_sql}) VALUES ({", ".join("?" * len(cols))})',
-                             ([v[c] for c in cols] for v, _ in incoming[table][1]))
+            conn.executemany(
+                f'INSERT INTO "{table}" ({col_sql}) VALUES ({", ".join("?" * len(cols))})',
+                ([v[c] for c in cols] for v, _ in incoming[table][1]),
+            )
             report.added[table] = len(incoming[table][1])
     except sqlite3.IntegrityError as e:  # checked above; a constraint of the schema still has the last word
         raise ValidationError([("row", f"not merged: {e}")]) from None

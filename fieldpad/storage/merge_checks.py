@@ -3,6 +3,7 @@ them (each value with its storage class, text as bytes so invalid UTF-8 is found
 each table's rows are held to the rules of save and import (``validate_record``, the one text rule
 ``stored_text``, the site and board field rules, references, times).  Problems are lines naming file,
 table, row id, field and reason; any one refuses the whole file (``MergeRefused``)."""
+
 from __future__ import annotations
 
 import json
@@ -37,8 +38,11 @@ class MergeRefused(StorageError):
     def __init__(self, problems: list[str]):
         self.problems = problems
         more = sum(not p.endswith("nothing was merged") for p in problems[1:])
-        super().__init__(problems[0] + (f" (and {more} more problem(s))" if more else "")
-                         + ("" if problems[0].endswith("nothing was merged") else "; nothing was merged"))
+        super().__init__(
+            problems[0]
+            + (f" (and {more} more problem(s))" if more else "")
+            + ("" if problems[0].endswith("nothing was merged") else "; nothing was merged")
+        )
 
 
 # ---- reading rows without trusting them ---------------------------------------------------
@@ -50,8 +54,10 @@ def _columns(conn, schema: str, table: str) -> list[tuple[str, str]]:
 
 def _raw_select(cols: list[str]) -> str:
     """Each column with its storage class; text read as bytes (invalid UTF-8 is found, not crashed on)."""
-    return ", ".join(f'typeof(o."{c}"), CASE WHEN typeof(o."{c}") = \'text\' THEN CAST(o."{c}" AS BLOB) '
-                     f'ELSE o."{c}" END' for c in cols)
+    return ", ".join(
+        f'typeof(o."{c}"), CASE WHEN typeof(o."{c}") = \'text\' THEN CAST(o."{c}" AS BLOB) ELSE o."{c}" END'
+        for c in cols
+    )
 
 
 def _decode(row: tuple, cols: list[str]) -> tuple[dict, dict]:
@@ -77,7 +83,7 @@ class _BadText:
 
 
 def _fetch(conn, table: str, cols: list[str], where: str) -> list[tuple[dict, dict]]:
-    return [_decode(r, cols) for r in conn.execute(f"SELECT {_raw_select(cols)} FROM other.\"{table}\" o {where}")]
+    return [_decode(r, cols) for r in conn.execute(f'SELECT {_raw_select(cols)} FROM other."{table}" o {where}')]
 
 
 # ---- the rules ------------------------------------------------------------------------------
@@ -98,8 +104,7 @@ class _Check:
         healthy laptop's file is never refused for it."""
         value = v[fld]
         if isinstance(value, _BadText):
-            self.bad(table, v.get("id"), fld, f"is not valid UTF-8 text ({value.err.reason} at byte "
-                                              f"{value.err.start})")
+            self.bad(table, v.get("id"), fld, f"is not valid UTF-8 text ({value.err.reason} at byte {value.err.start})")
         elif value is None:
             if required:
                 self.bad(table, v.get("id"), fld, "is required")
@@ -121,6 +126,7 @@ class _Check:
             self.bad(table, v.get("id"), fld, f"{value[:40]!r} is not a stored UTC time (YYYY-MM-DDTHH:MM:SS.ffffffZ)")
         elif isinstance(value, str):
             from datetime import datetime
+
             try:
                 t = datetime.fromisoformat(value.replace("Z", "+00:00"))
                 if not 1990 <= t.year <= 2200:
@@ -314,8 +320,14 @@ def _check_signoff(ck: _Check, v: dict, kinds: dict, known: dict) -> None:
         ck.stamp(t, v, kinds, "day_end_utc")
 
 
-CHECKS = {"reading": _check_reading, "setting_version": _check_setting, "id_join": _check_join,
-          "version_parent": _check_parent, "round": _check_round, "signoff": _check_signoff}
+CHECKS = {
+    "reading": _check_reading,
+    "setting_version": _check_setting,
+    "id_join": _check_join,
+    "version_parent": _check_parent,
+    "round": _check_round,
+    "signoff": _check_signoff,
+}
 
 
 class _Versions(dict):
@@ -357,8 +369,10 @@ def _known(conn, rows: dict) -> dict:
 
 def _check_new_entities(ck: _Check, conn, rows: dict) -> None:
     """A site or board that is new here must come with the fields its row cannot do without."""
-    have = {"site": {r[0] for r in conn.execute("SELECT id FROM main.site")},
-            "board": {r[0] for r in conn.execute("SELECT id FROM main.board")}}
+    have = {
+        "site": {r[0] for r in conn.execute("SELECT id FROM main.site")},
+        "board": {r[0] for r in conn.execute("SELECT id FROM main.board")},
+    }
     given: dict = {}
     for v, _ in rows["setting_version"][1]:
         if v.get("entity") in have and isinstance(v.get("entity_id"), str):

@@ -3,6 +3,7 @@ itself (also through a symlink or a hard link), opened read-only so that nothing
 (``immutable=1`` without a -wal, ``mode=ro`` with one), its size, time and inode to compare after reading,
 its integrity and schema checked first, and read through a copy in a temporary folder where it must be (a
 -wal without a -shm; a file of an older fieldpad, upgraded in the copy, never in place)."""
+
 from __future__ import annotations
 
 import contextlib
@@ -26,9 +27,11 @@ def _refuse_self(db, path: Path) -> None:
     if main_file and os.path.exists(main_file):
         a, b = os.stat(main_file), os.stat(path)  # follows symlinks; a hard link has the same inode
         if (a.st_dev, a.st_ino) == (b.st_dev, b.st_ino):
-            raise StorageError(f"{path} is the database being merged into (the same file"
-                               + (", through a link" if os.path.abspath(path) != os.path.abspath(main_file)
-                                  else "") + "): nothing to bring in")
+            raise StorageError(
+                f"{path} is the database being merged into (the same file"
+                + (", through a link" if os.path.abspath(path) != os.path.abspath(main_file) else "")
+                + "): nothing to bring in"
+            )
 
 
 def _wal(path: Path) -> Path:
@@ -59,8 +62,9 @@ def _open_other(path: Path) -> tuple[sqlite3.Connection, str, str | None]:
         except (sqlite3.DatabaseError, UnicodeDecodeError) as e:  # a flipped byte in its schema text too
             conn.close()
             if "not a database" in str(e):
-                raise StorageError(f"{path} is not a fieldpad database (not an SQLite file); nothing was "
-                                   "merged") from None
+                raise StorageError(
+                    f"{path} is not a fieldpad database (not an SQLite file); nothing was merged"
+                ) from None
             raise StorageError(f"{path} cannot be read ({e}); nothing was merged") from None
         return conn, uri, None
     conn, note = connect_read_only(path)
@@ -75,8 +79,10 @@ def _inspect_other(path: Path, name: Path) -> tuple[list[str], str, str | None]:
     try:
         try:
             bad = [r[0] for r in conn.execute("PRAGMA integrity_check(20)").fetchall() if r[0] != "ok"]
-            bad += [f"{t} row {rowid} refers to a missing {parent}"
-                    for t, rowid, parent, _ in conn.execute("PRAGMA foreign_key_check").fetchall()[:20]]
+            bad += [
+                f"{t} row {rowid} refers to a missing {parent}"
+                for t, rowid, parent, _ in conn.execute("PRAGMA foreign_key_check").fetchall()[:20]
+            ]
         except (sqlite3.DatabaseError, UnicodeDecodeError) as e:  # a flipped byte in its schema text too
             bad = [f"the file is damaged ({e})"]
         if bad:
@@ -85,16 +91,16 @@ def _inspect_other(path: Path, name: Path) -> tuple[list[str], str, str | None]:
             names = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type='table'")}
             if not {"site", "board", "round", "reading", "_sqlite_migrations"} <= names:
                 raise StorageError(f"{path} is not a fieldpad database (tables missing); nothing was merged")
-            applied = [r[0] for r in conn.execute(
-                "SELECT name FROM _sqlite_migrations WHERE migration_set='fieldpad'")]
+            applied = [r[0] for r in conn.execute("SELECT name FROM _sqlite_migrations WHERE migration_set='fieldpad'")]
         except (sqlite3.DatabaseError, UnicodeDecodeError) as e:  # a flipped byte in its schema text too
             raise StorageError(f"{path} cannot be read ({e}); nothing was merged") from None
     finally:
         conn.close()
     unknown = set(applied) - set(schema_version_names())
     if unknown:
-        raise StorageError(f"{path} was written by a newer fieldpad (schema {max(unknown)}); update fieldpad "
-                           "first; nothing was merged")
+        raise StorageError(
+            f"{path} was written by a newer fieldpad (schema {max(unknown)}); update fieldpad first; nothing was merged"
+        )
     return applied, uri, note
 
 

@@ -3,6 +3,7 @@
 Every round has a name or purpose (``label``), given when it starts; without one it is called
 "Round N — YYYY-MM-DD HH:MM" (N counts the site's rounds, the time is the start in local time).
 """
+
 from __future__ import annotations
 
 from .db import write
@@ -31,9 +32,17 @@ def start_round(db, site_id, technician=None, *, label=None, note=None, started_
     if problems:
         raise ValidationError(problems)
     with write(db):
-        db["round"].insert({"id": rid, "site_id": site_id,
-                            "label": label or default_label(db, site_id, started_at), "technician": technician,
-                            "started_at": started_at, "finished_at": None, "note": note})
+        db["round"].insert(
+            {
+                "id": rid,
+                "site_id": site_id,
+                "label": label or default_label(db, site_id, started_at),
+                "technician": technician,
+                "started_at": started_at,
+                "finished_at": None,
+                "note": note,
+            }
+        )
     return rid
 
 
@@ -57,10 +66,14 @@ def round_name(row: dict | None) -> str:
 
 def rounds_of_day(db, site_id, day_start_utc: str, day_end_utc: str) -> list[dict]:
     """The site's rounds that have a reading taken in the UTC range, or that started in it; by start."""
-    return list(db.query(
-        "SELECT * FROM round WHERE site_id = :s AND (started_at >= :a AND started_at < :b OR id IN ("
-        " SELECT r.round_id FROM reading_current r WHERE r.taken_at >= :a AND r.taken_at < :b))"
-        " ORDER BY started_at, id", {"s": site_id, "a": day_start_utc, "b": day_end_utc}))
+    return list(
+        db.query(
+            "SELECT * FROM round WHERE site_id = :s AND (started_at >= :a AND started_at < :b OR id IN ("
+            " SELECT r.round_id FROM reading_current r WHERE r.taken_at >= :a AND r.taken_at < :b))"
+            " ORDER BY started_at, id",
+            {"s": site_id, "a": day_start_utc, "b": day_end_utc},
+        )
+    )
 
 
 def finish_round(db, round_id, note=None) -> None:
@@ -77,16 +90,21 @@ def list_rounds(db, site_id) -> list[dict]:
 
 def boards_read_in_round(db, round_id) -> set[str]:
     """Ids of the boards with a current (not void) reading in this round."""
-    return {r["board_id"] for r in db.query(
-        "SELECT DISTINCT board_id FROM reading_current WHERE round_id = ? AND void = 0", [round_id])}
+    return {
+        r["board_id"]
+        for r in db.query("SELECT DISTINCT board_id FROM reading_current WHERE round_id = ? AND void = 0", [round_id])
+    }
 
 
 def round_progress(db, round_id) -> tuple[int, int]:
     """(boards with a current reading in this round, boards of the round's site)."""
-    row = next(db.query(
-        "SELECT (SELECT COUNT(DISTINCT board_id) FROM reading_current WHERE round_id = :r AND void = 0) AS done,"
-        " (SELECT COUNT(*) FROM board WHERE site_id = (SELECT site_id FROM round WHERE id = :r)) AS total",
-        {"r": round_id}))
+    row = next(
+        db.query(
+            "SELECT (SELECT COUNT(DISTINCT board_id) FROM reading_current WHERE round_id = :r AND void = 0) AS done,"
+            " (SELECT COUNT(*) FROM board WHERE site_id = (SELECT site_id FROM round WHERE id = :r)) AS total",
+            {"r": round_id},
+        )
+    )
     return row["done"], row["total"]
 
 

@@ -1,5 +1,6 @@
 """Checked values for stored rows: text by the one text rule, numbers in range, an insert that names its
 problems.  Shared by sites, boards and readings."""
+
 from __future__ import annotations
 
 from ..core.readings import stored_text

@@ -20,6 +20,7 @@ leaves nothing partial, and the next sync sends or receives again what was not r
 psycopg comes through ``server_schema`` only (the optional ``server`` extra); libpq's own means carry
 passwords (password file, ``PGPASSWORD``, client certificates): none is ever stored in the laptop's database.
 """
+
 from __future__ import annotations
 
 import contextlib
@@ -37,18 +38,22 @@ TECHNICIAN_TABLES = ("site", "board", "round", "setting_version", "id_join", "re
 SUPERVISOR_TABLES = ("signoff",)
 # Who recorded a row (the server takes it only from that role; None: anyone may send it), and the rows of
 # the same table it needs on the server first.
-AUTHOR = {"setting_version": ("recorded_by", True), "id_join": ("recorded_by", True),
-          "reading": ("recorded_by", False), "signoff": ("signed_by", False)}
+AUTHOR = {
+    "setting_version": ("recorded_by", True),
+    "id_join": ("recorded_by", True),
+    "reading": ("recorded_by", False),
+    "signoff": ("signed_by", False),
+}
 
 
 @dataclass
 class SyncReport:
     server: str
     role: str
-    sent: dict = field(default_factory=dict)         # table -> rows the server did not have
-    received: dict = field(default_factory=dict)     # table -> rows new to this laptop
-    not_mine: int = 0        # reading versions recorded by someone else: theirs to send
-    waiting: int = 0         # versions waiting for the version they supersede to reach the server
+    sent: dict = field(default_factory=dict)  # table -> rows the server did not have
+    received: dict = field(default_factory=dict)  # table -> rows new to this laptop
+    not_mine: int = 0  # reading versions recorded by someone else: theirs to send
+    waiting: int = 0  # versions waiting for the version they supersede to reach the server
     send_tx: str | None = None  # the server transaction that took this sync's rows
 
 
@@ -58,8 +63,9 @@ def _cols(db, table: str, conn=None) -> list[str]:
     cols = [r[1] for r in db.conn.execute(f"PRAGMA main.table_info({table})")]
     if conn is None:
         return cols
-    there = {r[0] for r in conn.execute("SELECT column_name FROM information_schema.columns WHERE table_name = %s",
-                                        [table])}
+    there = {
+        r[0] for r in conn.execute("SELECT column_name FROM information_schema.columns WHERE table_name = %s", [table])
+    }
     return [c for c in cols if c in there]
 
 
@@ -76,14 +82,16 @@ def pending_count(db, technician: str | None, *, any_author: bool = False) -> in
         return None
     if any_author:
         return db.conn.execute("SELECT COUNT(*) FROM reading WHERE rowid > ?", [row[0]]).fetchone()[0]
-    return db.conn.execute("SELECT COUNT(*) FROM reading WHERE rowid > ? AND recorded_by IS ?",
-                           [row[0], technician]).fetchone()[0]
+    return db.conn.execute(
+        "SELECT COUNT(*) FROM reading WHERE rowid > ? AND recorded_by IS ?", [row[0], technician]
+    ).fetchone()[0]
 
 
 def last_sync(db) -> dict | None:
     """When this laptop last synced, with which server (address without password) and what moved."""
-    r = db.conn.execute("SELECT server_id, shown_url, synced_at, sent, received FROM sync_log "
-                        "ORDER BY synced_at DESC LIMIT 1").fetchone()
+    r = db.conn.execute(
+        "SELECT server_id, shown_url, synced_at, sent, received FROM sync_log ORDER BY synced_at DESC LIMIT 1"
+    ).fetchone()
     return dict(zip(("server_id", "server", "synced_at", "sent", "received"), r)) if r else None
 
 
@@ -106,23 +114,30 @@ def sync(db, url: str) -> SyncReport:
             _send(db, conn, sid, role, report)
             _receive(db, conn, sid, report)
         except psycopg.errors.InsufficientPrivilege as e:
-            raise ServerError(f"the server refused: {_first_line(e)}. Nothing of this step was kept; "
-                              "ask the server's administrator which role this login has") from None
+            raise ServerError(
+                f"the server refused: {_first_line(e)}. Nothing of this step was kept; "
+                "ask the server's administrator which role this login has"
+            ) from None
         except psycopg.OperationalError as e:
-            raise ServerError(f"the connection to the server {shown_url(url)} was lost: {_first_line(e)}. What was not "
-                              "confirmed is sent again at the next sync; nothing is lost.") from None
+            raise ServerError(
+                f"the connection to the server {shown_url(url)} was lost: {_first_line(e)}. What was not "
+                "confirmed is sent again at the next sync; nothing is lost."
+            ) from None
         except psycopg.Error as e:
-            raise ServerError(f"the server refused the sync: {_first_line(e)}. Nothing of the step it refused "
-                              "was kept; this laptop's records are unchanged.") from None
+            raise ServerError(
+                f"the server refused the sync: {_first_line(e)}. Nothing of the step it refused "
+                "was kept; this laptop's records are unchanged."
+            ) from None
         from .ids import utc_now
 
         with write(db):
-            db.conn.execute("INSERT INTO sync_log (server_id, shown_url, synced_at, sent, received) "
-                            "VALUES (?, ?, ?, ?, ?) ON CONFLICT(server_id) DO UPDATE SET "
-                            "shown_url = excluded.shown_url, synced_at = excluded.synced_at, "
-                            "sent = excluded.sent, received = excluded.received",
-                            [sid, report.server, utc_now(), sum(report.sent.values()),
-                             sum(report.received.values())])
+            db.conn.execute(
+                "INSERT INTO sync_log (server_id, shown_url, synced_at, sent, received) "
+                "VALUES (?, ?, ?, ?, ?) ON CONFLICT(server_id) DO UPDATE SET "
+                "shown_url = excluded.shown_url, synced_at = excluded.synced_at, "
+                "sent = excluded.sent, received = excluded.received",
+                [sid, report.server, utc_now(), sum(report.sent.values()), sum(report.received.values())],
+            )
         return report
     finally:
         with contextlib.suppress(Exception):
@@ -131,16 +146,18 @@ def sync(db, url: str) -> SyncReport:
 
 def _send(db, conn, sid: str, role: str, report: SyncReport) -> None:
     state = _state(db, sid)
-    tech, boss = conn.execute("SELECT pg_has_role('fieldpad_technician', 'MEMBER'), "
-                              "pg_has_role('fieldpad_supervisor', 'MEMBER')").fetchone()
+    tech, boss = conn.execute(
+        "SELECT pg_has_role('fieldpad_technician', 'MEMBER'), pg_has_role('fieldpad_supervisor', 'MEMBER')"
+    ).fetchone()
     conn.commit()
     tables = (TECHNICIAN_TABLES if tech else ()) + (SUPERVISOR_TABLES if boss else ())
     batches, marks = {}, {}
     for table in tables:
         cols = _cols(db, table, conn)
         since = state.get(table, (0, "0"))[0]
-        rows = db.conn.execute(f"SELECT rowid, {', '.join(cols)} FROM {table} WHERE rowid > ? ORDER BY rowid",
-                               [since]).fetchall()
+        rows = db.conn.execute(
+            f"SELECT rowid, {', '.join(cols)} FROM {table} WHERE rowid > ? ORDER BY rowid", [since]
+        ).fetchall()
         top = rows[-1][0] if rows else since
         held_from = None
         if table in AUTHOR or table == "version_parent":
@@ -163,15 +180,18 @@ def _send(db, conn, sid: str, role: str, report: SyncReport) -> None:
                 for r in rows:
                     cp.write_row(r)
             # Rows the server has already (sent before, or by another laptop) are left as they are.
-            cur = conn.execute(f"INSERT INTO {table} ({col_sql}) SELECT {col_sql} FROM incoming_{table} "
-                               "ON CONFLICT (id) DO NOTHING")
+            cur = conn.execute(
+                f"INSERT INTO {table} ({col_sql}) SELECT {col_sql} FROM incoming_{table} ON CONFLICT (id) DO NOTHING"
+            )
             report.sent[table] = cur.rowcount
     # Only now that the server has committed: what was sent need not be looked at again.
     with write(db):
         for table, top in marks.items():
-            db.conn.execute("INSERT INTO sync_state (server_id, tbl, sent_rowid) VALUES (?, ?, ?) "
-                            "ON CONFLICT(server_id, tbl) DO UPDATE SET sent_rowid = excluded.sent_rowid",
-                            [sid, table, top])
+            db.conn.execute(
+                "INSERT INTO sync_state (server_id, tbl, sent_rowid) VALUES (?, ?, ?) "
+                "ON CONFLICT(server_id, tbl) DO UPDATE SET sent_rowid = excluded.sent_rowid",
+                [sid, table, top],
+            )
 
 
 def _on_server(conn, table: str, ids) -> set:
@@ -184,9 +204,11 @@ def _on_server(conn, table: str, ids) -> set:
 
 
 #: The rows of the same send a row needs on the server first: (its column, the table it names).
-NEEDS = {"reading": (("supersedes", "reading"),),
-         "version_parent": (("version_id", "reading"), ("parent_id", "reading")),
-         "signoff": (("site_id", "site"), ("round_id", "round"))}
+NEEDS = {
+    "reading": (("supersedes", "reading"),),
+    "version_parent": (("version_id", "reading"), ("parent_id", "reading")),
+    "signoff": (("site_id", "site"), ("round_id", "round")),
+}
 
 
 def _sendable(conn, table, cols, rows, role, report, batches):
@@ -221,8 +243,10 @@ def _sendable(conn, table, cols, rows, role, report, batches):
                 report.not_mine += 1
                 held.append(r[0])
             continue
-        if all(r[col[fk]] is None or r[col[fk]] in known[parent] or (parent == table and r[col[fk]] in sent)
-               for fk, parent in NEEDS.get(table, ())):
+        if all(
+            r[col[fk]] is None or r[col[fk]] in known[parent] or (parent == table and r[col[fk]] in sent)
+            for fk, parent in NEEDS.get(table, ())
+        ):
             sent.add(r[col["id"]])
             send.append(r)
         else:
@@ -245,9 +269,13 @@ def _receive(db, conn, sid: str, report: SyncReport) -> None:
             for table in TABLES:
                 cols = _cols(db, table, conn)
                 since = state.get(table, (0, "0"))[1] or "0"
-                got[table] = (cols, conn.execute(
-                    f"SELECT {', '.join(cols)} FROM {table} WHERE tx >= %s::xid8 AND tx <> %s::xid8",
-                    [since, report.send_tx or "0"]).fetchall())
+                got[table] = (
+                    cols,
+                    conn.execute(
+                        f"SELECT {', '.join(cols)} FROM {table} WHERE tx >= %s::xid8 AND tx <> %s::xid8",
+                        [since, report.send_tx or "0"],
+                    ).fetchall(),
+                )
                 marks[table] = mark
     finally:
         conn.isolation_level = None
@@ -261,19 +289,24 @@ def _receive(db, conn, sid: str, report: SyncReport) -> None:
         report.received = dict.fromkeys(TABLES, 0)
     with write(db):
         for table, mark in marks.items():
-            db.conn.execute("INSERT INTO sync_state (server_id, tbl, received_tx) VALUES (?, ?, ?) "
-                            "ON CONFLICT(server_id, tbl) DO UPDATE SET received_tx = excluded.received_tx",
-                            [sid, table, mark])
+            db.conn.execute(
+                "INSERT INTO sync_state (server_id, tbl, received_tx) VALUES (?, ?, ?) "
+                "ON CONFLICT(server_id, tbl) DO UPDATE SET received_tx = excluded.received_tx",
+                [sid, table, mark],
+            )
             # Rows that came from the server need not be sent: where nothing else was added since the send,
             # the send mark moves past them (so "not yet sent" counts only what really waits).
             cols, rows = got[table]
             came = {r[cols.index("id")] for r in rows}
-            sent_mark = db.conn.execute("SELECT sent_rowid FROM sync_state WHERE server_id = ? AND tbl = ?",
-                                        [sid, table]).fetchone()[0]
+            sent_mark = db.conn.execute(
+                "SELECT sent_rowid FROM sync_state WHERE server_id = ? AND tbl = ?", [sid, table]
+            ).fetchone()[0]
             above = db.conn.execute(f"SELECT rowid, id FROM {table} WHERE rowid > ?", [sent_mark]).fetchall()
             if above and all(i in came for _, i in above):
-                db.conn.execute("UPDATE sync_state SET sent_rowid = ? WHERE server_id = ? AND tbl = ?",
-                                [max(r for r, _ in above), sid, table])
+                db.conn.execute(
+                    "UPDATE sync_state SET sent_rowid = ? WHERE server_id = ? AND tbl = ?",
+                    [max(r for r, _ in above), sid, table],
+                )
 
 
 def _write_snapshot(db, path: Path, got: dict) -> None:
@@ -289,17 +322,25 @@ def _write_snapshot(db, path: Path, got: dict) -> None:
             for table in TABLES:
                 cols, rows = got[table]
                 if rows:
-                    snap.conn.executemany(f"INSERT OR IGNORE INTO {table} ({', '.join(cols)}) VALUES "
-                                          f"({', '.join('?' * len(cols))})", rows)
+                    snap.conn.executemany(
+                        f"INSERT OR IGNORE INTO {table} ({', '.join(cols)}) VALUES ({', '.join('?' * len(cols))})", rows
+                    )
     finally:
         snap.close()
     _fill_parents(db, path)
 
 
-_PARENTS = (("board", "site_id", "site"), ("round", "site_id", "site"), ("reading", "board_id", "board"),
-            ("reading", "round_id", "round"), ("reading", "supersedes", "reading"), ("signoff", "site_id", "site"),
-            ("signoff", "round_id", "round"), ("version_parent", "version_id", "reading"),
-            ("version_parent", "parent_id", "reading"))
+_PARENTS = (
+    ("board", "site_id", "site"),
+    ("round", "site_id", "site"),
+    ("reading", "board_id", "board"),
+    ("reading", "round_id", "round"),
+    ("reading", "supersedes", "reading"),
+    ("signoff", "site_id", "site"),
+    ("signoff", "round_id", "round"),
+    ("version_parent", "version_id", "reading"),
+    ("version_parent", "parent_id", "reading"),
+)
 
 
 def _fill_parents(db, path: Path) -> None:
@@ -319,12 +360,15 @@ def _fill_parents(db, path: Path) -> None:
                     conn.execute(
                         f"INSERT OR IGNORE INTO snap.{parent} SELECT * FROM main.{parent} WHERE id IN "
                         f"(SELECT {fk} FROM snap.{child} WHERE {fk} IS NOT NULL "
-                        f"AND {fk} NOT IN (SELECT id FROM snap.{parent}))")
+                        f"AND {fk} NOT IN (SELECT id FROM snap.{parent}))"
+                    )
             # A site or board row as first sent is not what it is now: its whole settings history goes with
             # it (merge computes the row from that history, and would otherwise take the row as history).
             for entity in ("site", "board"):
-                conn.execute("INSERT OR IGNORE INTO snap.setting_version SELECT * FROM main.setting_version "
-                             f"WHERE entity = '{entity}' AND entity_id IN (SELECT id FROM snap.{entity})")
+                conn.execute(
+                    "INSERT OR IGNORE INTO snap.setting_version SELECT * FROM main.setting_version "
+                    f"WHERE entity = '{entity}' AND entity_id IN (SELECT id FROM snap.{entity})"
+                )
             conn.execute("COMMIT")
         except BaseException:
             conn.execute("ROLLBACK")
@@ -333,8 +377,10 @@ def _fill_parents(db, path: Path) -> None:
     finally:
         conn.execute("DETACH DATABASE snap")
     if missing:
-        raise ServerError(f"the server sent {len(missing)} row(s) whose board, site, round or earlier version it "
-                          "did not send: nothing was received (run 'fieldpad sync' again)")
+        raise ServerError(
+            f"the server sent {len(missing)} row(s) whose board, site, round or earlier version it "
+            "did not send: nothing was received (run 'fieldpad sync' again)"
+        )
 
 
 def fetch_all(url: str, dest: Path) -> Path:
@@ -350,9 +396,14 @@ def fetch_all(url: str, dest: Path) -> Path:
         got = {}
         with conn.transaction():
             for table in TABLES:
-                cols = [r[0] for r in conn.execute(
-                    "SELECT column_name FROM information_schema.columns WHERE table_name = %s AND column_name "
-                    "NOT IN ('tx', 'sent_by', 'received_at') ORDER BY ordinal_position", [table])]
+                cols = [
+                    r[0]
+                    for r in conn.execute(
+                        "SELECT column_name FROM information_schema.columns WHERE table_name = %s AND column_name "
+                        "NOT IN ('tx', 'sent_by', 'received_at') ORDER BY ordinal_position",
+                        [table],
+                    )
+                ]
                 got[table] = (cols, conn.execute(f"SELECT {', '.join(cols)} FROM {table}").fetchall())
     finally:
         conn.close()
@@ -364,8 +415,9 @@ def fetch_all(url: str, dest: Path) -> Path:
             for table in TABLES:
                 cols, rows = got[table]
                 if rows:
-                    snap.conn.executemany(f"INSERT INTO {table} ({', '.join(cols)}) VALUES "
-                                          f"({', '.join('?' * len(cols))})", rows)
+                    snap.conn.executemany(
+                        f"INSERT INTO {table} ({', '.join(cols)}) VALUES ({', '.join('?' * len(cols))})", rows
+                    )
     finally:
         snap.close()
     db = open_db(dest, create=True)

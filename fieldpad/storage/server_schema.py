@@ -5,6 +5,7 @@ by ``fieldpad server init``, checked before every sync).  The sync itself is ``s
 psycopg is imported here only (the optional ``server`` extra); libpq's own means carry passwords
 (password file, ``PGPASSWORD``, client certificates): none is ever stored in the laptop's database.
 """
+
 from __future__ import annotations
 
 import contextlib
@@ -27,8 +28,10 @@ def server_url(url: str | None) -> str:
     """``--server URL`` wins over ``$FIELDPAD_SERVER``."""
     url = url or os.environ.get(ENV_VAR)
     if not url:
-        raise ServerError("no server given: use --server URL (a libpq connection URI, e.g. "
-                          "postgresql://HOST/DBNAME?sslmode=verify-full) or set FIELDPAD_SERVER")
+        raise ServerError(
+            "no server given: use --server URL (a libpq connection URI, e.g. "
+            "postgresql://HOST/DBNAME?sslmode=verify-full) or set FIELDPAD_SERVER"
+        )
     return url
 
 
@@ -46,8 +49,11 @@ def shown_url(url: str) -> str:
             userinfo, _, hostpart = netloc.rpartition("@")
             netloc = userinfo.split(":", 1)[0] + "@" + hostpart
         query = "&".join(q for q in parts.query.split("&") if q and not q.lower().startswith("password="))
-        return (f"{parts.scheme}://{netloc}{parts.path}" + (f"?{query}" if query else "")
-                + (f"#{parts.fragment}" if parts.fragment else ""))
+        return (
+            f"{parts.scheme}://{netloc}{parts.path}"
+            + (f"?{query}" if query else "")
+            + (f"#{parts.fragment}" if parts.fragment else "")
+        )
     return "(an address that could not be read)"
 
 
@@ -65,11 +71,12 @@ def connect(url: str):
     unreachable servers become a ServerError."""
     psycopg = _psycopg()
     try:
-        return psycopg.connect(url, connect_timeout=CONNECT_TIMEOUT_S, application_name="fieldpad",
-                               autocommit=True)
+        return psycopg.connect(url, connect_timeout=CONNECT_TIMEOUT_S, application_name="fieldpad", autocommit=True)
     except psycopg.Error as e:
-        raise ServerError(f"cannot reach the server {shown_url(url)}: {_first_line(e)}. Nothing was sent or "
-                          "received; everything stays on this laptop and waits for the next sync.") from None
+        raise ServerError(
+            f"cannot reach the server {shown_url(url)}: {_first_line(e)}. Nothing was sent or "
+            "received; everything stays on this laptop and waits for the next sync."
+        ) from None
 
 
 def _first_line(e: Exception) -> str:
@@ -92,14 +99,18 @@ def init(url: str) -> tuple[list[str], list[str]]:
     with connect(url) as conn:
         with conn.transaction():
             conn.execute("SELECT pg_advisory_xact_lock(hashtext('fieldpad schema'))")
-            conn.execute(f"CREATE TABLE IF NOT EXISTS {MIGRATION_TABLE} (name TEXT PRIMARY KEY, "
-                         "applied_at TIMESTAMPTZ NOT NULL DEFAULT now(), applied_by NAME NOT NULL "
-                         "DEFAULT current_user)")
+            conn.execute(
+                f"CREATE TABLE IF NOT EXISTS {MIGRATION_TABLE} (name TEXT PRIMARY KEY, "
+                "applied_at TIMESTAMPTZ NOT NULL DEFAULT now(), applied_by NAME NOT NULL "
+                "DEFAULT current_user)"
+            )
             before = [r[0] for r in conn.execute(f"SELECT name FROM {MIGRATION_TABLE} ORDER BY name")]
         unknown = [b for b in before if b not in names]
         if unknown:
-            raise ServerError(f"the server's schema is newer than this fieldpad (migration {unknown[-1]}; this "
-                              f"fieldpad knows up to {names[-1]}). Nothing was changed: update fieldpad.")
+            raise ServerError(
+                f"the server's schema is newer than this fieldpad (migration {unknown[-1]}; this "
+                f"fieldpad knows up to {names[-1]}). Nothing was changed: update fieldpad."
+            )
         done = []
         for name, sql in known:
             with conn.transaction():
@@ -120,11 +131,14 @@ def _check_schema(conn) -> str:
             applied = [r[0] for r in conn.execute(f"SELECT name FROM {MIGRATION_TABLE} ORDER BY name")]
             sid = conn.execute("SELECT id FROM server_info").fetchone()[0]
     except psycopg.errors.UndefinedTable:
-        raise ServerError("the server has no fieldpad schema: its administrator runs 'fieldpad server init' "
-                          "first") from None
+        raise ServerError(
+            "the server has no fieldpad schema: its administrator runs 'fieldpad server init' first"
+        ) from None
     except psycopg.errors.InsufficientPrivilege:
-        raise ServerError("this login may not read the crew's record: ask the server's administrator to "
-                          "grant it fieldpad_technician or fieldpad_supervisor") from None
+        raise ServerError(
+            "this login may not read the crew's record: ask the server's administrator to "
+            "grant it fieldpad_technician or fieldpad_supervisor"
+        ) from None
     names = [n for n, _ in _migration_files()]
     newer = [a for a in applied if a not in names]
     if newer:

@@ -7,6 +7,7 @@ are joined (``id_join`` rows; ``canonical``, ``apply_joins``).  Creating and edi
 
 Writes run inside the caller's transaction, or one each (:func:`fieldpad.storage.db.write`), committed
 before the function returns."""
+
 from __future__ import annotations
 
 import hashlib
@@ -18,11 +19,30 @@ from .ids import stamp_after, utc_now, uuid7
 from .rows import ValidationError, clean_text, insert
 
 #: Site settings with a history (column names of the site table).
-SITE_FIELDS = ("name", "description", "voltage_standard", "phase_labels", "colour_set", "thresholds_json",
-               "label_review_years")
-BOARD_FIELDS = ("name", "location", "kind", "system", "nominal_v", "frequency_hz", "af_incident_energy_cal_cm2",
-                "af_working_distance_mm", "af_boundary_mm", "af_ppe", "af_label_date",
-                "voltage_standard", "colour_set")  # the last two: None = the site's (migration 0005)
+SITE_FIELDS = (
+    "name",
+    "description",
+    "voltage_standard",
+    "phase_labels",
+    "colour_set",
+    "thresholds_json",
+    "label_review_years",
+)
+BOARD_FIELDS = (
+    "name",
+    "location",
+    "kind",
+    "system",
+    "nominal_v",
+    "frequency_hz",
+    "af_incident_energy_cal_cm2",
+    "af_working_distance_mm",
+    "af_boundary_mm",
+    "af_ppe",
+    "af_label_date",
+    "voltage_standard",
+    "colour_set",
+)  # the last two: None = the site's (migration 0005)
 
 #: Fields whose every change is kept (``setting_version``): generic, so a new board field needs only its
 #: column and its place in BOARD_FIELDS.
@@ -35,9 +55,19 @@ HISTORY_FIELDS = {"site": SITE_FIELDS, "board": ("site_id",) + BOARD_FIELDS}
 def _record(db, entity: str, entity_id: str, values: dict, recorded_at: str, by=None) -> None:
     by = stored_text(by, 200)[0]
     for f, v in values.items():
-        insert(db, "setting_version", {"id": uuid7(), "entity": entity, "entity_id": entity_id, "field": f,
-                                       "value_json": json.dumps(v, ensure_ascii=False), "recorded_at": recorded_at,
-                                       "recorded_by": by})
+        insert(
+            db,
+            "setting_version",
+            {
+                "id": uuid7(),
+                "entity": entity,
+                "entity_id": entity_id,
+                "field": f,
+                "value_json": json.dumps(v, ensure_ascii=False),
+                "recorded_at": recorded_at,
+                "recorded_by": by,
+            },
+        )
 
 
 def _change(db, entity: str, entity_id: str, values: dict, by=None) -> None:
@@ -49,14 +79,20 @@ def _change(db, entity: str, entity_id: str, values: dict, by=None) -> None:
         return
     # Settings from before there was a history: their rows first (made from their content, as of the row's
     # creation), so the history is whole and every laptop that had the same settings makes the same rows.
-    have = {r[0] for r in db.conn.execute("SELECT DISTINCT field FROM setting_version WHERE entity = ? AND "
-                                          "entity_id = ?", [entity, entity_id])}
+    have = {
+        r[0]
+        for r in db.conn.execute(
+            "SELECT DISTINCT field FROM setting_version WHERE entity = ? AND entity_id = ?", [entity, entity_id]
+        )
+    }
     for f in HISTORY_FIELDS[entity]:
         if f not in have and f in row:
             insert(db, "setting_version", legacy_setting(entity, row, f))
     marks = ", ".join("?" * len(changed))
-    latest = db.conn.execute(f"SELECT MAX(recorded_at) FROM setting_version WHERE entity = ? AND entity_id = ? "
-                             f"AND field IN ({marks})", [entity, entity_id, *changed]).fetchone()[0]
+    latest = db.conn.execute(
+        f"SELECT MAX(recorded_at) FROM setting_version WHERE entity = ? AND entity_id = ? AND field IN ({marks})",
+        [entity, entity_id, *changed],
+    ).fetchone()[0]
     _record(db, entity, entity_id, changed, stamp_after(latest), by)
     materialize(db, entity, [entity_id])
 
@@ -68,8 +104,10 @@ def backfill_history(db) -> int:
     Returns how many were added."""
     added = 0
     for entity, fields in HISTORY_FIELDS.items():
-        have = {(r[0], r[1]) for r in db.conn.execute(
-            "SELECT DISTINCT entity_id, field FROM setting_version WHERE entity = ?", [entity])}
+        have = {
+            (r[0], r[1])
+            for r in db.conn.execute("SELECT DISTINCT entity_id, field FROM setting_version WHERE entity = ?", [entity])
+        }
         for row in db.query(f"SELECT * FROM {entity}"):
             for f in fields:
                 if (row["id"], f) not in have and f in row:
@@ -81,8 +119,15 @@ def backfill_history(db) -> int:
 def legacy_setting(entity: str, row: dict, field: str) -> dict:
     value_json = json.dumps(row[field], ensure_ascii=False)
     digest = hashlib.sha256(json.dumps([entity, row["id"], field, value_json, row["created_at"]]).encode())
-    return {"id": "legacy-" + digest.hexdigest()[:32], "entity": entity, "entity_id": row["id"], "field": field,
-            "value_json": value_json, "recorded_at": row["created_at"], "recorded_by": None}
+    return {
+        "id": "legacy-" + digest.hexdigest()[:32],
+        "entity": entity,
+        "entity_id": row["id"],
+        "field": field,
+        "value_json": value_json,
+        "recorded_at": row["created_at"],
+        "recorded_by": None,
+    }
 
 
 def materialize(db, entity: str, ids=None) -> int:
@@ -100,8 +145,11 @@ def materialize(db, entity: str, ids=None) -> int:
     latest: dict = {}
     span: dict = {}
     for eid, f, value_json, at, _vid in db.conn.execute(
-            "SELECT entity_id, field, value_json, recorded_at, id FROM setting_version WHERE entity = ?"
-            + where + " ORDER BY entity_id, field, recorded_at, id", params):
+        "SELECT entity_id, field, value_json, recorded_at, id FROM setting_version WHERE entity = ?"
+        + where
+        + " ORDER BY entity_id, field, recorded_at, id",
+        params,
+    ):
         if f in fields:
             latest.setdefault(eid, {})[f] = json.loads(value_json)
         lo, hi = span.get(eid, (at, at))
@@ -112,8 +160,7 @@ def materialize(db, entity: str, ids=None) -> int:
         if entity == "board" and "site_id" in values:
             values["site_id"] = site_of.get(values["site_id"], values["site_id"])
         values["created_at"], values["updated_at"] = span[eid]
-        row = db[entity].get(eid) if db.conn.execute(f"SELECT 1 FROM {entity} WHERE id = ?", [eid]).fetchone() \
-            else None
+        row = db[entity].get(eid) if db.conn.execute(f"SELECT 1 FROM {entity} WHERE id = ?", [eid]).fetchone() else None
         if row is None:
             insert(db, entity, {"id": eid, **values})
             changed += 1
@@ -127,9 +174,13 @@ def materialize(db, entity: str, ids=None) -> int:
 
 def setting_history(db, entity: str, entity_id: str) -> list[dict]:
     """Every recorded change of a site's or board's settings, oldest first (value decoded)."""
-    return [{**r, "value": json.loads(r["value_json"])} for r in db.query(
-        "SELECT * FROM setting_version WHERE entity = ? AND entity_id = ? ORDER BY recorded_at, id",
-        [entity, entity_id])]
+    return [
+        {**r, "value": json.loads(r["value_json"])}
+        for r in db.query(
+            "SELECT * FROM setting_version WHERE entity = ? AND entity_id = ? ORDER BY recorded_at, id",
+            [entity, entity_id],
+        )
+    ]
 
 
 # ---- identity: joins of two ids -------------------------------------------------
@@ -146,8 +197,9 @@ def canonical(db, entity: str) -> dict:
             x = into[x]
         return x
 
-    for keep, other in db.conn.execute("SELECT keep_id, other_id FROM id_join WHERE entity = ? "
-                                       "ORDER BY recorded_at, id", [entity]):
+    for keep, other in db.conn.execute(
+        "SELECT keep_id, other_id FROM id_join WHERE entity = ? ORDER BY recorded_at, id", [entity]
+    ):
         k, o = root(keep), root(other)
         if k != o:
             into[o] = k
@@ -194,20 +246,36 @@ def join(db, entity: str, keep_id: str, other_id: str, *, by=None, reason=None) 
         for role, eid in (("KEEP", keep_id), ("OTHER", other_id)):
             found = list(db.query(f"SELECT * FROM {entity} WHERE id = ?", [eid]))
             if not found:
-                raise StorageError(f"no {entity} with id {eid} ({role}); list them with "
-                                   f"'fieldpad export --site NAME' or the merge report")
+                raise StorageError(
+                    f"no {entity} with id {eid} ({role}); list them with "
+                    f"'fieldpad export --site NAME' or the merge report"
+                )
             rows[role] = found[0]
         keep, other = rows["KEEP"], rows["OTHER"]
         if (keep["joined_into"] or keep["id"]) == (other["joined_into"] or other["id"]):
-            raise StorageError(f"{entity} {other_id} is already shown as {keep['joined_into'] or keep_id}: "
-                               "nothing to join")
+            raise StorageError(
+                f"{entity} {other_id} is already shown as {keep['joined_into'] or keep_id}: nothing to join"
+            )
         if keep["joined_into"]:
             raise StorageError(f"{entity} {keep_id} is itself joined into {keep['joined_into']}: keep that one")
         if entity == "board" and keep["site_id"] != other["site_id"]:
-            raise StorageError(f"boards {keep_id} and {other_id} are on different sites ({keep['site_id']}, "
-                               f"{other['site_id']}): join the sites first (fieldpad join-sites KEEP_ID OTHER_ID)")
-        insert(db, "id_join", {"id": uuid7(), "entity": entity, "keep_id": keep_id, "other_id": other_id,
-                               "recorded_at": utc_now(), "recorded_by": by, "reason": reason})
+            raise StorageError(
+                f"boards {keep_id} and {other_id} are on different sites ({keep['site_id']}, "
+                f"{other['site_id']}): join the sites first (fieldpad join-sites KEEP_ID OTHER_ID)"
+            )
+        insert(
+            db,
+            "id_join",
+            {
+                "id": uuid7(),
+                "entity": entity,
+                "keep_id": keep_id,
+                "other_id": other_id,
+                "recorded_at": utc_now(),
+                "recorded_by": by,
+                "reason": reason,
+            },
+        )
         backfill_history(db)
         apply_joins(db)
     fields = [f for f in HISTORY_FIELDS[entity] if f != "site_id"]

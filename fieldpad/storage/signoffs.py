@@ -6,6 +6,7 @@ stored with it, so every laptop later agrees on what was signed).  A version of 
 after the sign-off (a correction, a void, or a reading added late) is "after sign-off": the report and the
 day review say so.  Signing again is a new row; nothing here is updated or deleted.
 """
+
 from __future__ import annotations
 
 from datetime import date, datetime, time, timedelta
@@ -25,8 +26,9 @@ def local_day_range_utc(day: str) -> tuple[str, str]:
     return to_utc_text(start), to_utc_text(end)
 
 
-def sign_off(db, site_id, *, by, day: str | None = None, round_id: str | None = None, note=None,
-             signed_at: str | None = None) -> str:
+def sign_off(
+    db, site_id, *, by, day: str | None = None, round_id: str | None = None, note=None, signed_at: str | None = None
+) -> str:
     """Record a sign-off of a round (``round_id``) or of a local day (``day``, YYYY-MM-DD) at the site.
 
     Committed on return; the new sign-off's id.
@@ -63,7 +65,8 @@ def sign_off(db, site_id, *, by, day: str | None = None, round_id: str | None = 
         db.conn.execute(
             "INSERT INTO signoff (id, site_id, round_id, day, day_start_utc, day_end_utc, signed_by, signed_at, "
             "note) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-            [sid, site_id, round_id, day, start, end, by, signed_at or utc_now(), note])
+            [sid, site_id, round_id, day, start, end, by, signed_at or utc_now(), note],
+        )
     return sid
 
 
@@ -74,21 +77,27 @@ def get_signoff(db, signoff_id) -> dict:
     return rows[0]
 
 
-_SELECT = ("SELECT so.*, ro.label AS round_label, ro.started_at AS round_started_at "
-           "FROM signoff so LEFT JOIN round ro ON ro.id = so.round_id")
+_SELECT = (
+    "SELECT so.*, ro.label AS round_label, ro.started_at AS round_started_at "
+    "FROM signoff so LEFT JOIN round ro ON ro.id = so.round_id"
+)
 
 
 def signoffs_for_range(db, site_id, start_utc: str, end_utc: str) -> list[dict]:
     """Sign-offs that may cover readings of the site taken in ``[start_utc, end_utc)``: the day sign-offs
     whose day overlaps the range and the sign-offs of rounds with a reading in it or started in it.
     Oldest signature first."""
-    return list(db.query(
-        _SELECT + " WHERE so.site_id = :s AND ("
-        " (so.day IS NOT NULL AND so.day_start_utc < :b AND so.day_end_utc > :a)"
-        " OR so.round_id IN (SELECT id FROM round WHERE site_id = :s AND started_at >= :a AND started_at < :b)"
-        " OR so.round_id IN (SELECT r.round_id FROM reading_current r JOIN board b ON b.id = r.board_id"
-        "   WHERE b.site_id = :s AND r.taken_at >= :a AND r.taken_at < :b))"
-        " ORDER BY so.signed_at, so.id", {"s": site_id, "a": start_utc, "b": end_utc}))
+    return list(
+        db.query(
+            _SELECT + " WHERE so.site_id = :s AND ("
+            " (so.day IS NOT NULL AND so.day_start_utc < :b AND so.day_end_utc > :a)"
+            " OR so.round_id IN (SELECT id FROM round WHERE site_id = :s AND started_at >= :a AND started_at < :b)"
+            " OR so.round_id IN (SELECT r.round_id FROM reading_current r JOIN board b ON b.id = r.board_id"
+            "   WHERE b.site_id = :s AND r.taken_at >= :a AND r.taken_at < :b))"
+            " ORDER BY so.signed_at, so.id",
+            {"s": site_id, "a": start_utc, "b": end_utc},
+        )
+    )
 
 
 def signoffs_of_site(db, site_id) -> list[dict]:

@@ -3,6 +3,7 @@ ids.  The history of their settings, and joins, are ``settings_history.py``.
 
 Writes run in one transaction each (:func:`fieldpad.storage.db.write`) and are committed before the
 function returns."""
+
 from __future__ import annotations
 
 import json
@@ -58,12 +59,32 @@ def _site_values(fields: dict, problems: list) -> dict:
     return out
 
 
-def create_site(db, name, *, description=None, voltage_standard="ansi", phase_labels="ABC",
-                colour_set="iec60445", thresholds=None, label_review_years=5.0, site_id=None, by=None) -> str:
+def create_site(
+    db,
+    name,
+    *,
+    description=None,
+    voltage_standard="ansi",
+    phase_labels="ABC",
+    colour_set="iec60445",
+    thresholds=None,
+    label_review_years=5.0,
+    site_id=None,
+    by=None,
+) -> str:
     problems: list = []
-    values = _site_values({"name": name, "description": description, "voltage_standard": voltage_standard,
-                           "phase_labels": phase_labels, "colour_set": colour_set,
-                           "label_review_years": label_review_years, "thresholds": thresholds or {}}, problems)
+    values = _site_values(
+        {
+            "name": name,
+            "description": description,
+            "voltage_standard": voltage_standard,
+            "phase_labels": phase_labels,
+            "colour_set": colour_set,
+            "label_review_years": label_review_years,
+            "thresholds": thresholds or {},
+        },
+        problems,
+    )
     if problems:
         raise ValidationError(problems)
     now = utc_now()
@@ -116,8 +137,13 @@ def _board_values(fields: dict, problems: list) -> dict:
     for k, v in fields.items():
         if k not in BOARD_FIELDS:
             problems.append((k, "unknown board field"))
-        elif k in ("nominal_v", "frequency_hz", "af_incident_energy_cal_cm2", "af_working_distance_mm",
-                   "af_boundary_mm"):
+        elif k in (
+            "nominal_v",
+            "frequency_hz",
+            "af_incident_energy_cal_cm2",
+            "af_working_distance_mm",
+            "af_boundary_mm",
+        ):
             x = number(v, k, problems)
             if x is not NO_NUMBER:
                 out[k] = x
@@ -135,6 +161,7 @@ def _board_values(fields: dict, problems: list) -> dict:
             text = clean_text(v, k, problems, limit=10)
             if text:
                 import datetime as _dt
+
                 try:
                     _dt.date.fromisoformat(text)
                 except ValueError:
@@ -173,8 +200,12 @@ def get_board(db, board_id) -> dict:
 
 
 def find_board(db, site_id, name) -> dict | None:
-    rows = list(db.query("SELECT * FROM board WHERE site_id = ? AND name = ? AND joined_into IS NULL ORDER BY id "
-                         "LIMIT 1", [site_id, name]))
+    rows = list(
+        db.query(
+            "SELECT * FROM board WHERE site_id = ? AND name = ? AND joined_into IS NULL ORDER BY id LIMIT 1",
+            [site_id, name],
+        )
+    )
     return rows[0] if rows else None
 
 
@@ -190,8 +221,7 @@ def board_colour_set(board: dict, site: dict) -> str:
 
 def list_boards(db, site_id) -> list[dict]:
     """The site's boards that stand on its own (joined ones are shown as the board they were joined into)."""
-    return list(db.query("SELECT * FROM board WHERE site_id = ? AND joined_into IS NULL ORDER BY name, id",
-                         [site_id]))
+    return list(db.query("SELECT * FROM board WHERE site_id = ? AND joined_into IS NULL ORDER BY name, id", [site_id]))
 
 
 # ---- identity: same names under two ids (joins: settings_history.py) -----------
@@ -200,8 +230,10 @@ def list_boards(db, site_id) -> list[dict]:
 def same_name_sites(db) -> list[list[dict]]:
     """Sites that stand on their own and share a name: each group's rows, by id."""
     out: dict = {}
-    for s in db.query("SELECT * FROM site WHERE joined_into IS NULL AND name IN (SELECT name FROM site WHERE "
-                      "joined_into IS NULL GROUP BY name HAVING COUNT(*) > 1) ORDER BY name, id"):
+    for s in db.query(
+        "SELECT * FROM site WHERE joined_into IS NULL AND name IN (SELECT name FROM site WHERE "
+        "joined_into IS NULL GROUP BY name HAVING COUNT(*) > 1) ORDER BY name, id"
+    ):
         out.setdefault(s["name"], []).append(s)
     return list(out.values())
 
@@ -209,9 +241,11 @@ def same_name_sites(db) -> list[list[dict]]:
 def same_name_boards(db) -> list[list[dict]]:
     """Boards of one site (as shown) that stand on their own and share a name, with ``site_name``."""
     out: dict = {}
-    for b in db.query("SELECT b.*, s.name AS site_name FROM board b JOIN site s ON s.id = b.site_id "
-                      "WHERE b.joined_into IS NULL AND EXISTS (SELECT 1 FROM board o WHERE o.site_id = b.site_id "
-                      "AND o.name = b.name AND o.id <> b.id AND o.joined_into IS NULL) ORDER BY s.name, b.name, b.id"):
+    for b in db.query(
+        "SELECT b.*, s.name AS site_name FROM board b JOIN site s ON s.id = b.site_id "
+        "WHERE b.joined_into IS NULL AND EXISTS (SELECT 1 FROM board o WHERE o.site_id = b.site_id "
+        "AND o.name = b.name AND o.id <> b.id AND o.joined_into IS NULL) ORDER BY s.name, b.name, b.id"
+    ):
         out.setdefault((b["site_id"], b["name"]), []).append(b)
     return list(out.values())
 
@@ -232,5 +266,7 @@ def site_summary(db, site_id: str) -> str:
         "SELECT (SELECT COUNT(*) FROM board WHERE site_id = :s AND joined_into IS NULL), "
         "(SELECT COUNT(*) FROM reading_current r JOIN board b ON b.id = r.board_id WHERE b.site_id = :s "
         " AND r.void = 0), "
-        "(SELECT created_at FROM site WHERE id = :s)", {"s": site_id}).fetchone()
+        "(SELECT created_at FROM site WHERE id = :s)",
+        {"s": site_id},
+    ).fetchone()
     return f"{row[0]} board(s), {row[1]} reading(s), created {local_text(row[2])}"

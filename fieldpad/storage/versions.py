@@ -11,6 +11,7 @@ laptop computes the same way from the same rows (the views ``reading_head`` and 
 schema 0004).  Two versions that supersede the same one (two laptops changed it) leave two heads: a
 *conflict*, flagged in history, day review and report until a supervisor settles it with a new version
 that supersedes every head (:func:`settle_reading`)."""
+
 from __future__ import annotations
 
 import json
@@ -50,17 +51,21 @@ def _reading_row(inputs: dict, board: dict) -> tuple[dict, list]:
 
 def _board_for_reading(db, board_id) -> dict:
     # Straight through sqlite3 (on the path of every save; sqlite-utils' query() parses the SQL first).
-    cur = db.conn.execute("SELECT b.*, COALESCE(b.voltage_standard, s.voltage_standard) AS _standard "
-                          "FROM board b JOIN site s ON s.id = b.site_id "
-                          "WHERE b.id = ?", [board_id])
+    cur = db.conn.execute(
+        "SELECT b.*, COALESCE(b.voltage_standard, s.voltage_standard) AS _standard "
+        "FROM board b JOIN site s ON s.id = b.site_id "
+        "WHERE b.id = ?",
+        [board_id],
+    )
     row = cur.fetchone()
     if row is None:
         raise StorageError(f"no board {board_id}")
     return dict(zip([d[0] for d in cur.description], row))
 
 
-def save_reading(db, board_id, inputs: dict, *, technician=None, instrument=None, note=None, round_id=None,
-                 taken_at=None) -> SavedReading:
+def save_reading(
+    db, board_id, inputs: dict, *, technician=None, instrument=None, note=None, round_id=None, taken_at=None
+) -> SavedReading:
     """Validate and store a new reading (version 1); committed on return.
 
     Raises
@@ -79,11 +84,27 @@ def save_reading(db, board_id, inputs: dict, *, technician=None, instrument=None
     now = utc_now()
     vid = uuid7()
     with write(db):
-        insert(db, "reading", {
-            "id": vid, "reading_id": vid, "version": 1, "supersedes": None, "board_id": board_id,
-            "round_id": round_id, "taken_at": taken_at or now, "technician": technician, "instrument": instrument,
-            "note": note, "void": 0, "reason": None, "recorded_at": now, "recorded_by": technician, **row,
-        })
+        insert(
+            db,
+            "reading",
+            {
+                "id": vid,
+                "reading_id": vid,
+                "version": 1,
+                "supersedes": None,
+                "board_id": board_id,
+                "round_id": round_id,
+                "taken_at": taken_at or now,
+                "technician": technician,
+                "instrument": instrument,
+                "note": note,
+                "void": 0,
+                "reason": None,
+                "recorded_at": now,
+                "recorded_by": technician,
+                **row,
+            },
+        )
         db.execute("DELETE FROM draft WHERE board_id = ?", [board_id])
     return SavedReading(vid, vid, 1)
 
@@ -108,12 +129,23 @@ def correct_reading(db, reading_id, inputs: dict, *, reason, by=None, note=None,
         if problems or p2:
             raise ValidationError(problems + p2)
         vid = uuid7()
-        insert(db, "reading", {
-            **{k: cur[k] for k in ("reading_id", "board_id", "round_id", "technician", "instrument")},
-            "id": vid, "version": cur["version"] + 1, "supersedes": cur["id"],
-            "taken_at": taken_at or cur["taken_at"], "note": note if note is not None else cur["note"],
-            "void": 0, "reason": reason, "recorded_at": stamp_after(cur["recorded_at"]), "recorded_by": by, **row,
-        })
+        insert(
+            db,
+            "reading",
+            {
+                **{k: cur[k] for k in ("reading_id", "board_id", "round_id", "technician", "instrument")},
+                "id": vid,
+                "version": cur["version"] + 1,
+                "supersedes": cur["id"],
+                "taken_at": taken_at or cur["taken_at"],
+                "note": note if note is not None else cur["note"],
+                "void": 0,
+                "reason": reason,
+                "recorded_at": stamp_after(cur["recorded_at"]),
+                "recorded_by": by,
+                **row,
+            },
+        )
         return SavedReading(vid, reading_id, cur["version"] + 1)
 
 
@@ -127,16 +159,28 @@ def void_reading(db, reading_id, *, reason, by=None) -> SavedReading:
     with write(db):
         cur = current_version(db, reading_id)
         vid = uuid7()
-        insert(db, "reading", {**cur, "id": vid, "version": cur["version"] + 1, "supersedes": cur["id"],
-                              "void": 1, "reason": reason, "recorded_at": stamp_after(cur["recorded_at"]),
-                              "recorded_by": by})
+        insert(
+            db,
+            "reading",
+            {
+                **cur,
+                "id": vid,
+                "version": cur["version"] + 1,
+                "supersedes": cur["id"],
+                "void": 1,
+                "reason": reason,
+                "recorded_at": stamp_after(cur["recorded_at"]),
+                "recorded_by": by,
+            },
+        )
         return SavedReading(vid, reading_id, cur["version"] + 1)
 
 
 def heads(db, reading_id) -> list[dict]:
     """The versions of a reading that no other supersedes, the current one first."""
-    return list(db.query("SELECT * FROM reading_head WHERE reading_id = ? ORDER BY recorded_at DESC, id DESC",
-                         [reading_id]))
+    return list(
+        db.query("SELECT * FROM reading_head WHERE reading_id = ? ORDER BY recorded_at DESC, id DESC", [reading_id])
+    )
 
 
 def conflicts(db, reading_ids=None) -> dict[str, list[str]]:
@@ -146,18 +190,24 @@ def conflicts(db, reading_ids=None) -> dict[str, list[str]]:
         forked = sorted(set(reading_ids))  # a day's export: each reading's heads through the indexes
     else:
         # Only a version superseded twice can leave two heads: look there (the supersedes index).
-        forked = [r[0] for r in db.conn.execute(
-            "SELECT DISTINCT f.reading_id FROM reading f WHERE f.supersedes IN (SELECT supersedes FROM reading "
-            "WHERE supersedes IS NOT NULL GROUP BY supersedes HAVING COUNT(*) > 1)")]
+        forked = [
+            r[0]
+            for r in db.conn.execute(
+                "SELECT DISTINCT f.reading_id FROM reading f WHERE f.supersedes IN (SELECT supersedes FROM reading "
+                "WHERE supersedes IS NOT NULL GROUP BY supersedes HAVING COUNT(*) > 1)"
+            )
+        ]
         if reading_ids is not None:
             wanted = set(reading_ids)
             forked = [r for r in forked if r in wanted]
     out: dict = {}
     for k in range(0, len(forked), 500):
-        part = forked[k:k + 500]
+        part = forked[k : k + 500]
         for rid, vid in db.conn.execute(
-                f"SELECT reading_id, id FROM reading_head WHERE reading_id IN ({', '.join('?' * len(part))}) "
-                "ORDER BY reading_id, recorded_at DESC, id DESC", part):
+            f"SELECT reading_id, id FROM reading_head WHERE reading_id IN ({', '.join('?' * len(part))}) "
+            "ORDER BY reading_id, recorded_at DESC, id DESC",
+            part,
+        ):
             out.setdefault(rid, []).append(vid)
     return {rid: vids for rid, vids in out.items() if len(vids) > 1}
 
@@ -180,29 +230,44 @@ def settle_reading(db, reading_id, keep_version_id, *, reason, by=None) -> Saved
         if not tops:
             raise StorageError(f"no reading {reading_id}")
         if len(tops) < 2:
-            raise StorageError(f"reading {reading_id} has no competing versions: nothing to settle "
-                               "(a correction is an ordinary new version)")
+            raise StorageError(
+                f"reading {reading_id} has no competing versions: nothing to settle "
+                "(a correction is an ordinary new version)"
+            )
         keep = list(db.query("SELECT * FROM reading WHERE id = ? AND reading_id = ?", [keep_version_id, reading_id]))
         if not keep:
-            raise StorageError(f"reading {reading_id} has no version {keep_version_id}; its competing versions: "
-                               + ", ".join(h["id"] for h in tops))
+            raise StorageError(
+                f"reading {reading_id} has no version {keep_version_id}; its competing versions: "
+                + ", ".join(h["id"] for h in tops)
+            )
         first = next((h for h in tops if h["id"] == keep_version_id), tops[0])
         vid = uuid7()
         now = stamp_after(max(h["recorded_at"] for h in tops))
-        insert(db, "reading", {**keep[0], "id": vid, "version": max(h["version"] for h in tops) + 1,
-                               "supersedes": first["id"], "reason": reason, "recorded_at": now, "recorded_by": by})
+        insert(
+            db,
+            "reading",
+            {
+                **keep[0],
+                "id": vid,
+                "version": max(h["version"] for h in tops) + 1,
+                "supersedes": first["id"],
+                "reason": reason,
+                "recorded_at": now,
+                "recorded_by": by,
+            },
+        )
         for h in tops:
             if h["id"] != first["id"]:
-                insert(db, "version_parent", {"id": uuid7(), "version_id": vid, "parent_id": h["id"],
-                                              "recorded_at": now})
+                insert(
+                    db, "version_parent", {"id": uuid7(), "version_id": vid, "parent_id": h["id"], "recorded_at": now}
+                )
         return SavedReading(vid, reading_id, max(h["version"] for h in tops) + 1)
 
 
 def history(db, reading_id) -> list[dict]:
     """Every version of a reading, oldest first, each with ``is_current``, ``is_head`` and ``competing``
     (another version supersedes the same one: two laptops changed it)."""
-    rows = list(db.query("SELECT * FROM reading WHERE reading_id = ? ORDER BY version, recorded_at, id",
-                         [reading_id]))
+    rows = list(db.query("SELECT * FROM reading WHERE reading_id = ? ORDER BY version, recorded_at, id", [reading_id]))
     tops = [h["id"] for h in heads(db, reading_id)]
     parents: dict = {}
     for r in rows:
@@ -217,22 +282,30 @@ def history(db, reading_id) -> list[dict]:
 
 def board_history(db, board_id, limit=50) -> list[dict]:
     """The current version of the board's last ``limit`` readings, newest first (voids included)."""
-    return list(db.query(
-        "SELECT * FROM reading_current WHERE board_id IN (SELECT id FROM board WHERE id = :b OR joined_into = :b) "
-        "ORDER BY taken_at DESC LIMIT :n", {"b": board_id, "n": limit}))
+    return list(
+        db.query(
+            "SELECT * FROM reading_current WHERE board_id IN (SELECT id FROM board WHERE id = :b OR joined_into = :b) "
+            "ORDER BY taken_at DESC LIMIT :n",
+            {"b": board_id, "n": limit},
+        )
+    )
 
 
 def previous_reading(db, board_id, before_reading_id=None) -> dict | None:
     """The latest current, non-void reading of the board (other than ``before_reading_id``)."""
-    rows = list(db.query(
-        "SELECT * FROM reading_current WHERE board_id IN (SELECT id FROM board WHERE id = :b OR joined_into = :b) "
-        "AND void = 0 AND reading_id IS NOT :r ORDER BY taken_at DESC LIMIT 1",
-        {"b": board_id, "r": before_reading_id}))
+    rows = list(
+        db.query(
+            "SELECT * FROM reading_current WHERE board_id IN (SELECT id FROM board WHERE id = :b OR joined_into = :b) "
+            "AND void = 0 AND reading_id IS NOT :r ORDER BY taken_at DESC LIMIT 1",
+            {"b": board_id, "r": before_reading_id},
+        )
+    )
     return rows[0] if rows else None
 
 
-def current_readings(db, *, day_start_utc=None, day_end_utc=None, site_id=None, round_id=None,
-                     include_void=False) -> list[dict]:
+def current_readings(
+    db, *, day_start_utc=None, day_end_utc=None, site_id=None, round_id=None, include_void=False
+) -> list[dict]:
     """Current versions joined with board and site, ordered by site, board and time."""
     where, params = [], {}
     if day_start_utc:
@@ -248,14 +321,16 @@ def current_readings(db, *, day_start_utc=None, day_end_utc=None, site_id=None, 
         where.append("r.void = 0")
     # A reading of a board joined into another is shown as that board's (b), on its site (board.site_id is
     # already the site shown).
-    sql = ("SELECT r.*, b.id AS shown_board_id, b.name AS board_name, b.site_id AS site_id, s.name AS site_name, "
-           "s.phase_labels AS phase_labels, s.thresholds_json AS thresholds_json, "
-           "ro.label AS round_label "
-           "FROM reading_current r JOIN board b0 ON b0.id = r.board_id "
-           "JOIN board b ON b.id = COALESCE(b0.joined_into, b0.id) JOIN site s ON s.id = b.site_id "
-           "LEFT JOIN round ro ON ro.id = r.round_id"
-           + (" WHERE " + " AND ".join(where) if where else "")
-           + " ORDER BY s.name, s.id, b.name, b.id, r.taken_at, r.id")
+    sql = (
+        "SELECT r.*, b.id AS shown_board_id, b.name AS board_name, b.site_id AS site_id, s.name AS site_name, "
+        "s.phase_labels AS phase_labels, s.thresholds_json AS thresholds_json, "
+        "ro.label AS round_label "
+        "FROM reading_current r JOIN board b0 ON b0.id = r.board_id "
+        "JOIN board b ON b.id = COALESCE(b0.joined_into, b0.id) JOIN site s ON s.id = b.site_id "
+        "LEFT JOIN round ro ON ro.id = r.round_id"
+        + (" WHERE " + " AND ".join(where) if where else "")
+        + " ORDER BY s.name, s.id, b.name, b.id, r.taken_at, r.id"
+    )
     return list(db.query(sql, params))
 
 
@@ -275,6 +350,8 @@ def reading_days(db, site_id) -> list[str]:
     """Local calendar days (YYYY-MM-DD) with current readings at the site, newest first."""
     from .ids import local_text
 
-    rows = db.query("SELECT r.taken_at FROM reading_current r JOIN board b ON b.id = r.board_id "
-                    "WHERE b.site_id = ? AND r.void = 0", [site_id])
+    rows = db.query(
+        "SELECT r.taken_at FROM reading_current r JOIN board b ON b.id = r.board_id WHERE b.site_id = ? AND r.void = 0",
+        [site_id],
+    )
     return sorted({local_text(r["taken_at"], "%Y-%m-%d") for r in rows}, reverse=True)

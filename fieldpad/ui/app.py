@@ -1,4 +1,5 @@
 """The fieldpad Textual app: one App, screens in their own modules, styles in fieldpad.tcss."""
+
 from __future__ import annotations
 
 import asyncio
@@ -22,8 +23,9 @@ class FieldpadApp(App):
     TITLE = "fieldpad"
     ENABLE_COMMAND_PALETTE = True
 
-    def __init__(self, db_path, *, technician: str | None = None, note: str | None = None,
-                 server: str | None = None) -> None:
+    def __init__(
+        self, db_path, *, technician: str | None = None, note: str | None = None, server: str | None = None
+    ) -> None:
         super().__init__()
         #: The crew's central server (a libpq URI), if any: ``--server`` or ``$FIELDPAD_SERVER``.
         self.server = server or os.environ.get("FIELDPAD_SERVER") or None
@@ -58,14 +60,18 @@ class FieldpadApp(App):
             with contextlib.suppress(NotImplementedError, RuntimeError, ValueError):
                 loop.add_signal_handler(sig, self._hang_up)
         if self.db.read_only:
-            self.notify(f"READ-ONLY: this database cannot be written because {self.db.read_only_reason}. "
-                        "Everything can be looked at and exported; nothing new can be saved here.",
-                        severity="warning", timeout=10)
+            self.notify(
+                f"READ-ONLY: this database cannot be written because {self.db.read_only_reason}. "
+                "Everything can be looked at and exported; nothing new can be saved here.",
+                severity="warning",
+                timeout=10,
+            )
         known = sites.list_sites(self.db)
         if known:
             self._open_site(known[0]["id"])
         else:
             from .forms import SiteForm
+
             self.push_screen(SiteForm(), self._first_site)
         if self.start_note:
             self.notify(self.start_note, timeout=6)
@@ -78,6 +84,7 @@ class FieldpadApp(App):
 
     def _open_site(self, site_id: str) -> None:
         from .boards import BoardList
+
         self.site_id = site_id
         open_rounds = [r for r in rounds.list_rounds(self.db, site_id) if not r["finished_at"]]
         self.round_id = open_rounds[0]["id"] if open_rounds else None
@@ -86,23 +93,33 @@ class FieldpadApp(App):
     # ---- screens ask for screens (ui/messages.py); only the app knows them all --------------
     def on_open_sheet(self, message: OpenSheet) -> None:
         from .sheet import ReadingSheet
-        self.push_screen(ReadingSheet(message.board_id, round_id=None if message.correcting else self.round_id,
-                                      correcting=message.correcting, technician=self.technician))
+
+        self.push_screen(
+            ReadingSheet(
+                message.board_id,
+                round_id=None if message.correcting else self.round_id,
+                correcting=message.correcting,
+                technician=self.technician,
+            )
+        )
 
     def on_open_history(self, message: OpenHistory) -> None:
         from .history import BoardHistory
+
         self.push_screen(BoardHistory(message.board_id))
 
     def on_open_day_review(self, message: OpenDayReview) -> None:
         from .review import DayReview
+
         self.push_screen(DayReview())
 
     def get_system_commands(self, screen):
         yield from super().get_system_commands(screen)
         for binding in getattr(screen, "BINDINGS", []):
             if binding.show and binding.description:
-                yield SystemCommand(binding.description, f"key {binding.key}",
-                                    lambda b=binding: self.run_action(b.action, screen))
+                yield SystemCommand(
+                    binding.description, f"key {binding.key}", lambda b=binding: self.run_action(b.action, screen)
+                )
 
     # ---- leaving: nothing typed is lost -------------------------------------------------
     def _unsaved_sheets(self):
@@ -116,12 +133,17 @@ class FieldpadApp(App):
             return
         kept = all([s.flush_draft() for s in sheets])
         from .dialogs import Ask
+
         if kept:
-            question = ("Quit fieldpad? What is typed on the sheet is NOT saved as a reading; it is kept "
-                        "as a draft and offered back when you open the board again. (y/n)")
+            question = (
+                "Quit fieldpad? What is typed on the sheet is NOT saved as a reading; it is kept "
+                "as a draft and offered back when you open the board again. (y/n)"
+            )
         else:
-            question = ("Quit fieldpad and LOSE what is typed? It is not saved, and it could not be kept as a "
-                        "draft (see the status line). (y/n)")
+            question = (
+                "Quit fieldpad and LOSE what is typed? It is not saved, and it could not be kept as a "
+                "draft (see the status line). (y/n)"
+            )
         self.push_screen(Ask(question), lambda yes: self.exit() if yes else None)
 
     def _hang_up(self) -> None:
@@ -157,6 +179,7 @@ def run_app(db_arg, demo: bool = False, technician: str | None = None, server: s
         note = f"DEMO site (invented data) in {path}: your own database is not touched."
     else:
         from ..storage.db import resolve_path
+
         path = resolve_path(db_arg)
     app = FieldpadApp(path, note=note, technician=technician, server=server)
     app.run()

@@ -1,4 +1,5 @@
 """The board list (home screen); the site and board forms it opens are ``forms.py``."""
+
 from __future__ import annotations
 
 import re
@@ -71,9 +72,12 @@ class BoardList(Screen):
         t.add_column("system", key="system", width=8)
         for name in ("V", "last reading", "round"):
             t.add_column(name, key=name)
-        self.query_one("#home-caution", Static).update(Text(
-            "⚠ Energised equipment: qualified persons, permit, PPE per each arc-flash label. "
-            "Local codes govern. fieldpad never shows that equipment is safe."))
+        self.query_one("#home-caution", Static).update(
+            Text(
+                "⚠ Energised equipment: qualified persons, permit, PPE per each arc-flash label. "
+                "Local codes govern. fieldpad never shows that equipment is safe."
+            )
+        )
         t.focus()  # the rows are filled when the screen becomes current (on_screen_resume)
 
     def on_screen_resume(self) -> None:
@@ -107,10 +111,16 @@ class BoardList(Screen):
             last = versions.previous_reading(app.db, b["id"])
             latest.append(last)
             twin = sum(o["name"] == b["name"] for o in self.boards) > 1  # one from each laptop: told apart by id
-            t.add_row(printable(b["name"]) + (f" (id {b['id'][:13]}…)" if twin else ""), "",
-                      printable(b["location"]), SYSTEM_SHORT[b["system"]],
-                      f"{b['nominal_v']:g}" if b["nominal_v"] else "", local_text(last["taken_at"]) if last else "—",
-                      "✔ done" if b["id"] in read_in_round else ("to do" if rnd else ""), key=b["id"])
+            t.add_row(
+                printable(b["name"]) + (f" (id {b['id'][:13]}…)" if twin else ""),
+                "",
+                printable(b["location"]),
+                SYSTEM_SHORT[b["system"]],
+                f"{b['nominal_v']:g}" if b["nominal_v"] else "",
+                local_text(last["taken_at"]) if last else "—",
+                "✔ done" if b["id"] in read_in_round else ("to do" if rnd else ""),
+                key=b["id"],
+            )
         keys = [b["id"] for b in self.boards]
         if keep in keys:
             t.move_cursor(row=keys.index(keep), animate=False)
@@ -130,19 +140,24 @@ class BoardList(Screen):
         rows = [(b["id"], r) for b, r in zip(self.boards, latest) if r is not None]
         if rows:
             self._marks_for = tuple(r["id"] for _, r in rows)
-            self.run_worker(lambda: self._compute_marks(site, rows, self._marks_for), thread=True,
-                            exclusive=True, group="marks")
+            self.run_worker(
+                lambda: self._compute_marks(site, rows, self._marks_for), thread=True, exclusive=True, group="marks"
+            )
 
     def _compute_marks(self, site: dict, rows: list, token: tuple) -> None:
         from ..report.export import analyze_rows
 
-        results = analyze_rows([{**r, "thresholds_json": site["thresholds_json"],
-                                 "phase_labels": site["phase_labels"]} for _, r in rows])
+        results = analyze_rows(
+            [{**r, "thresholds_json": site["thresholds_json"], "phase_labels": site["phase_labels"]} for _, r in rows]
+        )
         marks = {}
         for (bid, _), res in zip(rows, results):
             sev = {f["severity"] for f in res["findings"]}
-            marks[bid] = ("▲ ALARM", f"bold {ALARM}") if "alarm" in sev else (
-                ("△ WARN", f"bold {WARN}") if "warning" in sev else ("", ""))
+            marks[bid] = (
+                ("▲ ALARM", f"bold {ALARM}")
+                if "alarm" in sev
+                else (("△ WARN", f"bold {WARN}") if "warning" in sev else ("", ""))
+            )
         self.app.call_from_thread(self._show_marks, marks, token)
 
     def _show_marks(self, marks: dict, token: tuple) -> None:
@@ -172,10 +187,13 @@ class BoardList(Screen):
         t = Text("Server: ", "bold")
         t.append(f"last sync {local_text(last['synced_at'], '%m-%d %H:%M')}" if last else "never synced")
         if waiting is None:
-            waiting = app.db.conn.execute("SELECT COUNT(*) FROM reading WHERE recorded_by IS ?",
-                                          [app.technician]).fetchone()[0]
-        t.append(f" · {waiting} version(s) of yours wait" if waiting else " · nothing of yours waits",
-                 f"bold {WARN}" if waiting else "")
+            waiting = app.db.conn.execute(
+                "SELECT COUNT(*) FROM reading WHERE recorded_by IS ?", [app.technician]
+            ).fetchone()[0]
+        t.append(
+            f" · {waiting} version(s) of yours wait" if waiting else " · nothing of yours waits",
+            f"bold {WARN}" if waiting else "",
+        )
         t.append(" · y: sync now" if not getattr(self, "_syncing", False) else " · syncing…")
         if note is not None:
             t.append(" · ")
@@ -185,8 +203,11 @@ class BoardList(Screen):
     def action_sync(self) -> None:
         app = self.app
         if not app.server:
-            self.notify("No server set: start fieldpad with --server URL, or set FIELDPAD_SERVER. Everything "
-                        "stays on this laptop meanwhile.", timeout=8)
+            self.notify(
+                "No server set: start fieldpad with --server URL, or set FIELDPAD_SERVER. Everything "
+                "stays on this laptop meanwhile.",
+                timeout=8,
+            )
             return
         if getattr(self, "_syncing", False):
             self.notify("A sync is already running.")
@@ -215,9 +236,11 @@ class BoardList(Screen):
             note = Text("last try failed: nothing lost, try again later", f"bold {WARN}")
         else:
             sent, got = sum(rep.sent.values()), sum(rep.received.values())
-            self.notify(f"Synced with the server as {printable(rep.role)}: sent {sent} row(s), received {got}."
-                        + (f" {rep.not_mine} version(s) recorded by others are theirs to send." if rep.not_mine
-                           else ""), timeout=8)
+            self.notify(
+                f"Synced with the server as {printable(rep.role)}: sent {sent} row(s), received {got}."
+                + (f" {rep.not_mine} version(s) recorded by others are theirs to send." if rep.not_mine else ""),
+                timeout=8,
+            )
             note = None
         if self.is_attached and self.app.screen is self:
             self.reload()
@@ -271,8 +294,10 @@ class BoardList(Screen):
     def action_jump(self) -> None:
         from .dialogs import AskText
 
-        self.app.push_screen(AskText("Go to the board whose name begins with (or contains):", required=False),
-                             lambda text: self._go_to(text) if text else None)
+        self.app.push_screen(
+            AskText("Go to the board whose name begins with (or contains):", required=False),
+            lambda text: self._go_to(text) if text else None,
+        )
 
     def action_first(self) -> None:
         self.query_one(DataTable).move_cursor(row=0, animate=False)
@@ -315,12 +340,15 @@ class BoardList(Screen):
             if unread:
                 from .dialogs import Ask
 
-                shown = ", ".join(printable(n) for n in unread[:12]) + (f" and {len(unread) - 12} more"
-                                                                         if len(unread) > 12 else "")
-                self.app.push_screen(Ask(f"{len(unread)} board(s) NOT read in this round: {shown}.\n"
-                                         "Finish the round anyway? (y/n)"),
-                                     lambda yes: self._round(True) if yes else self.notify(
-                                         "Round still open: the unread boards show 'to do'."))
+                shown = ", ".join(printable(n) for n in unread[:12]) + (
+                    f" and {len(unread) - 12} more" if len(unread) > 12 else ""
+                )
+                self.app.push_screen(
+                    Ask(f"{len(unread)} board(s) NOT read in this round: {shown}.\nFinish the round anyway? (y/n)"),
+                    lambda yes: (
+                        self._round(True) if yes else self.notify("Round still open: the unread boards show 'to do'.")
+                    ),
+                )
                 return
         self._round()
 
@@ -336,8 +364,11 @@ class BoardList(Screen):
                 self._ask_round_name()
                 return
         except StorageError as e:
-            self.notify(f"NOT SAVED: the round was not {'finished' if app.round_id else 'started'}: {e}",
-                        severity="error", timeout=12)
+            self.notify(
+                f"NOT SAVED: the round was not {'finished' if app.round_id else 'started'}: {e}",
+                severity="error",
+                timeout=12,
+            )
         self.reload()
 
     def _ask_round_name(self) -> None:
@@ -346,8 +377,11 @@ class BoardList(Screen):
 
         app = self.app
         if app.db.read_only:  # say so now, not after a name has been typed
-            self.notify(f"NOT SAVED: the round was not started: the database is read-only "
-                        f"({app.db.read_only_reason})", severity="error", timeout=12)
+            self.notify(
+                f"NOT SAVED: the round was not started: the database is read-only ({app.db.read_only_reason})",
+                severity="error",
+                timeout=12,
+            )
             return
         suggested = rounds.default_label(app.db, app.site_id)
 
@@ -360,8 +394,15 @@ class BoardList(Screen):
             except StorageError as e:
                 self.notify(f"NOT SAVED: the round was not started: {e}", severity="error", timeout=12)
             self.reload()
-        app.push_screen(AskText(f"Start a round: type its name or purpose.\nEnter alone calls it: "
-                                f"{markup_safe(suggested)}", placeholder=suggested, required=False), named)
+
+        app.push_screen(
+            AskText(
+                f"Start a round: type its name or purpose.\nEnter alone calls it: {markup_safe(suggested)}",
+                placeholder=suggested,
+                required=False,
+            ),
+            named,
+        )
 
     def action_sites(self) -> None:
         def chosen(sid):
@@ -369,6 +410,7 @@ class BoardList(Screen):
                 self.app.site_id = sid
                 self.app.round_id = None
                 self.reload()
+
         self.app.push_screen(SitePicker(), chosen)
 
     def action_review(self) -> None:
@@ -376,5 +418,5 @@ class BoardList(Screen):
 
     def action_help(self) -> None:
         from .dialogs import help_page
-        self.app.push_screen(help_page())
 
+        self.app.push_screen(help_page())

@@ -1,4 +1,5 @@
 """Small modal screens: yes/no question, a reason to type, the help page, a text page."""
+
 from __future__ import annotations
 
 from textual.app import ComposeResult
@@ -73,8 +74,11 @@ Esc to close.
 class Ask(ModalScreen[bool]):
     """A yes/no question."""
 
-    BINDINGS = [Binding("y", "answer(True)", "Yes"), Binding("n", "answer(False)", "No"),
-                Binding("escape", "answer(False)", "No")]
+    BINDINGS = [
+        Binding("y", "answer(True)", "Yes"),
+        Binding("n", "answer(False)", "No"),
+        Binding("escape", "answer(False)", "No"),
+    ]
 
     def __init__(self, question: str) -> None:
         super().__init__()

@@ -12,6 +12,7 @@ reference angle (VA°, or Vab° line-to-line) is skipped by Tab, Shift+Tab and
 Enter: left blank it is 0° by the one rule of ``core.reference``; the arrow
 keys still reach it.
 """
+
 from __future__ import annotations
 
 from rich.text import Text
@@ -48,8 +49,9 @@ class EntryGrid(Widget, can_focus=True):
         #: True while the cursor's cell was just entered: the next character replaces its value.
         self.fresh = True
 
-    def configure(self, cells: list[Cell], row_names: list[str], row_colours: list[str],
-                  values: dict | None = None) -> None:
+    def configure(
+        self, cells: list[Cell], row_names: list[str], row_colours: list[str], values: dict | None = None
+    ) -> None:
         self.cells = cells
         self.row_names = row_names
         self.row_colours = row_colours
@@ -185,7 +187,7 @@ class EntryGrid(Widget, can_focus=True):
                     continue
                 k, c = by_pos[(r, col)]
                 text = self.values.get(c.field, "")
-                shown = text if len(text) <= CELL_W - 1 else "…" + text[-(CELL_W - 2):]
+                shown = text if len(text) <= CELL_W - 1 else "…" + text[-(CELL_W - 2) :]
                 style = ""
                 if c.field in problems:
                     style = ON_ALARM

@@ -17,6 +17,7 @@ second, however fast the keys come.
 Only Textual's public handlers are used: ``on_key`` here runs before the
 ``Input``'s own key handling, which ``prevent_default()`` skips.
 """
+
 from __future__ import annotations
 
 from textual import events
@@ -24,9 +25,14 @@ from textual.widget import Widget
 from textual.widgets import Input
 
 #: Editing keys and the Input action each one runs (Textual's own key bindings for them).
-EDIT_ACTIONS = {"backspace": "action_delete_left", "delete": "action_delete_right",
-                "left": "action_cursor_left", "right": "action_cursor_right",
-                "home": "action_home", "end": "action_end"}
+EDIT_ACTIONS = {
+    "backspace": "action_delete_left",
+    "delete": "action_delete_right",
+    "left": "action_cursor_left",
+    "right": "action_cursor_right",
+    "home": "action_home",
+    "end": "action_end",
+}
 
 
 class TypingTargetScreen:

@@ -1,5 +1,6 @@
 """The site and board settings forms (F2 saves, what stopped a save said in place), the site picker, and
 what they offer: system types, voltage standards, phase colour sets, thresholds, lengths typed in inches."""
+
 from __future__ import annotations
 
 import json
@@ -23,8 +24,12 @@ from .safe import printable
 from .tables import selected_key
 
 #: How each system type of the core (``core.fields.SYSTEMS``) is offered in the board form.
-SYSTEM_LABELS = {"wye": "3-phase 4-wire wye", "delta": "3-phase 3-wire delta (line-to-line only)",
-                 "high-leg-delta": "4-wire high-leg delta", "split-phase": "120/240 V split-phase"}
+SYSTEM_LABELS = {
+    "wye": "3-phase 4-wire wye",
+    "delta": "3-phase 3-wire delta (line-to-line only)",
+    "high-leg-delta": "4-wire high-leg delta",
+    "split-phase": "120/240 V split-phase",
+}
 SYSTEM_CHOICES = [(SYSTEM_LABELS[code], code) for code in SYSTEMS]
 
 
@@ -58,13 +63,17 @@ class SettingsForm(TypingTargetScreen, ModalScreen[str | None]):
     AUTO_FOCUS = None  # on_mount focuses the name field and scrolls to the top
     # Not priority bindings: a priority binding runs before the keys typed just ahead of it reach the
     # field, so a fast "…0 F2" could save without the last characters.
-    BINDINGS = [Binding("f2", "save", "Save"), Binding("ctrl+s", "save", "Save", show=False),
-                Binding("escape", "cancel", "Cancel")]
+    BINDINGS = [
+        Binding("f2", "save", "Save"),
+        Binding("ctrl+s", "save", "Save", show=False),
+        Binding("escape", "cancel", "Cancel"),
+    ]
 
     def show_problems(self, error: StorageError) -> None:
         problems = getattr(error, "problems", None)
-        text = "NOT SAVED: " + ("; ".join(f"{self.label_of(f)}: {self.words(f, r)}" for f, r in problems)
-                                if problems else str(error))
+        text = "NOT SAVED: " + (
+            "; ".join(f"{self.label_of(f)}: {self.words(f, r)}" for f, r in problems) if problems else str(error)
+        )
         box = self.query_one("#form-error", Static)
         box.update(Text(text, f"bold {ALARM}"))
         box.scroll_visible()  # the form is taller than an 80x24 screen: bring the reason into view
@@ -89,16 +98,20 @@ class SettingsForm(TypingTargetScreen, ModalScreen[str | None]):
 class BoardForm(SettingsForm):
     """Create or edit a board, with its arc-flash label data."""
 
+    FIELDS = [
+        ("name", "Name / tag *"),
+        ("location", "Location"),
+        ("kind", "Kind (switchboard, panelboard, MCC…)"),
+        ("nominal_v", "Nominal voltage, line-to-line (V)"),
+        ("frequency_hz", "Frequency (Hz)"),
+        ("af_incident_energy_cal_cm2", "Arc-flash label: incident energy (cal/cm²)"),
+        ("af_working_distance_mm", "Label: working distance (mm, or inches: 18 in)"),
+        ("af_boundary_mm", "Label: arc-flash boundary (mm, or inches: 36 in)"),
+        ("af_ppe", "Label: PPE category, or 'none posted'"),
+        ("af_label_date", "Label date (YYYY-MM-DD)"),
+    ]
 
-    FIELDS = [("name", "Name / tag *"), ("location", "Location"), ("kind", "Kind (switchboard, panelboard, MCC…)"),
-              ("nominal_v", "Nominal voltage, line-to-line (V)"), ("frequency_hz", "Frequency (Hz)"),
-              ("af_incident_energy_cal_cm2", "Arc-flash label: incident energy (cal/cm²)"),
-              ("af_working_distance_mm", "Label: working distance (mm, or inches: 18 in)"),
-              ("af_boundary_mm", "Label: arc-flash boundary (mm, or inches: 36 in)"),
-              ("af_ppe", "Label: PPE category, or 'none posted'"), ("af_label_date", "Label date (YYYY-MM-DD)")]
-
-    LABELS = {**dict(FIELDS), "system": "System", "voltage_standard": "Voltage limits",
-              "colour_set": "Phase colours"}
+    LABELS = {**dict(FIELDS), "system": "System", "voltage_standard": "Voltage limits", "colour_set": "Phase colours"}
 
     def __init__(self, site_id: str, board_id: str | None = None) -> None:
         super().__init__()
@@ -114,14 +127,21 @@ class BoardForm(SettingsForm):
             for field, label in self.FIELDS:
                 yield Label(label)
                 v = board.get(field)
-                yield FieldInput(value="" if v is None else (f"{v:g}" if isinstance(v, float) else str(v)), id=field,
-                            compact=True)
+                yield FieldInput(
+                    value="" if v is None else (f"{v:g}" if isinstance(v, float) else str(v)), id=field, compact=True
+                )
             yield Label("Voltage limits for this board (overrides the site's)")
-            yield Select(BOARD_STANDARDS, value=board.get("voltage_standard") or "", allow_blank=False,
-                         id="voltage_standard", compact=True)
+            yield Select(
+                BOARD_STANDARDS,
+                value=board.get("voltage_standard") or "",
+                allow_blank=False,
+                id="voltage_standard",
+                compact=True,
+            )
             yield Label("Phase colours for this board (overrides the site's)")
-            yield Select(BOARD_COLOURS, value=board.get("colour_set") or "", allow_blank=False, id="colour_set",
-                         compact=True)
+            yield Select(
+                BOARD_COLOURS, value=board.get("colour_set") or "", allow_blank=False, id="colour_set", compact=True
+            )
             yield Static(id="form-error")
         yield KeyStrip()
 
@@ -147,15 +167,18 @@ class BoardForm(SettingsForm):
 
 
 STANDARD_CHOICES = [("ANSI C84.1 Range A / B", "ansi"), ("IEC 60038 ±10 %", "iec")]
-COLOUR_CHOICES = [("IEC 60445: brown, black, grey; blue neutral", "iec60445"),
-                  ("208Y/120: black, red, blue; white neutral", "na-208y120"),
-                  ("480Y/277: brown, orange, yellow; grey neutral", "na-480y277")]
+COLOUR_CHOICES = [
+    ("IEC 60445: brown, black, grey; blue neutral", "iec60445"),
+    ("208Y/120: black, red, blue; white neutral", "na-208y120"),
+    ("480Y/277: brown, orange, yellow; grey neutral", "na-480y277"),
+]
 BOARD_STANDARDS = [("as the site", "")] + STANDARD_CHOICES
 BOARD_COLOURS = [("as the site", "")] + COLOUR_CHOICES
 
 #: Threshold fields shown in the site form: (name, label).
 THRESHOLD_FIELDS = [
-    ("vuf_pct", "VUF warning above (%)"), ("lvur_pct", "NEMA unbalance: derate motors above (%)"),
+    ("vuf_pct", "VUF warning above (%)"),
+    ("lvur_pct", "NEMA unbalance: derate motors above (%)"),
     ("lvur_max_pct", "NEMA unbalance: motors not recommended above (%)"),
     ("iur_pct", "Current unbalance warning above (%)"),
     ("neutral_ratio", "Neutral / highest phase: warning above"),
@@ -169,10 +192,15 @@ THRESHOLD_FIELDS = [
 class SiteForm(SettingsForm):
     """Create a site, or edit its settings and its threshold overrides."""
 
-    LABELS = {"name": "Site name", "description": "Address or description",
-              "voltage_standard": "Voltage limits", "phase_labels": "Phase labels", "colour_set": "Phase colours",
-              "label_review_years": "Arc-flash label review interval (years)",
-              **{name: label for name, label in THRESHOLD_FIELDS}}
+    LABELS = {
+        "name": "Site name",
+        "description": "Address or description",
+        "voltage_standard": "Voltage limits",
+        "phase_labels": "Phase labels",
+        "colour_set": "Phase colours",
+        "label_review_years": "Arc-flash label review interval (years)",
+        **{name: label for name, label in THRESHOLD_FIELDS},
+    }
 
     def __init__(self, site_id: str | None = None) -> None:
         super().__init__()
@@ -189,23 +217,38 @@ class SiteForm(SettingsForm):
             yield Label("Address or description")
             yield FieldInput(value=site.get("description") or "", id="description")
             yield Label("Voltage limits for warnings")
-            yield Select(STANDARD_CHOICES,
-                         value=site.get("voltage_standard", "ansi"), allow_blank=False, id="voltage_standard",
-                         compact=True)
+            yield Select(
+                STANDARD_CHOICES,
+                value=site.get("voltage_standard", "ansi"),
+                allow_blank=False,
+                id="voltage_standard",
+                compact=True,
+            )
             yield Label("Phase labels")
-            yield Select([("A / B / C", "ABC"), ("L1 / L2 / L3", "L123")], value=site.get("phase_labels", "ABC"),
-                         allow_blank=False, id="phase_labels", compact=True)
+            yield Select(
+                [("A / B / C", "ABC"), ("L1 / L2 / L3", "L123")],
+                value=site.get("phase_labels", "ABC"),
+                allow_blank=False,
+                id="phase_labels",
+                compact=True,
+            )
             yield Label("Phase colours")
-            yield Select(COLOUR_CHOICES,
-                         value=site.get("colour_set", "iec60445"), allow_blank=False, id="colour_set", compact=True)
+            yield Select(
+                COLOUR_CHOICES,
+                value=site.get("colour_set", "iec60445"),
+                allow_blank=False,
+                id="colour_set",
+                compact=True,
+            )
             yield Label("Arc-flash label review interval (years)")
             yield FieldInput(value=f"{site.get('label_review_years', 5.0):g}", id="label_review_years")
             yield Static("[b]Thresholds[/b] (empty = the default shown, from the standard named in each finding)")
             for name, label in THRESHOLD_FIELDS:
                 yield Label(f"{label} — default {getattr(defaults, name):g}")
                 v = overrides.get(name)
-                yield FieldInput(value="" if v is None else f"{v:g}", placeholder=f"{getattr(defaults, name):g}",
-                                 id=f"th-{name}")
+                yield FieldInput(
+                    value="" if v is None else f"{v:g}", placeholder=f"{getattr(defaults, name):g}", id=f"th-{name}"
+                )
             yield Static(id="form-error")
         yield KeyStrip()
 
@@ -232,8 +275,11 @@ class SiteForm(SettingsForm):
 
 
 class SitePicker(ModalScreen[str | None]):
-    BINDINGS = [Binding("n", "new", "New site"), Binding("e", "edit", "Edit settings"),
-                Binding("escape", "cancel", "Cancel")]
+    BINDINGS = [
+        Binding("n", "new", "New site"),
+        Binding("e", "edit", "Edit settings"),
+        Binding("escape", "cancel", "Cancel"),
+    ]
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
@@ -248,8 +294,11 @@ class SitePicker(ModalScreen[str | None]):
         for s in listed:
             # Two sites of one name (one from each laptop): told apart by id, never mixed.
             twin = sum(o["name"] == s["name"] for o in listed) > 1
-            t.add_row(printable(s["name"]) + (f" (id {s['id'][:13]}…)" if twin else ""),
-                      str(len(sites.list_boards(self.app.db, s["id"]))), key=s["id"])
+            t.add_row(
+                printable(s["name"]) + (f" (id {s['id'][:13]}…)" if twin else ""),
+                str(len(sites.list_boards(self.app.db, s["id"]))),
+                key=s["id"],
+            )
         t.focus()
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:

@@ -1,4 +1,5 @@
 """A board's history: its readings (current versions), each one's versions, correct and void."""
+
 from __future__ import annotations
 
 from rich.text import Text
@@ -36,15 +37,18 @@ class BoardHistory(Screen):
     def compose(self) -> ComposeResult:
         yield Static(id="history-title")
         yield DataTable(id="history", cursor_type="row", zebra_stripes=True)
-        yield Static("Enter: all versions · c: correct · x: void (both keep the old version) · s: settle a conflict",
-                     id="history-hint")
+        yield Static(
+            "Enter: all versions · c: correct · x: void (both keep the old version) · s: settle a conflict",
+            id="history-hint",
+        )
         yield KeyStrip()
 
     def on_mount(self) -> None:
         board = sites.get_board(self.app.db, self.board_id)
         self.site = sites.get_site(self.app.db, board["site_id"])
         self.query_one("#history-title", Static).update(
-            Text(f"History of {printable(board['name'])} (last 50 readings, newest first)", "bold"))
+            Text(f"History of {printable(board['name'])} (last 50 readings, newest first)", "bold")
+        )
         table = self.query_one(DataTable)
         # The worst finding (or VOID and its reason) early: in view at 80 columns; who saved it last.
         table.add_columns("taken", "id", "ver", "worst finding", "VUF %", "NEMA %", "rot", "by")
@@ -56,8 +60,12 @@ class BoardHistory(Screen):
         table.clear()
         rows = versions.board_history(self.app.db, self.board_id, 50)
         self.rows = {r["reading_id"]: r for r in rows}
-        results = analyze_rows([{**r, "thresholds_json": self.site["thresholds_json"],
-                                 "phase_labels": self.site["phase_labels"]} for r in rows])
+        results = analyze_rows(
+            [
+                {**r, "thresholds_json": self.site["thresholds_json"], "phase_labels": self.site["phase_labels"]}
+                for r in rows
+            ]
+        )
         competing = versions.conflicts(self.app.db, {r["reading_id"] for r in rows})
         for r, res in zip(rows, results):
             worst = res["findings"][0] if res["findings"] else None
@@ -66,9 +74,17 @@ class BoardHistory(Screen):
                 worst_text = "VOID: " + printable(r["reason"])
             if r["reading_id"] in competing:  # two laptops changed the same version
                 worst_text = "⚠ CONFLICT (Enter: versions) " + worst_text
-            table.add_row(local_text(r["taken_at"]), short_id(r["reading_id"]), str(r["version"]), worst_text,
-                          _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "", printable(r["technician"]),
-                          key=r["reading_id"])
+            table.add_row(
+                local_text(r["taken_at"]),
+                short_id(r["reading_id"]),
+                str(r["version"]),
+                worst_text,
+                _f(res["vuf_pct"]),
+                _f(res["lvur_pct"]),
+                res["rotation"] or "",
+                printable(r["technician"]),
+                key=r["reading_id"],
+            )
         keys = [r["reading_id"] for r in rows]
         if keep in keys:
             table.move_cursor(row=keys.index(keep), animate=False)
@@ -87,15 +103,21 @@ class BoardHistory(Screen):
         every = versions.history(self.app.db, rid)
         forked = sum(x["is_head"] for x in every) > 1
         for v in every:
-            t.append(f"version {v['version']}  recorded {local_text(v['recorded_at'], '%Y-%m-%d %H:%M:%S')}"
-                     f" by {printable(v['recorded_by']) or '—'}"
-                     + (" ⚠ competing" + (" (shown)" if v["is_current"] else "")
-                        if v["is_head"] and forked else "") + "\n", "bold")
+            t.append(
+                f"version {v['version']}  recorded {local_text(v['recorded_at'], '%Y-%m-%d %H:%M:%S')}"
+                f" by {printable(v['recorded_by']) or '—'}"
+                + (" ⚠ competing" + (" (shown)" if v["is_current"] else "") if v["is_head"] and forked else "")
+                + "\n",
+                "bold",
+            )
             if v["reason"]:
                 t.append(f"  {'VOID' if v['void'] else 'reason'}: {printable(v['reason'])}\n")
             labels = sites.site_labels(self.site)
-            t.append("  " + ", ".join(f"{field_words(k, labels)} {printable(val)}" for k, val in
-                                      versions.inputs_of(v).items()) + "\n\n")
+            t.append(
+                "  "
+                + ", ".join(f"{field_words(k, labels)} {printable(val)}" for k, val in versions.inputs_of(v).items())
+                + "\n\n"
+            )
         self.app.push_screen(TextPage(t, "Every version of this reading (nothing is overwritten)"))
 
     def action_correct(self) -> None:
@@ -107,10 +129,13 @@ class BoardHistory(Screen):
         rid = self._selected()
         if rid:
             r = self.rows.get(rid, {})
-            what = (f"the reading of {local_text(r.get('taken_at'))} by {printable(r.get('technician')) or '—'} "
-                    f"(reading {short_id(rid)}, version {r.get('version')})")
-            self.app.push_screen(AskReason(f"Void {what}? Why? (it stays in the history)"),
-                                 lambda reason: self._void(rid, reason))
+            what = (
+                f"the reading of {local_text(r.get('taken_at'))} by {printable(r.get('technician')) or '—'} "
+                f"(reading {short_id(rid)}, version {r.get('version')})"
+            )
+            self.app.push_screen(
+                AskReason(f"Void {what}? Why? (it stays in the history)"), lambda reason: self._void(rid, reason)
+            )
 
     def _void(self, rid: str, reason: str | None) -> None:
         if reason:
@@ -133,7 +158,10 @@ class BoardHistory(Screen):
             return
         lines = "\n".join(
             f"{k}: v{v['version']} {local_text(v['recorded_at'])} by {printable(v['recorded_by']) or '—'}"
-            + (" VOID" if v["void"] else "") + f" — {printable(v['reason']) or ''}" for k, v in enumerate(tops, 1))
+            + (" VOID" if v["void"] else "")
+            + f" — {printable(v['reason']) or ''}"
+            for k, v in enumerate(tops, 1)
+        )
 
         def chosen(answer: str | None) -> None:
             if answer is None:
@@ -142,11 +170,14 @@ class BoardHistory(Screen):
                 self.notify(f"Give a number from 1 to {len(tops)}.", severity="warning")
                 return
             keep = tops[int(answer) - 1]["id"]
-            self.app.push_screen(AskReason("Why does this version stand? (every version is kept)"),
-                                 lambda reason: self._settle(rid, keep, reason))
+            self.app.push_screen(
+                AskReason("Why does this version stand? (every version is kept)"),
+                lambda reason: self._settle(rid, keep, reason),
+            )
 
-        self.app.push_screen(AskText(f"Competing versions of this reading:\n{lines}\nWhich one stands? (number)"),
-                             chosen)
+        self.app.push_screen(
+            AskText(f"Competing versions of this reading:\n{lines}\nWhich one stands? (number)"), chosen
+        )
 
     def _settle(self, rid: str, keep: str, reason: str | None) -> None:
         if reason:

@@ -6,6 +6,7 @@ of the start-up (measured with tests/bench/bench_ui.py).  This strip draws the
 same list as one line of text and redraws it when the screen's bindings
 change (focus moves, a binding is enabled or disabled).
 """
+
 from __future__ import annotations
 
 import re

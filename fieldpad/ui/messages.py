@@ -1,5 +1,6 @@
 """Requests from one screen to open another.  Screens never import each other: they post one of these,
 it bubbles up to the app, and the app (``FieldpadApp``) pushes the screen asked for."""
+
 from __future__ import annotations
 
 from textual.message import Message

@@ -7,6 +7,7 @@ the full radius, currents 70 % of it), so both stay readable whatever their
 units.  The letter of each phasor stands just beyond its tip, so a phasor is
 never named by colour alone.
 """
+
 from __future__ import annotations
 
 import math
@@ -16,8 +17,7 @@ from rich.text import Text
 
 from .palette import MUTED
 
-_DOT = {(0, 0): 0x01, (0, 1): 0x02, (0, 2): 0x04, (1, 0): 0x08, (1, 1): 0x10, (1, 2): 0x20, (0, 3): 0x40,
-        (1, 3): 0x80}
+_DOT = {(0, 0): 0x01, (0, 1): 0x02, (0, 2): 0x04, (1, 0): 0x08, (1, 1): 0x10, (1, 2): 0x20, (0, 3): 0x40, (1, 3): 0x80}
 
 
 @dataclass
@@ -101,8 +101,7 @@ def draw(arrows: list[Arrow], width: int, height: int, rotation: str | None = No
         lx = (x1 + 3 * math.cos(ang)) / 2.0
         ly = (y1 - 5 * math.sin(ang)) / 4.0
         cx = int(round(lx - (len(a.label) - 1) / 2 if math.cos(ang) >= 0 else lx - len(a.label) + 1))
-        c.put(max(0, min(c.w - len(a.label), cx)), max(0, min(c.h - 1, int(round(ly)))), a.label,
-              f"bold {a.colour}")
+        c.put(max(0, min(c.w - len(a.label), cx)), max(0, min(c.h - 1, int(round(ly)))), a.label, f"bold {a.colour}")
     c.put(c.w - 4, c.h // 2 if c.h > 2 else 0, "0°", MUTED)
     body = c.render()
     legend = Text(no_wrap=True, overflow="crop")
@@ -115,8 +114,9 @@ def draw(arrows: list[Arrow], width: int, height: int, rotation: str | None = No
     return body
 
 
-def draw_triangle(u_ab: float, u_bc: float, u_ca: float, width: int, height: int,
-                  labels=("A", "B", "C"), colours=("#e0e0e0",) * 3) -> Text:
+def draw_triangle(
+    u_ab: float, u_bc: float, u_ca: float, width: int, height: int, labels=("A", "B", "C"), colours=("#e0e0e0",) * 3
+) -> Text:
     """The voltage triangle (solid) with its outer (dotted) and inner (sparse dots) Napoleon triangles
     (geometry: ``core.triangle``), and two lines saying what their sides are."""
     from ..core.triangle import napoleon, vertices
@@ -148,8 +148,12 @@ def draw_triangle(u_ab: float, u_bc: float, u_ca: float, width: int, height: int
         cv.line(x0, y0, x1, y1, colour)
     for z, lab, colour in zip((a, b, c), labels, colours):
         x, y = xy(z * 1.12 if abs(z) else z)
-        cv.put(max(0, min(cv.w - len(lab), int(round(x / 2.0)))), max(0, min(cv.h - 1, int(round(y / 4.0)))),
-               lab, f"bold {colour}")
+        cv.put(
+            max(0, min(cv.w - len(lab), int(round(x / 2.0)))),
+            max(0, min(cv.h - 1, int(round(y / 4.0)))),
+            lab,
+            f"bold {colour}",
+        )
     body = cv.render()
     outer_side, inner_side = abs(out[0] - out[1]), abs(inn[0] - inn[1])
     ratio = 100.0 * inner_side / outer_side if outer_side else float("nan")

@@ -1,34 +1,51 @@
 """Results and findings as Rich Text for the sheet (and the previous-reading comparison)."""
+
 from __future__ import annotations
 
 from rich.text import Text
 
 from .palette import ALARM, INFO, MUTED, ON_ALARM, ON_WARN, PREVIOUS
 
-SEVERITY_TAG = {"alarm": ("ALARM", ON_ALARM), "warning": ("WARN ", ON_WARN),
-                "info": ("info ", INFO)}
+SEVERITY_TAG = {"alarm": ("ALARM", ON_ALARM), "warning": ("WARN ", ON_WARN), "info": ("info ", INFO)}
 
 
 #: A finding in a few words, for tables where the whole message does not fit (day review, history).
 FINDING_WORDS = {
-    "PHASE_LOST": "phase lost", "ROTATION_REVERSED": "reverse rotation", "ROTATION_UNKNOWN": "rotation unknown",
-    "VOLTAGES_IN_PHASE": "voltages in phase", "VOLTAGE_OUT_OF_RANGE": "voltage out of range",
-    "VOLTAGE_RANGE_B": "voltage in Range B", "VOLTAGE_NO_RANGE": "nominal not known",
-    "VUF_HIGH": "voltage unbalance", "LVUR_EXCESSIVE": "unbalance: no motors", "LVUR_DERATE": "motor derating",
-    "CURRENT_UNBALANCE": "current unbalance", "NEUTRAL_OVERLOAD": "neutral overload", "NEUTRAL_HIGH": "neutral high",
-    "NEUTRAL_MISMATCH": "neutral ≠ phasor sum", "CT_REVERSED": "CT reversed", "CT_TWO_REVERSED": "two CTs reversed",
-    "CLAMPS_ROTATED": "clamps on wrong phases", "NEUTRAL_SHIFT": "neutral shifted",
-    "CURRENT_SEQUENCE": "currents reverse", "HIGH_LEG_POSITION": "high leg not on B",
-    "HIGH_LEG_NOT_FOUND": "no high leg found", "MAGNITUDE_ONLY": "no angles", "ARC_FLASH_LABEL": "arc-flash label",
-    "CLAMPS_SWAPPED": "two clamps swapped", "CURRENT_SUM": "3-wire currents ≠ 0", "LL_MISMATCH": "LL ≠ from LN",
-    "LL_NOT_CLOSED": "LL angles do not close", "NEUTRAL_BELOW_SUM": "neutral < phasor sum",
+    "PHASE_LOST": "phase lost",
+    "ROTATION_REVERSED": "reverse rotation",
+    "ROTATION_UNKNOWN": "rotation unknown",
+    "VOLTAGES_IN_PHASE": "voltages in phase",
+    "VOLTAGE_OUT_OF_RANGE": "voltage out of range",
+    "VOLTAGE_RANGE_B": "voltage in Range B",
+    "VOLTAGE_NO_RANGE": "nominal not known",
+    "VUF_HIGH": "voltage unbalance",
+    "LVUR_EXCESSIVE": "unbalance: no motors",
+    "LVUR_DERATE": "motor derating",
+    "CURRENT_UNBALANCE": "current unbalance",
+    "NEUTRAL_OVERLOAD": "neutral overload",
+    "NEUTRAL_HIGH": "neutral high",
+    "NEUTRAL_MISMATCH": "neutral ≠ phasor sum",
+    "CT_REVERSED": "CT reversed",
+    "CT_TWO_REVERSED": "two CTs reversed",
+    "CLAMPS_ROTATED": "clamps on wrong phases",
+    "NEUTRAL_SHIFT": "neutral shifted",
+    "CURRENT_SEQUENCE": "currents reverse",
+    "HIGH_LEG_POSITION": "high leg not on B",
+    "HIGH_LEG_NOT_FOUND": "no high leg found",
+    "MAGNITUDE_ONLY": "no angles",
+    "ARC_FLASH_LABEL": "arc-flash label",
+    "CLAMPS_SWAPPED": "two clamps swapped",
+    "CURRENT_SUM": "3-wire currents ≠ 0",
+    "LL_MISMATCH": "LL ≠ from LN",
+    "LL_NOT_CLOSED": "LL angles do not close",
+    "NEUTRAL_BELOW_SUM": "neutral < phasor sum",
     "POWER_TO_SUPPLY": "power toward supply",
 }
 SEVERITY_WORD = {"alarm": "ALARM", "warning": "WARN", "info": "info"}
 
 
 def finding_words(f: dict, phase: bool = True) -> str:
-    """"ALARM reverse rotation": a finding's severity and what it is, in words (never its code alone);
+    """ "ALARM reverse rotation": a finding's severity and what it is, in words (never its code alone);
     ``phase``: with the phase it is on, "(C)"."""
     what = FINDING_WORDS.get(f["code"], f["code"].replace("_", " ").lower())
     return f"{SEVERITY_WORD[f['severity']]} {what}" + (f" ({f['phase']})" if phase and f.get("phase") else "")
@@ -54,8 +71,7 @@ def _ang(x):
 
 
 #: What the words on the results panel mean (F1 help shows it too).
-LEGEND = ("typed = measured, as entered · calc = computed from the phasors · est = estimated from the "
-          "magnitudes alone")
+LEGEND = "typed = measured, as entered · calc = computed from the phasors · est = estimated from the magnitudes alone"
 
 
 def results_text(r: dict | None, system: str = "wye", labels=("A", "B", "C"), typed: dict | None = None) -> Text:
@@ -84,24 +100,58 @@ def results_text(r: dict | None, system: str = "wye", labels=("A", "B", "C"), ty
         line((f"{field_words('vab', labels)} ", B), (v12, ""), (f" {how}" if how else "", MUTED))
         line(("Legs dev/avg ", B), (f"{_f(r['pvur_pct'], '{:.2f}')} %", ""))
     else:
-        line(("V1 ", B), (f"{_f(r['v1'])} V{_ang(r['v1_deg'])}", ""), ("  V2 ", B), (f"{_f(r['v2'], '{:.2f}')} V", ""),
-             ("  V0 ", B), (f"{_f(r['v0'], '{:.2f}')} V", ""))
-        line(("VUF V2/V1 ", B), (f"{_f(r['vuf_pct'], '{:.2f}')} %", ""), (" IEC", MUTED),
-             ("  PVUR ", B), (f"{_f(r['pvur_pct'], '{:.2f}')} %", ""), (" IEEE", MUTED))
-        line(("LVUR ", B), (f"{_f(r['lvur_pct'], '{:.2f}')} %", ""), (" NEMA", MUTED),
-             ("  motor derate ", B), (f"×{_f(r['derating'], '{:.2f}')}", ""))
+        line(
+            ("V1 ", B),
+            (f"{_f(r['v1'])} V{_ang(r['v1_deg'])}", ""),
+            ("  V2 ", B),
+            (f"{_f(r['v2'], '{:.2f}')} V", ""),
+            ("  V0 ", B),
+            (f"{_f(r['v0'], '{:.2f}')} V", ""),
+        )
+        line(
+            ("VUF V2/V1 ", B),
+            (f"{_f(r['vuf_pct'], '{:.2f}')} %", ""),
+            (" IEC", MUTED),
+            ("  PVUR ", B),
+            (f"{_f(r['pvur_pct'], '{:.2f}')} %", ""),
+            (" IEEE", MUTED),
+        )
+        line(
+            ("LVUR ", B),
+            (f"{_f(r['lvur_pct'], '{:.2f}')} %", ""),
+            (" NEMA", MUTED),
+            ("  motor derate ", B),
+            (f"×{_f(r['derating'], '{:.2f}')}", ""),
+        )
         rot = r["rotation"]
         rot_words = {"ABC": f"{la}-{lb}-{labels[2]} (forward)", "ACB": f"{la}-{labels[2]}-{lb} REVERSED"}.get(
-            rot, "not determined (see findings)" if rot == "unknown" else "needs voltage angles")
+            rot, "not determined (see findings)" if rot == "unknown" else "needs voltage angles"
+        )
         line(("Rotation ", B), (rot_words, f"bold {ALARM}" if rot == "ACB" else ""))
-        line(("I1 ", B), (f"{_f(r['i1'])} A{_ang(r['i1_deg'])}", ""), ("  I2 ", B), (f"{_f(r['i2'])} A", ""),
-             ("  I0 ", B), (f"{_f(r['i0'])} A", ""))
-    line(("I unbal. ", B), ("" if system == "split-phase" else f"I2/I1 {_f(r['iuf_pct'])} % · ", ""),
-         (f"max dev/avg {_f(r['iur_pct'])} %", ""))
+        line(
+            ("I1 ", B),
+            (f"{_f(r['i1'])} A{_ang(r['i1_deg'])}", ""),
+            ("  I2 ", B),
+            (f"{_f(r['i2'])} A", ""),
+            ("  I0 ", B),
+            (f"{_f(r['i0'])} A", ""),
+        )
+    line(
+        ("I unbal. ", B),
+        ("" if system == "split-phase" else f"I2/I1 {_f(r['iuf_pct'])} % · ", ""),
+        (f"max dev/avg {_f(r['iur_pct'])} %", ""),
+    )
     if system != "delta":
         measured = _typed_number(typed, "i_n", "A")
-        line(("IN ", B), ("typed ", MUTED), (f"{_f(measured)} A", ""), ("  calc ", MUTED),
-             (f"{_f(r['i_n_calc'])} A", ""), ("  est ", MUTED), (f"{_f(r['i_n_est'])} A", ""))
+        line(
+            ("IN ", B),
+            ("typed ", MUTED),
+            (f"{_f(measured)} A", ""),
+            ("  calc ", MUTED),
+            (f"{_f(r['i_n_calc'])} A", ""),
+            ("  est ", MUTED),
+            (f"{_f(r['i_n_est'])} A", ""),
+        )
     line(("P ", B), (_si(r["p_w"], "W"), ""), ("  Q ", B), (_si(r["q_var"], "var"), ""), ("  calc", MUTED))
     line(("S ", B), (_si(r["s_va"], "VA"), ""), ("  PF ", B), (_f(r["pf"], "{:.2f}"), ""), ("  calc", MUTED))
     return t
@@ -151,8 +201,9 @@ def reasons_text(reasons: list[str]) -> Text:
 PHASE_ROWS = (("va", "vb", "vc"), ("vab", "vbc", "vca"), ("ia", "ib", "ic"), ("i_n",))
 
 
-def compare_text(prev_row: dict, prev_result: dict | None, typed: dict, result: dict | None, labels,
-                 system: str) -> Text:
+def compare_text(
+    prev_row: dict, prev_result: dict | None, typed: dict, result: dict | None, labels, system: str
+) -> Text:
     """F3: the previous reading's per-phase values beside what is typed now, with the change (now − was)."""
     from ..core.readings import ReadingError, parse_value
     from .sheet_model import field_words
@@ -230,8 +281,10 @@ def findings_text(findings: list[dict], detail: bool = False) -> Text:
         if detail:
             t.append(f["message"] + "\n")
             if f["value"] is not None or f["threshold"] is not None:
-                t.append(f"      measured {_f(f['value'], '{:g}')} {f['unit']}, threshold "
-                         f"{_f(f['threshold'], '{:g}')}\n", MUTED)
+                t.append(
+                    f"      measured {_f(f['value'], '{:g}')} {f['unit']}, threshold {_f(f['threshold'], '{:g}')}\n",
+                    MUTED,
+                )
             t.append(f"      source: {f['source']}\n", MUTED)
         else:
             t.append(f["message"] + "\n")

@@ -1,4 +1,5 @@
 """The supervisor's screens: the day review and the round comparison (their dialogs: ``review_dialogs.py``)."""
+
 from __future__ import annotations
 
 from datetime import date, timedelta
@@ -80,10 +81,13 @@ class DayReview(Screen):
     def reload(self) -> None:
         site = sites.get_site(self.app.db, self.app.site_id)
         self.records = export_records(self.app.db, day=self.day.isoformat(), site_id=site["id"])
-        shown = [r for r in self.records
-                 if (not self.findings_only or r["findings"])
-                 and (not self.board_filter or self.board_filter.lower() in (r["board"] or "").lower())
-                 and (not self.tech_filter or self.tech_filter.lower() in (r["technician"] or "").lower())]
+        shown = [
+            r
+            for r in self.records
+            if (not self.findings_only or r["findings"])
+            and (not self.board_filter or self.board_filter.lower() in (r["board"] or "").lower())
+            and (not self.tech_filter or self.tech_filter.lower() in (r["technician"] or "").lower())
+        ]
         key = SORTS[self.sort]
         if key == "board":
             shown.sort(key=lambda r: (r["board"], r["taken_at"]))
@@ -101,14 +105,28 @@ class DayReview(Screen):
             res = r["results"]
             w = r["findings"][0] if r["findings"] else None
             taken = local_text(r["taken_at"], "%H:%M")
-            cell = (Text(finding_words(w, phase=False), f"bold {ALARM}" if w["severity"] == "alarm"
-                         else WARN if w["severity"] == "warning" else INFO) if w else Text(""))
+            cell = (
+                Text(
+                    finding_words(w, phase=False),
+                    f"bold {ALARM}" if w["severity"] == "alarm" else WARN if w["severity"] == "warning" else INFO,
+                )
+                if w
+                else Text("")
+            )
             if r.get("conflict"):  # two laptops changed the same version: for the supervisor to settle
                 cell = Text("⚠ CONFLICT ", f"bold {ALARM}") + cell
-            t.add_row(Text(taken + "*", f"bold {WARN}") if r["reading_id"] in self.late else taken,
-                      printable(r["board"]), cell, _f(res["vuf_pct"]), _f(res["lvur_pct"]), res["rotation"] or "",
-                      _f(_neutral(r), "{:.0f}"), printable(r["technician"])[:14], _short(printable(r["round"]), 12),
-                      key=r["reading_id"])
+            t.add_row(
+                Text(taken + "*", f"bold {WARN}") if r["reading_id"] in self.late else taken,
+                printable(r["board"]),
+                cell,
+                _f(res["vuf_pct"]),
+                _f(res["lvur_pct"]),
+                res["rotation"] or "",
+                _f(_neutral(r), "{:.0f}"),
+                printable(r["technician"])[:14],
+                _short(printable(r["round"]), 12),
+                key=r["reading_id"],
+            )
         filters = []
         if self.findings_only:
             filters.append("findings only")
@@ -116,15 +134,20 @@ class DayReview(Screen):
             filters.append(f"board ~ {printable(self.board_filter)}")
         if self.tech_filter:
             filters.append(f"by ~ {printable(self.tech_filter)}")
-        title = Text(f"Day review {self.day.isoformat()} · {printable(site['name'])} · {len(shown)} of "
-                     f"{len(self.records)} readings · sorted by {key}", "bold")
+        title = Text(
+            f"Day review {self.day.isoformat()} · {printable(site['name'])} · {len(shown)} of "
+            f"{len(self.records)} readings · sorted by {key}",
+            "bold",
+        )
         if filters:
             title.append(" · " + ", ".join(filters))
         self.query_one("#review-title", Static).update(title)
         self.query_one("#review-signoff", Static).update(self._signoff_line())
         self.query_one("#review-hint", Static).update(
-            "Enter: in full · [ ]: day · s: sign off · c: compare · x: export · F1: help" if self.records
-            else "No readings on this day: [ and ] change the day.")
+            "Enter: in full · [ ]: day · s: sign off · c: compare · x: export · F1: help"
+            if self.records
+            else "No readings on this day: [ and ] change the day."
+        )
 
     def _load_signoffs(self, site) -> None:
         """The sign-offs of this day and its rounds, and which readings changed after one of them."""
@@ -133,11 +156,15 @@ class DayReview(Screen):
         self.late = {}
         if not self.signoffs:
             return
-        for row in versions.current_readings(self.app.db, day_start_utc=start, day_end_utc=end,
-                                             site_id=site["id"]):
+        for row in versions.current_readings(self.app.db, day_start_utc=start, day_end_utc=end, site_id=site["id"]):
             for v in versions.history(self.app.db, row["reading_id"]) if row["version"] > 1 else [row]:
-                so = signoffs.signed_before(self.signoffs, site_id=site["id"], round_id=row["round_id"],
-                                            taken_at=v["taken_at"], recorded_at=v["recorded_at"])
+                so = signoffs.signed_before(
+                    self.signoffs,
+                    site_id=site["id"],
+                    round_id=row["round_id"],
+                    taken_at=v["taken_at"],
+                    recorded_at=v["recorded_at"],
+                )
                 if so:
                     self.late[row["reading_id"]] = so
                     break
@@ -146,8 +173,13 @@ class DayReview(Screen):
         if not self.signoffs:
             return Text("Not signed off · s: sign off the day or a round", WARN)
         t = Text("Signed off: ", "bold")
-        t.append(" · ".join(f"{printable(signoffs.scope_text(so))} by {printable(so['signed_by'])} "
-                            f"{local_text(so['signed_at'], '%m-%d %H:%M')}" for so in self.signoffs))
+        t.append(
+            " · ".join(
+                f"{printable(signoffs.scope_text(so))} by {printable(so['signed_by'])} "
+                f"{local_text(so['signed_at'], '%m-%d %H:%M')}"
+                for so in self.signoffs
+            )
+        )
         if self.late:
             t.append(f"  * {len(self.late)} changed after sign-off", f"bold {WARN}")
         return t
@@ -161,31 +193,63 @@ class DayReview(Screen):
         if rec is None:
             return
         t = Text()
-        t.append(f"{printable(rec['board'])} · {local_text(rec['taken_at'], '%Y-%m-%d %H:%M')} · "
-                 f"{printable(rec['technician'])} · version {rec['version']}\n\n", "bold")
+        t.append(
+            f"{printable(rec['board'])} · {local_text(rec['taken_at'], '%Y-%m-%d %H:%M')} · "
+            f"{printable(rec['technician'])} · version {rec['version']}\n\n",
+            "bold",
+        )
         labels = sites.site_labels(sites.get_site(self.app.db, self.app.site_id))
-        t.append("Entered: " + ", ".join(f"{field_words(k, labels)} {v:g}" + ("°" if k.endswith("_deg") else "")
-                                         for k, v in rec["inputs"].items() if isinstance(v, float)) + "\n\n")
-        t.append_text(results_text(rec["results"], rec["inputs"].get("system") or "wye", labels,
-                                   {k: str(v) for k, v in rec["inputs"].items() if v is not None}))
+        t.append(
+            "Entered: "
+            + ", ".join(
+                f"{field_words(k, labels)} {v:g}" + ("°" if k.endswith("_deg") else "")
+                for k, v in rec["inputs"].items()
+                if isinstance(v, float)
+            )
+            + "\n\n"
+        )
+        t.append_text(
+            results_text(
+                rec["results"],
+                rec["inputs"].get("system") or "wye",
+                labels,
+                {k: str(v) for k, v in rec["inputs"].items() if v is not None},
+            )
+        )
         t.append("\n")
         t.append_text(findings_text(rec["findings"], detail=True))
         t.append("\nVersions:\n", "bold")
         site = sites.get_site(self.app.db, self.app.site_id)
         for v in versions.history(self.app.db, rec["reading_id"]):
-            t.append(f"  v{v['version']} {local_text(v['recorded_at'])} by {printable(v['recorded_by']) or '—'}"
-                     + (f": {printable(v['reason'])}" if v["reason"] else "")
-                     + (" ⚠ competing" + (" (shown)" if v["is_current"] else "") if v["is_head"] and rec.get("conflict")
-                        else ""))
-            so = signoffs.signed_before(self.signoffs, site_id=site["id"], round_id=v["round_id"],
-                                        taken_at=v["taken_at"], recorded_at=v["recorded_at"])
+            t.append(
+                f"  v{v['version']} {local_text(v['recorded_at'])} by {printable(v['recorded_by']) or '—'}"
+                + (f": {printable(v['reason'])}" if v["reason"] else "")
+                + (
+                    " ⚠ competing" + (" (shown)" if v["is_current"] else "")
+                    if v["is_head"] and rec.get("conflict")
+                    else ""
+                )
+            )
+            so = signoffs.signed_before(
+                self.signoffs,
+                site_id=site["id"],
+                round_id=v["round_id"],
+                taken_at=v["taken_at"],
+                recorded_at=v["recorded_at"],
+            )
             if so:
-                t.append(f" — {'corrected' if v['version'] > 1 else 'added'} after sign-off "
-                         f"({printable(signoffs.describe(so))})", f"bold {WARN}")
+                t.append(
+                    f" — {'corrected' if v['version'] > 1 else 'added'} after sign-off "
+                    f"({printable(signoffs.describe(so))})",
+                    f"bold {WARN}",
+                )
             t.append("\n")
         if rec.get("conflict"):
-            t.append("⚠ CONFLICT: two laptops changed the same version. Settle with a new version: fieldpad settle "
-                     f"{rec['reading_id']} VERSION_ID --reason TEXT\n", f"bold {ALARM}")
+            t.append(
+                "⚠ CONFLICT: two laptops changed the same version. Settle with a new version: fieldpad settle "
+                f"{rec['reading_id']} VERSION_ID --reason TEXT\n",
+                f"bold {ALARM}",
+            )
         if rec["round"]:
             t.append(f"\nRound: {printable(rec['round'])}\n")
         self.app.push_screen(TextPage(t, "Reading in full"))
@@ -205,8 +269,10 @@ class DayReview(Screen):
             if text is not None:
                 setattr(self, attr, text)
                 self.reload()
-        self.app.push_screen(AskText(f"Show only {what} contains (empty = all):", required=False,
-                                     value=getattr(self, attr)), done)
+
+        self.app.push_screen(
+            AskText(f"Show only {what} contains (empty = all):", required=False, value=getattr(self, attr)), done
+        )
 
     def action_sort(self) -> None:
         self.sort = (self.sort + 1) % len(SORTS)
@@ -219,14 +285,17 @@ class DayReview(Screen):
     def action_sign_off(self) -> None:
         """Sign off the day or one of its rounds: what, then who (the app's technician suggested), then a note."""
         if self.app.db.read_only:
-            self.notify(f"NOT SAVED: the database is read-only ({self.app.db.read_only_reason})",
-                        severity="error", timeout=12)
+            self.notify(
+                f"NOT SAVED: the database is read-only ({self.app.db.read_only_reason})", severity="error", timeout=12
+            )
             return
         site = sites.get_site(self.app.db, self.app.site_id)
         start, end = day_range_utc(self.day.isoformat())
         choices = [("the whole day " + self.day.isoformat(), {"day": self.day.isoformat()})]
-        choices += [(f"round “{rounds.round_name(r)}”", {"round_id": r["id"]})
-                    for r in rounds.rounds_of_day(self.app.db, site["id"], start, end)][:9]
+        choices += [
+            (f"round “{rounds.round_name(r)}”", {"round_id": r["id"]})
+            for r in rounds.rounds_of_day(self.app.db, site["id"], start, end)
+        ][:9]
 
         def chosen(pick) -> None:
             if pick is None:
@@ -247,10 +316,16 @@ class DayReview(Screen):
                         return
                     self.notify(f"Signed off {what} by {printable(name)}.")
                     self.reload()
-                self.app.push_screen(AskText(f"Sign off {what}: a note (optional, Enter to sign):",
-                                             required=False), noted)
-            self.app.push_screen(AskText(f"Sign off {what}. Signed by (your name):", "name (required)",
-                                         value=self.app.technician or ""), named)
+
+                self.app.push_screen(
+                    AskText(f"Sign off {what}: a note (optional, Enter to sign):", required=False), noted
+                )
+
+            self.app.push_screen(
+                AskText(f"Sign off {what}. Signed by (your name):", "name (required)", value=self.app.technician or ""),
+                named,
+            )
+
         self.app.push_screen(SignOffScope([c[0] for c in choices]), chosen)
 
     def action_compare(self) -> None:
@@ -261,6 +336,7 @@ class DayReview(Screen):
 
     def action_help(self) -> None:
         from .dialogs import help_page
+
         self.app.push_screen(help_page())
 
     def action_back(self) -> None:
@@ -280,14 +356,16 @@ DRIFT_NEUTRAL_MIN_A = 5.0
 class RoundCompare(Screen):
     """The same boards in two rounds, changes marked, so a drifting board stands out."""
 
-    BINDINGS = [Binding("a", "cycle(0)", "Round A"), Binding("b", "cycle(1)", "Round B"),
-                Binding("escape", "back", "Back")]
+    BINDINGS = [
+        Binding("a", "cycle(0)", "Round A"),
+        Binding("b", "cycle(1)", "Round B"),
+        Binding("escape", "back", "Back"),
+    ]
 
     def compose(self) -> ComposeResult:
         yield Static(id="compare-title")
         yield DataTable(id="compare", cursor_type="row", zebra_stripes=True)
-        yield Static("▲ worth a look: unbalance ±0.5 pt, neutral ±25 % (≥5 A), rotation, new alarm",
-                     id="compare-hint")
+        yield Static("▲ worth a look: unbalance ±0.5 pt, neutral ±25 % (≥5 A), rotation, new alarm", id="compare-hint")
         yield KeyStrip()
 
     def on_mount(self) -> None:
@@ -308,7 +386,8 @@ class RoundCompare(Screen):
             return
         ra, rb = self.rounds[self.pick[0]], self.rounds[self.pick[1]]
         self.query_one("#compare-title", Static).update(
-            Text(f"Compare A: {self._label(ra)}  with  B: {self._label(rb)}   (a / b: other rounds)", "bold"))
+            Text(f"Compare A: {self._label(ra)}  with  B: {self._label(rb)}   (a / b: other rounds)", "bold")
+        )
         latest = {}
         for side, r in (("a", ra), ("b", rb)):
             for rec in export_records(self.app.db, round_id=r["id"]):
@@ -325,11 +404,15 @@ class RoundCompare(Screen):
                 cells.append(Text(_pair(_f(va), _f(vb)) + (" ▲" if d else ""), f"bold {WARN}" if d else ""))
             na = _neutral(a)
             nb = _neutral(b)
-            d = na is not None and nb is not None and abs(nb - na) > max(DRIFT_NEUTRAL_RATIO * max(na, nb),
-                                                                         DRIFT_NEUTRAL_MIN_A)
+            d = (
+                na is not None
+                and nb is not None
+                and abs(nb - na) > max(DRIFT_NEUTRAL_RATIO * max(na, nb), DRIFT_NEUTRAL_MIN_A)
+            )
             drift |= d
-            cells.append(Text(_pair(_f(na, '{:.0f}'), _f(nb, '{:.0f}')) + (" ▲" if d else ""),
-                              f"bold {WARN}" if d else ""))
+            cells.append(
+                Text(_pair(_f(na, "{:.0f}"), _f(nb, "{:.0f}")) + (" ▲" if d else ""), f"bold {WARN}" if d else "")
+            )
             rot_a = a["results"]["rotation"] if a else None
             rot_b = b["results"]["rotation"] if b else None
             d = bool(rot_a and rot_b and rot_a != rot_b)
@@ -337,10 +420,13 @@ class RoundCompare(Screen):
             alarms_a = {f["code"] for f in a["findings"] if f["severity"] == "alarm"} if a else set()
             alarms_b = {f["code"] for f in b["findings"] if f["severity"] == "alarm"} if b else set()
             new = alarms_b - alarms_a
-            cells.append(Text(", ".join(sorted(new)) + " NEW ▲" if new else
-                              (worst(b) or "") if b else "not read", f"bold {ALARM}" if new else ""))
-            t.add_row(Text(printable(board) + (" ▲" if drift or new else ""), "bold" if drift or new else ""),
-                      *cells)
+            cells.append(
+                Text(
+                    ", ".join(sorted(new)) + " NEW ▲" if new else (worst(b) or "") if b else "not read",
+                    f"bold {ALARM}" if new else "",
+                )
+            )
+            t.add_row(Text(printable(board) + (" ▲" if drift or new else ""), "bold" if drift or new else ""), *cells)
 
     def action_cycle(self, which: int) -> None:
         if self.rounds:
@@ -364,4 +450,3 @@ def _neutral(rec):
     if any(f["code"] == "CT_REVERSED" for f in rec["findings"]):
         return None
     return rec["results"]["i_n_calc"]
-

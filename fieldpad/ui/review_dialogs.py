@@ -1,5 +1,6 @@
 """The day review's dialogs: what to sign off (the day or one of its rounds), and the export of the day
 from the app (CSV, JSON, printable HTML, spreadsheet) into the documents folder."""
+
 from __future__ import annotations
 
 import time
@@ -22,8 +23,11 @@ from .safe import printable
 class SignOffScope(ModalScreen[int | None]):
     """What to sign off: the day (d) or one of its rounds (1-9); Esc cancels."""
 
-    BINDINGS = [Binding("escape", "pick(-1)", "Cancel"), Binding("d", "pick(0)", "The day", show=False),
-                *[Binding(str(k), f"pick({k})", f"Round {k}", show=False) for k in range(1, 10)]]
+    BINDINGS = [
+        Binding("escape", "pick(-1)", "Cancel"),
+        Binding("d", "pick(0)", "The day", show=False),
+        *[Binding(str(k), f"pick({k})", f"Round {k}", show=False) for k in range(1, 10)],
+    ]
 
     def __init__(self, choices: list[str]) -> None:
         super().__init__()
@@ -33,8 +37,7 @@ class SignOffScope(ModalScreen[int | None]):
         lines = [f"[b]d[/b]  {markup_escape(self.choices[0])}"]
         lines += [f"[b]{k}[/b]  {markup_escape(printable(c))}" for k, c in enumerate(self.choices[1:], start=1)]
         with Vertical(classes="dialog"):
-            yield Static("Sign off what? A sign-off is a record of its own: no reading is changed.",
-                         classes="question")
+            yield Static("Sign off what? A sign-off is a record of its own: no reading is changed.", classes="question")
             yield Static("\n".join(lines))
             yield Static("a key from the list · Esc cancel", classes="hint")
 
@@ -48,9 +51,13 @@ class SignOffScope(ModalScreen[int | None]):
 class ExportDialog(ModalScreen[None]):
     """Export the day (this site) to CSV, JSON, the printable HTML report or a spreadsheet."""
 
-    BINDINGS = [Binding("c", "run('csv')", "CSV"), Binding("j", "run('json')", "JSON"),
-                Binding("h", "run('html')", "HTML report"), Binding("s", "run('xlsx')", "Spreadsheet"),
-                Binding("escape", "close", "Close")]
+    BINDINGS = [
+        Binding("c", "run('csv')", "CSV"),
+        Binding("j", "run('json')", "JSON"),
+        Binding("h", "run('html')", "HTML report"),
+        Binding("s", "run('xlsx')", "Spreadsheet"),
+        Binding("escape", "close", "Close"),
+    ]
 
     def __init__(self, day: str) -> None:
         super().__init__()
@@ -58,8 +65,11 @@ class ExportDialog(ModalScreen[None]):
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
-            yield Static(f"Export {self.day} (this site): [b]c[/b] CSV · [b]j[/b] JSON · [b]h[/b] printable HTML"
-                         " · [b]s[/b] spreadsheet (xlsx)", classes="question")
+            yield Static(
+                f"Export {self.day} (this site): [b]c[/b] CSV · [b]j[/b] JSON · [b]h[/b] printable HTML"
+                " · [b]s[/b] spreadsheet (xlsx)",
+                classes="question",
+            )
             yield ProgressBar(total=3, show_eta=False, id="export-progress")
             yield Static("", id="export-status")
 
@@ -87,6 +97,7 @@ class ExportDialog(ModalScreen[None]):
                 text = to_json(records, day=self.day, site=site["name"])
             else:
                 from ..report.html import to_html
+
                 text = to_html(db, records, day=self.day, site=site["name"])
             self.app.call_from_thread(bar.update, progress=2)
             folder = export_folder()
@@ -96,6 +107,7 @@ class ExportDialog(ModalScreen[None]):
             path = folder / f"fieldpad-{safe_name}-{self.day}-{stamp}.{fmt}"
             if fmt == "xlsx":
                 from ..report.xlsx import write_xlsx
+
                 write_xlsx(db, records, path, day=self.day, site=site["name"], protect=(self.app.db_path,))
             else:
                 atomic_write_text(path, text, protect=(self.app.db_path,))

@@ -1,4 +1,5 @@
 """Stored text on the terminal: control characters never reach the terminal raw."""
+
 from __future__ import annotations
 
 from ..formats.text import printable

@@ -1,5 +1,6 @@
 """The reading sheet: entry grid, live results, phasor drawing, findings, caution banner, the draft kept at
 every keystroke.  What its keys do is ``sheet_keys.py``."""
+
 from __future__ import annotations
 
 from datetime import date
@@ -55,8 +56,7 @@ def live_result(values: dict, board: dict, site: dict, labels=("A", "B", "C")):
     a triangle): with them there is no result, and the sheet says why at once
     instead of looking as if nothing were wrong.
     """
-    record = {"system": board["system"], "nominal_v": board["nominal_v"],
-              "standard": sites.board_standard(board, site)}
+    record = {"system": board["system"], "nominal_v": board["nominal_v"], "standard": sites.board_standard(board, site)}
     record.update(values)
     clean, problems = validate_record(record)
     whole = [(f, r) for f, r in problems if "," in f]  # about several fields at once
@@ -97,8 +97,14 @@ class ReadingSheet(SheetKeys, Screen):
         Binding("escape", "back", "Back"),
     ]
 
-    def __init__(self, board_id: str, round_id: str | None = None, correcting: str | None = None,
-                 technician: str | None = None, today: date | None = None) -> None:
+    def __init__(
+        self,
+        board_id: str,
+        round_id: str | None = None,
+        correcting: str | None = None,
+        technician: str | None = None,
+        today: date | None = None,
+    ) -> None:
         """``today``: the day the arc-flash label's age is counted to (None: the computer's date)."""
         super().__init__()
         self.today = today
@@ -147,8 +153,9 @@ class ReadingSheet(SheetKeys, Screen):
         values = None
         if self.correcting:
             cur = versions.current_version(db, self.correcting)
-            values = {k: str(v) for k, v in versions.inputs_of(cur).items()
-                      if k not in ("system", "standard", "nominal_v")}
+            values = {
+                k: str(v) for k, v in versions.inputs_of(cur).items() if k not in ("system", "standard", "nominal_v")
+            }
             if any(k in values for k in ("vab_deg", "vbc_deg", "vca_deg")) and "va" not in values:
                 self.mode = LL
             elif any(k in values for k in ("vab", "vbc", "vca")) and "va" not in values:
@@ -157,27 +164,41 @@ class ReadingSheet(SheetKeys, Screen):
         self.previous_row = versions.previous_reading(db, self.board_id, self.correcting)
         if self.previous_row:
             from ..report.export import analyze_rows
-            self.previous = analyze_rows([{**self.previous_row, "thresholds_json": self.site["thresholds_json"],
-                                           "phase_labels": self.site["phase_labels"]}])[0]
+
+            self.previous = analyze_rows(
+                [
+                    {
+                        **self.previous_row,
+                        "thresholds_json": self.site["thresholds_json"],
+                        "phase_labels": self.site["phase_labels"],
+                    }
+                ]
+            )[0]
         self._update_title()
         self._update_caution()
         self.query_one(EntryGrid).focus()
         self._show_understood(self.query_one(EntryGrid).cells[0].field)
         self.recompute()
         if self.correcting:
-            self.set_status(f"Correcting reading of {local_text(cur['taken_at'])} (version {cur['version']}). "
-                            "F2 saves a new version; you will be asked why.")
+            self.set_status(
+                f"Correcting reading of {local_text(cur['taken_at'])} (version {cur['version']}). "
+                "F2 saves a new version; you will be asked why."
+            )
         else:
             draft = drafts.get_draft(db, self.board_id)
             if draft and any(str(v).strip() for v in draft.get("values", {}).values()):
                 # Not a question that takes the keyboard: keys typed right after Enter go to the grid.
                 self.offered_draft = draft
-                self.set_status(f"DRAFT kept for this board, typed {draft_age(draft)}: F7 puts it back on the "
-                                "sheet. Typing here starts a new sheet; the draft is kept until you save.",
-                                error=True)
+                self.set_status(
+                    f"DRAFT kept for this board, typed {draft_age(draft)}: F7 puts it back on the "
+                    "sheet. Typing here starts a new sheet; the draft is kept until you save.",
+                    error=True,
+                )
             else:
-                self.set_status("Type the readings. Tab/Enter: next field; typing into a filled field "
-                                "replaces it. F2: save. F1: help.")
+                self.set_status(
+                    "Type the readings. Tab/Enter: next field; typing into a filled field "
+                    "replaces it. F2: save. F1: help."
+                )
         self._ready = True
         ahead, self.app.typed_ahead = getattr(self.app, "typed_ahead", []), []
         grid = self.query_one(EntryGrid)
@@ -194,14 +215,22 @@ class ReadingSheet(SheetKeys, Screen):
 
     def _configure_grid(self, values: dict) -> None:
         grid = self.query_one(EntryGrid)
-        grid.configure(cells(self.mode, self.board["system"]),
-                       row_labels(self.mode, self.labels, self.board["system"]), self.colours, values)
+        grid.configure(
+            cells(self.mode, self.board["system"]),
+            row_labels(self.mode, self.labels, self.board["system"]),
+            self.colours,
+            values,
+        )
 
     def _update_title(self) -> None:
         b = self.board
         nominal = f"{b['nominal_v']:g} V" if b["nominal_v"] else "nominal ?"
-        parts = [f"[b]{markup_safe(b['name'])}[/b]", markup_safe(self.site["name"]), f"{b['system']} {nominal}",
-                 MODE_NAMES[self.mode]]
+        parts = [
+            f"[b]{markup_safe(b['name'])}[/b]",
+            markup_safe(self.site["name"]),
+            f"{b['system']} {nominal}",
+            MODE_NAMES[self.mode],
+        ]
         if self.round_id:
             done, total = rounds.round_progress(self.app.db, self.round_id)
             parts.append(f"round {done}/{total} boards")
@@ -235,8 +264,9 @@ class ReadingSheet(SheetKeys, Screen):
         grid = self.query_one(EntryGrid)
         self.result, self.reasons = live_result(grid.entered(), self.board, self.site, self.labels)
         if self.show_previous and self.previous_row is not None:
-            shown = compare_text(self.previous_row, self.previous, grid.entered(), self.result, self.labels,
-                                 self.board["system"])
+            shown = compare_text(
+                self.previous_row, self.previous, grid.entered(), self.result, self.labels, self.board["system"]
+            )
         elif self.reasons:
             shown = reasons_text(self.reasons)
         else:
@@ -244,8 +274,8 @@ class ReadingSheet(SheetKeys, Screen):
         self.query_one("#results", TextPanel).update(shown)
         self._draw_panel()
         self.query_one("#findings", TextPanel).update(
-            reasons_text(self.reasons) if self.reasons else
-            findings_text(self._findings(), detail=False))
+            reasons_text(self.reasons) if self.reasons else findings_text(self._findings(), detail=False)
+        )
 
     def _findings(self) -> list[dict]:
         """The reading's findings, with the board's arc-flash label problem among them."""
@@ -260,8 +290,7 @@ class ReadingSheet(SheetKeys, Screen):
             panel.update(per_phase_text(self.result, self.labels))
             return
         if self.panel == "findings":
-            panel.update(reasons_text(self.reasons) if self.reasons else
-                         findings_text(self._findings(), detail=True))
+            panel.update(reasons_text(self.reasons) if self.reasons else findings_text(self._findings(), detail=True))
             return
         w = max(20, panel.size.width or 38)
         h = max(6, panel.size.height or 10)
@@ -293,6 +322,7 @@ class ReadingSheet(SheetKeys, Screen):
     def _arrows(self) -> list:
         grid = self.query_one(EntryGrid)
         from ..core.readings import ReadingError, parse_value
+
         arrows = []
 
         def val(field, kind):
@@ -336,8 +366,11 @@ class ReadingSheet(SheetKeys, Screen):
         if self.correcting or not self.dirty:
             return True
         if self.app.db.read_only:
-            self.set_status("READ-ONLY database: what you type cannot be kept, neither as a reading nor as a "
-                            "draft. Write the values down.", error=True)
+            self.set_status(
+                "READ-ONLY database: what you type cannot be kept, neither as a reading nor as a "
+                "draft. Write the values down.",
+                error=True,
+            )
             return False
         grid = self.query_one(EntryGrid)
         try:
@@ -357,8 +390,11 @@ class ReadingSheet(SheetKeys, Screen):
         except BusyError:
             return False  # not now: the next key or the way out keeps it
         except StorageError as e:  # a draft that cannot be kept must not stop the typing
-            self.set_status(f"DRAFT NOT KEPT: {e}. Your typing is still on the screen: save it (F2) "
-                            "once the database can be written, or write the values down.", error=True)
+            self.set_status(
+                f"DRAFT NOT KEPT: {e}. Your typing is still on the screen: save it (F2) "
+                "once the database can be written, or write the values down.",
+                error=True,
+            )
             return False
         return True
 

@@ -2,6 +2,7 @@
 phase labels and colours, the side panels, the caution banner's text and how
 old a kept draft is.  No widgets here, so it is easy to test.
 """
+
 from __future__ import annotations
 
 from dataclasses import dataclass
@@ -123,8 +124,14 @@ def caution_lines(board: dict, review_years: float, today: date | None = None) -
     if label.status == "unreadable date":
         return first, f"⚠ LABEL DATE {label.dated!r} UNREADABLE. Label: " + ", ".join(parts), True
     if label.status == "older than review interval":
-        return first, (f"⚠ LABEL EXPIRED: dated {label.dated}, older than {review_years:g} years; have it "
-                       "reviewed. Label: " + ", ".join(parts)), True
+        return (
+            first,
+            (
+                f"⚠ LABEL EXPIRED: dated {label.dated}, older than {review_years:g} years; have it "
+                "reviewed. Label: " + ", ".join(parts)
+            ),
+            True,
+        )
     parts.append(f"label {label.dated}")
     return first, "Label: " + ", ".join(parts), label.problem
 
@@ -134,21 +141,31 @@ def label_finding(board: dict, review_years: float, today: date | None = None) -
     label = label_summary(board, review_years, today or date.today())
     if not label.problem:
         return None
-    what = {"missing": "No arc-flash label is recorded for this board: the hazard is unknown",
-            "undated": "The arc-flash label has no date recorded",
-            "unreadable date": f"The arc-flash label date {label.dated!r} cannot be read",
-            "older than review interval": f"The arc-flash label is dated {label.dated}, older than the "
-                                          f"{review_years:g}-year review interval (expired)"}[label.status]
-    return {"code": "ARC_FLASH_LABEL", "severity": "warning", "message": what + ": check the board's label and "
-            "have the study reviewed before relying on it.", "value": None, "threshold": None, "unit": "",
-            "phase": None, "source": "NFPA 70E 130.5(G) review at least every 5 years (from memory; local rules "
-            "govern)"}
+    what = {
+        "missing": "No arc-flash label is recorded for this board: the hazard is unknown",
+        "undated": "The arc-flash label has no date recorded",
+        "unreadable date": f"The arc-flash label date {label.dated!r} cannot be read",
+        "older than review interval": f"The arc-flash label is dated {label.dated}, older than the "
+        f"{review_years:g}-year review interval (expired)",
+    }[label.status]
+    return {
+        "code": "ARC_FLASH_LABEL",
+        "severity": "warning",
+        "message": what + ": check the board's label and have the study reviewed before relying on it.",
+        "value": None,
+        "threshold": None,
+        "unit": "",
+        "phase": None,
+        "source": "NFPA 70E 130.5(G) review at least every 5 years (from memory; local rules govern)",
+    }
+
 
 LN_V, LL_V = ("va", "vb", "vc"), ("vab", "vbc", "vca")
 
 
-def switch_mode(new_mode: str, values: dict, aside: dict, new_fields: list[str],
-                labels=("A", "B", "C")) -> tuple[dict, dict, str]:
+def switch_mode(
+    new_mode: str, values: dict, aside: dict, new_fields: list[str], labels=("A", "B", "C")
+) -> tuple[dict, dict, str]:
     """Values for the grid after F5, and what became of the typed voltages.
 
     ``values``: the grid's cells as typed (field -> text); ``aside``: values kept from
@@ -185,14 +202,17 @@ def switch_mode(new_mode: str, values: dict, aside: dict, new_fields: list[str],
                     out[f + "_deg"] = f"{ll[k][1]:.1f}"
     notes = []
     if converted:
-        notes.append(f"{', '.join(field_words(f, labels) for f in converted)} computed from the line-to-neutral "
-                     "values typed (check them against the meter)")
+        notes.append(
+            f"{', '.join(field_words(f, labels) for f in converted)} computed from the line-to-neutral "
+            "values typed (check them against the meter)"
+        )
     if restored:
         notes.append(f"{', '.join(field_words(f, labels) for f in restored)} typed earlier brought back")
     kept = [f for f in aside if f not in new]
     if kept:
-        notes.append(f"{', '.join(field_words(f, labels) for f in kept)} kept aside: not saved in this mode, "
-                     "back with F5")
+        notes.append(
+            f"{', '.join(field_words(f, labels) for f in kept)} kept aside: not saved in this mode, back with F5"
+        )
     return out, aside, "; ".join(notes)
 
 

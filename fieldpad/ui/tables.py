@@ -1,4 +1,5 @@
 """Helpers shared by the screens that list things in a DataTable."""
+
 from __future__ import annotations
 
 from textual.widgets import DataTable

@@ -10,6 +10,7 @@ each line is handed to Textual as a strip.  Textual's general path converts
 rich Text to its own content type on every repaint, which took most of the
 sheet's drawing time (tests/bench/bench_ui.py).
 """
+
 from __future__ import annotations
 
 from rich.segment import Segment
@@ -44,8 +45,7 @@ class TextPanel(Widget):
             return
         # Draw now and repaint only the lines that changed (typing a digit changes a few of them).
         new = self._lines()
-        changed = [y for y in range(max(len(old), len(new)))
-                   if y >= len(old) or y >= len(new) or old[y] != new[y]]
+        changed = [y for y in range(max(len(old), len(new))) if y >= len(old) or y >= len(new) or old[y] != new[y]]
         if len(changed) * 2 > len(new):
             self.refresh()
         elif changed:
@@ -93,6 +93,12 @@ class TextPanel(Widget):
 def _same(a, b) -> bool:
     """Whether two contents draw the same (rich Text's ``==`` compares only the words and spans)."""
     if isinstance(a, Text) and isinstance(b, Text):
-        return (a == b and a.style == b.style and a.justify == b.justify and a.overflow == b.overflow
-                and a.no_wrap == b.no_wrap and a.end == b.end)
+        return (
+            a == b
+            and a.style == b.style
+            and a.justify == b.justify
+            and a.overflow == b.overflow
+            and a.no_wrap == b.no_wrap
+            and a.end == b.end
+        )
     return a is b

@@ -17,6 +17,7 @@ child (os.wait4).
 Usage: python tests/bench/bench_batch.py [--quick] [--small N] [--large N] [--no-core]
        (default SMALL = 200,000, LARGE = 1,000,000; --quick: 20,000 and 100,000)
 """
+
 from __future__ import annotations
 
 import argparse
@@ -30,8 +31,22 @@ from pathlib import Path
 
 HERE = Path(__file__).resolve().parent
 PY = sys.executable
-NUMERIC = ("nominal_v", "va", "vb", "vc", "va_deg", "vb_deg", "vc_deg", "ia", "ib", "ic", "ia_deg", "ib_deg",
-           "ic_deg", "i_n")
+NUMERIC = (
+    "nominal_v",
+    "va",
+    "vb",
+    "vc",
+    "va_deg",
+    "vb_deg",
+    "vc_deg",
+    "ia",
+    "ib",
+    "ic",
+    "ia_deg",
+    "ib_deg",
+    "ic_deg",
+    "i_n",
+)
 
 
 # ---- the baselines (run as child processes: `python bench_batch.py --run NAME ...`) ----------------------------
@@ -48,8 +63,7 @@ def plain_script(src, dst):
     a2 = a * a
     with open(src, newline="") as f, open(dst, "w", newline="") as g:
         w = csv.writer(g, lineterminator="\n")
-        w.writerow(["v0", "v1", "v2", "vuf_pct", "i0", "i1", "i2", "iuf_pct", "i_n_calc", "p_w", "q_var", "s_va",
-                    "pf"])
+        w.writerow(["v0", "v1", "v2", "vuf_pct", "i0", "i1", "i2", "iuf_pct", "i_n_calc", "p_w", "q_var", "s_va", "pf"])
         for r in csv.DictReader(f):
             v = [cmath.rect(float(r[p]), math.radians(float(r[p + "_deg"]))) for p in ("va", "vb", "vc")]
             i = [cmath.rect(float(r[p]), math.radians(float(r[p + "_deg"]))) for p in ("ia", "ib", "ic")]
@@ -57,9 +71,23 @@ def plain_script(src, dst):
             i0, i1, i2 = (i[0] + i[1] + i[2]) / 3, (i[0] + a * i[1] + a2 * i[2]) / 3, (i[0] + a2 * i[1] + a * i[2]) / 3
             s = sum(x * y.conjugate() for x, y in zip(v, i))
             sa = sum(abs(x) * abs(y) for x, y in zip(v, i))
-            w.writerow([abs(v0), abs(v1), abs(v2), 100 * abs(v2) / abs(v1), abs(i0), abs(i1), abs(i2),
-                        100 * abs(i2) / abs(i1) if abs(i1) else "", abs(i[0] + i[1] + i[2]), s.real, s.imag, sa,
-                        s.real / sa if sa else ""])
+            w.writerow(
+                [
+                    abs(v0),
+                    abs(v1),
+                    abs(v2),
+                    100 * abs(v2) / abs(v1),
+                    abs(i0),
+                    abs(i1),
+                    abs(i2),
+                    100 * abs(i2) / abs(i1) if abs(i1) else "",
+                    abs(i[0] + i[1] + i[2]),
+                    s.real,
+                    s.imag,
+                    sa,
+                    s.real / sa if sa else "",
+                ]
+            )
 
 
 def io_floor_csv_module(src, dst):
@@ -118,26 +146,72 @@ def bare_insert(csv_path, db_path):
     db = open_db(db_path)
     site = str(uuid.uuid4())
     now = "2026-12-01T00:00:00.000000Z"
-    db.conn.execute("INSERT INTO site (id, name, created_at, updated_at) VALUES (?, 'Bench', ?, ?)",
-                    (site, now, now))
+    db.conn.execute("INSERT INTO site (id, name, created_at, updated_at) VALUES (?, 'Bench', ?, ?)", (site, now, now))
     with open(csv_path, newline="") as f:
         records = list(csv.DictReader(f))
     boards = {}
     for r in records:  # the same boards as the file's
         if r["board"] not in boards:
             boards[r["board"]] = b = uuid7_many(1)[0]
-            db.conn.execute("INSERT INTO board (id, site_id, name, created_at, updated_at) VALUES (?, ?, ?, ?, ?)",
-                            (b, site, r["board"], now, now))
+            db.conn.execute(
+                "INSERT INTO board (id, site_id, name, created_at, updated_at) VALUES (?, ?, ?, ?, ?)",
+                (b, site, r["board"], now, now),
+            )
     db.conn.commit()
     rows = []
     ids = uuid7_many(len(records))  # the ids fieldpad gives (time-ordered UUIDv7: the index grows at its end)
     for rid, r in zip(ids, records):
-        rows.append((rid, rid, 1, None, boards[r["board"]], None, r["taken_at"], r["technician"], None, None, 0,
-                     None, now, r["technician"], json.dumps({k: r[k] for k in NUMERIC}), "wye", "ansi",
-                     *[float(r[k]) for k in NUMERIC], None, None, None, None, None, None))
-    cols = ("id", "reading_id", "version", "supersedes", "board_id", "round_id", "taken_at", "technician",
-            "instrument", "note", "void", "reason", "recorded_at", "recorded_by", "inputs_json", "system",
-            "standard") + NUMERIC + ("vab", "vbc", "vca", "vab_deg", "vbc_deg", "vca_deg")
+        rows.append(
+            (
+                rid,
+                rid,
+                1,
+                None,
+                boards[r["board"]],
+                None,
+                r["taken_at"],
+                r["technician"],
+                None,
+                None,
+                0,
+                None,
+                now,
+                r["technician"],
+                json.dumps({k: r[k] for k in NUMERIC}),
+                "wye",
+                "ansi",
+                *[float(r[k]) for k in NUMERIC],
+                None,
+                None,
+                None,
+                None,
+                None,
+                None,
+            )
+        )
+    cols = (
+        (
+            "id",
+            "reading_id",
+            "version",
+            "supersedes",
+            "board_id",
+            "round_id",
+            "taken_at",
+            "technician",
+            "instrument",
+            "note",
+            "void",
+            "reason",
+            "recorded_at",
+            "recorded_by",
+            "inputs_json",
+            "system",
+            "standard",
+        )
+        + NUMERIC
+        + ("vab", "vbc", "vca", "vab_deg", "vbc_deg", "vca_deg")
+    )
     conn = sqlite3.connect(db_path, isolation_level=None)
     t = time.perf_counter()
     conn.execute("BEGIN IMMEDIATE")
@@ -163,8 +237,13 @@ def bare_dump(db_path, dst):
             w.writerows(rows)
 
 
-RUNNABLE = {"plain": plain_script, "floor-csv": io_floor_csv_module, "floor-fieldpad": io_floor_fieldpad,
-            "bare-insert": bare_insert, "bare-dump": bare_dump}
+RUNNABLE = {
+    "plain": plain_script,
+    "floor-csv": io_floor_csv_module,
+    "floor-fieldpad": io_floor_fieldpad,
+    "bare-insert": bare_insert,
+    "bare-dump": bare_dump,
+}
 
 
 # ---- the data (a scenario of our own: a 480Y/277 V plant, readings a few percent off balance) ------------------
@@ -183,8 +262,11 @@ def write_inputs(path: Path, n: int, *, meta: bool, form: str = "csv", seed: int
             v = (f"{277 + rng.random() * 4 - 2:.2f}", f"{277 - rng.random() * 4:.2f}", f"{276 + rng.random() * 3:.2f}")
             d = ("0", f"{-120 + rng.random() * 2 - 1:.2f}", f"{120 + rng.random() * 2 - 1:.2f}")
             i = (f"{100 + rng.random() * 30:.1f}", f"{95 + rng.random() * 30:.1f}", f"{90 + rng.random() * 30:.1f}")
-            di = (f"{-30 + rng.random() * 20 - 10:.1f}", f"{-150 + rng.random() * 20 - 10:.1f}",
-                  f"{90 + rng.random() * 20 - 10:.1f}")
+            di = (
+                f"{-30 + rng.random() * 20 - 10:.1f}",
+                f"{-150 + rng.random() * 20 - 10:.1f}",
+                f"{90 + rng.random() * 20 - 10:.1f}",
+            )
             vals = ("480",) + v + d + i + di + (f"{rng.random() * 40:.1f}",)
             if form == "json":
                 rec = ",".join(f'"{name}":{x}' for name, x in zip(NUMERIC, vals))
@@ -192,8 +274,10 @@ def write_inputs(path: Path, n: int, *, meta: bool, form: str = "csv", seed: int
                 continue
             if meta:
                 day, sec = divmod(k, 36_000)
-                taken = f"2026-{1 + day // 28 % 12:02d}-{1 + day % 28:02d}T{8 + sec // 3600 % 10:02d}:" \
-                        f"{sec // 60 % 60:02d}:{sec % 60:02d}Z"
+                taken = (
+                    f"2026-{1 + day // 28 % 12:02d}-{1 + day % 28:02d}T{8 + sec // 3600 % 10:02d}:"
+                    f"{sec // 60 % 60:02d}:{sec % 60:02d}Z"
+                )
                 f.write(f"Bench Works,B{k % 500:03d},{taken},tech {k % 3},wye,")
             else:
                 f.write("wye,")
@@ -261,8 +345,11 @@ def main():
     small = a.small or (20_000 if a.quick else 200_000)
     large = a.large or (100_000 if a.quick else 1_000_000)
     rep = a.repeat
-    print(f"readings: small {small:,}, large {large:,}; CPUs: {len(os.sched_getaffinity(0))}; "
-          f"load average {os.getloadavg()[0]:.1f}", flush=True)
+    print(
+        f"readings: small {small:,}, large {large:,}; CPUs: {len(os.sched_getaffinity(0))}; "
+        f"load average {os.getloadavg()[0]:.1f}",
+        flush=True,
+    )
     with tempfile.TemporaryDirectory() as d:
         d = Path(d)
         src = d / "small.csv"
@@ -274,15 +361,24 @@ def main():
         t_floor, _ = measure(run_self("floor-csv", src, d / "floor.csv"), None, rep)
         t_floor_fp, _ = measure(run_self("floor-fieldpad", src, d / "floor2.csv"), None, rep)
         print(f"fieldpad compute: {t_fp:.2f} s, peak {m_fp:.0f} MB, {out_mb:.0f} MB out")
-        print(f"plain per-reading script (csv + cmath): {t_plain:.2f} s   -> ratio {t_fp / t_plain:.2f}x "
-              f"(target <= 0.1x)")
-        print(f"read into columns + write the result's shape, csv module: {t_floor:.2f} s   -> ratio "
-              f"{t_fp / t_floor:.2f}x (target <= 2x)")
-        print(f"read into columns + write the result's shape, fieldpad's reader and writer: {t_floor_fp:.2f} s"
-              f"   -> ratio {t_fp / t_floor_fp:.2f}x", flush=True)
+        print(
+            f"plain per-reading script (csv + cmath): {t_plain:.2f} s   -> ratio {t_fp / t_plain:.2f}x (target <= 0.1x)"
+        )
+        print(
+            f"read into columns + write the result's shape, csv module: {t_floor:.2f} s   -> ratio "
+            f"{t_fp / t_floor:.2f}x (target <= 2x)"
+        )
+        print(
+            f"read into columns + write the result's shape, fieldpad's reader and writer: {t_floor_fp:.2f} s"
+            f"   -> ratio {t_fp / t_floor_fp:.2f}x",
+            flush=True,
+        )
         t_json, m_json = measure(fp("compute", "--format", "json", src), d / "out.json", rep)
-        print(f"fieldpad compute, CSV -> JSON: {t_json:.2f} s, peak {m_json:.0f} MB   -> JSON/CSV output "
-              f"{t_json / t_fp:.2f}x (target <= 3x)", flush=True)
+        print(
+            f"fieldpad compute, CSV -> JSON: {t_json:.2f} s, peak {m_json:.0f} MB   -> JSON/CSV output "
+            f"{t_json / t_fp:.2f}x (target <= 3x)",
+            flush=True,
+        )
 
         big = d / "large.csv"
         write_inputs(big, large, meta=False)
@@ -293,8 +389,10 @@ def main():
         bigj = d / "large.json"
         write_inputs(bigj, large, meta=False, form="json")
         t, m = measure(fp("compute", "--format", "json", bigj))
-        print(f"JSON -> JSON ({bigj.stat().st_size / 1e6:.0f} MB in): {t:.2f} s, peak {m:.0f} MB "
-              f"(target <= 400 MB)", flush=True)
+        print(
+            f"JSON -> JSON ({bigj.stat().st_size / 1e6:.0f} MB in): {t:.2f} s, peak {m:.0f} MB (target <= 400 MB)",
+            flush=True,
+        )
         bigj.unlink()
 
         imp = d / "import.csv"
@@ -304,18 +402,25 @@ def main():
         bare_out = child(run_self("bare-insert", imp, d / "bare.db"))
         t_bare = float(bare_out.strip().splitlines()[-1])
         print(f"fieldpad import: {t_imp:.2f} s, peak {m_imp:.0f} MB (target <= 400 MB)")
-        print(f"bare sqlite3 executemany of the same rows, same schema: {t_bare:.2f} s   -> ratio "
-              f"{t_imp / t_bare:.2f}x (target <= 3x)", flush=True)
+        print(
+            f"bare sqlite3 executemany of the same rows, same schema: {t_bare:.2f} s   -> ratio "
+            f"{t_imp / t_bare:.2f}x (target <= 3x)",
+            flush=True,
+        )
         (d / "bare.db").unlink()
         imp.unlink()
 
         print(f"\n== export --format csv, {large:,} readings with results and findings", flush=True)
         t_exp, m_exp = measure(fp("export", "--db", d / "fp.db", "--format", "csv", "-o", d / "export.csv"))
         t_dump, _ = measure(run_self("bare-dump", d / "fp.db", d / "dump.csv"))
-        print(f"fieldpad export: {t_exp:.2f} s, peak {m_exp:.0f} MB, {(d / 'export.csv').stat().st_size / 1e6:.0f}"
-              f" MB out")
-        print(f"bare sqlite3 + csv dump of the same reading rows: {t_dump:.2f} s   -> ratio "
-              f"{t_exp / t_dump:.2f}x (target <= 2x)", flush=True)
+        print(
+            f"fieldpad export: {t_exp:.2f} s, peak {m_exp:.0f} MB, {(d / 'export.csv').stat().st_size / 1e6:.0f} MB out"
+        )
+        print(
+            f"bare sqlite3 + csv dump of the same reading rows: {t_dump:.2f} s   -> ratio "
+            f"{t_exp / t_dump:.2f}x (target <= 2x)",
+            flush=True,
+        )
     if not a.no_core:
         print("\n== core (bench_core.py)", flush=True)
         subprocess.run([PY, str(HERE / "bench_core.py"), str(large)], check=True)

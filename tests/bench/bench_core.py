@@ -13,6 +13,7 @@ reuse).  The full analysis is timed on one thread and on the default number of t
 
 Usage: python tests/bench/bench_core.py [N]     (default N = 1,000,000)
 """
+
 from __future__ import annotations
 
 import sys
@@ -72,14 +73,16 @@ def main():
     for r in rows:
         analyse_one(r)
     t_loop = (time.perf_counter() - t) * n / n_loop
-    print(f"plain Python loop doing the same analysis (tests/reference_loop.py; timed on {n_loop:,}, scaled): "
-          f"{t_loop:.3f} s  = {n / t_loop:,.0f} readings/s")
+    print(
+        f"plain Python loop doing the same analysis (tests/reference_loop.py; timed on {n_loop:,}, scaled): "
+        f"{t_loop:.3f} s  = {n / t_loop:,.0f} readings/s"
+    )
 
     n_same = min(n, 2_000)
-    one = [{k: v[i:i + 1] for k, v in cols.items()} for i in range(n_same)]
+    one = [{k: v[i : i + 1] for k, v in cols.items()} for i in range(n_same)]
     t = time.perf_counter()
     for i in range(n_same):
-        analyze_block(one[i], system[i:i + 1])
+        analyze_block(one[i], system[i : i + 1])
     t_same = (time.perf_counter() - t) * n / n_same
     print(f"per-reading loop calling the same analysis (timed on {n_same:,}, scaled): {t_same:.3f} s")
 
@@ -93,8 +96,10 @@ def main():
         return v @ f_t, i @ f_t
 
     t_conv = best_of(with_conversion)
-    v, i = (np.stack([polar(cols[p], cols[p + "_deg"]) for p in ph], axis=-1)
-            for ph in (("va", "vb", "vc"), ("ia", "ib", "ic")))
+    v, i = (
+        np.stack([polar(cols[p], cols[p + "_deg"]) for p in ph], axis=-1)
+        for ph in (("va", "vb", "vc"), ("ia", "ib", "ic"))
+    )
     t_bare = best_of(lambda: (v @ f_t, i @ f_t))
     print(f"bare numpy Fortescue product, V and I, phasors ready: {t_bare:.3f} s")
     print(f"same, starting from the magnitude/angle input arrays: {t_conv:.3f} s")
@@ -108,11 +113,15 @@ def main():
             np.full(n, 1, dtype=dt)
 
     t_floor = best_of(write_outputs)
-    print(f"writing {len(dtypes)} result arrays of {n:,} (no arithmetic), the least any full analysis does: "
-          f"{t_floor:.3f} s = {t_floor / t_bare:.1f}x the bare product")
+    print(
+        f"writing {len(dtypes)} result arrays of {n:,} (no arithmetic), the least any full analysis does: "
+        f"{t_floor:.3f} s = {t_floor / t_bare:.1f}x the bare product"
+    )
 
-    print(f"ratio plain Python loop / full analysis: {t_loop / t_full:,.0f}x faster (target >= 100x); "
-          f"on 1 thread {t_loop / t_one:,.0f}x")
+    print(
+        f"ratio plain Python loop / full analysis: {t_loop / t_full:,.0f}x faster (target >= 100x); "
+        f"on 1 thread {t_loop / t_one:,.0f}x"
+    )
     print(f"ratio per-reading calls of the numpy analysis / full analysis: {t_same / t_full:,.0f}x faster")
     print(f"ratio full analysis / bare Fortescue (phasors ready): {t_full / t_bare:.1f}x (target <= 3x)")
     print(f"ratio full analysis / Fortescue from input arrays: {t_full / t_conv:.1f}x (target <= 3x)")

@@ -11,6 +11,7 @@ info, as all CTs reversed, which an exporting board also shows) and named by the
 
 Usage: python tests/bench/bench_findings.py [N] [--seed S] [--misses K]   (default N = 2000 per kind)
 """
+
 from __future__ import annotations
 
 import argparse
@@ -42,13 +43,17 @@ def main() -> int:
             ok = pct["detected"] >= 99.0 and pct["named_top"] >= 95.0
         all_ok &= ok
         common = ", ".join(f"{k} {100.0 * v / n:.0f}%" for k, v in r["tops"].most_common(3))
-        print(f"{kind:34} {n:6d} {pct['warn_or_alarm']:6.1f}% {pct['alarm']:6.1f}% {pct['detected']:6.1f}% "
-              f"{pct['named_top']:6.1f}%  {'met' if ok else 'NOT'}    {common}")
-        for t, codes, rec in r["misses"][:args.misses]:
+        print(
+            f"{kind:34} {n:6d} {pct['warn_or_alarm']:6.1f}% {pct['alarm']:6.1f}% {pct['detected']:6.1f}% "
+            f"{pct['named_top']:6.1f}%  {'met' if ok else 'NOT'}    {common}"
+        )
+        for t, codes, rec in r["misses"][: args.misses]:
             shown = {k: round(v, 2) for k, v in rec.items() if v == v}
             print(f"    miss on {t}: {codes}\n      {shown}")
-    print(f"\nall targets {'met' if all_ok else 'NOT met'}; {time.perf_counter() - t0:.1f} s "
-          f"(N = {args.n} per kind, seed {args.seed})")
+    print(
+        f"\nall targets {'met' if all_ok else 'NOT met'}; {time.perf_counter() - t0:.1f} s "
+        f"(N = {args.n} per kind, seed {args.seed})"
+    )
     return 0
 
 

@@ -10,6 +10,7 @@ No target: the figures say what the checks cost.
 
 Usage: python tests/bench/bench_merge.py [N]
 """
+
 from __future__ import annotations
 
 import sys
@@ -53,12 +54,16 @@ def main():
         checked, bare = open_db(Path(d) / "checked.db"), open_db(Path(d) / "bare.db")
         first = timed(lambda: merge_file(checked, src))
         first_bare = timed(lambda: bare_copy(bare, src))
-        print(f"first merge of {n:,} readings: checked {first:.1f} s, bare SQLite copy {first_bare:.1f} s "
-              f"({first / first_bare:.1f}x)")
+        print(
+            f"first merge of {n:,} readings: checked {first:.1f} s, bare SQLite copy {first_bare:.1f} s "
+            f"({first / first_bare:.1f}x)"
+        )
         again = timed(lambda: merge_file(checked, src))
         again_bare = timed(lambda: bare_copy(bare, src))
-        print(f"the same file again (nothing new): checked {again:.2f} s, bare SQLite copy {again_bare:.2f} s "
-              f"({again / again_bare:.1f}x)")
+        print(
+            f"the same file again (nothing new): checked {again:.2f} s, bare SQLite copy {again_bare:.2f} s "
+            f"({again / again_bare:.1f}x)"
+        )
         print(f"readings in each afterwards: checked {checked['reading'].count:,}, bare {bare['reading'].count:,}")
 
 

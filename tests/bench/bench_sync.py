@@ -8,6 +8,7 @@ Prints, for N reading versions on one laptop:
 
 Usage: python tests/bench/bench_sync.py [N]   (default 20000)
 """
+
 from __future__ import annotations
 
 import os
@@ -24,8 +25,20 @@ import psycopg  # noqa: E402
 from fieldpad.storage import server, server_schema, sites, versions  # noqa: E402
 from fieldpad.storage.db import open_db  # noqa: E402
 
-BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120",
-       "ia": "100", "ib": "100", "ic": "100", "ia_deg": "-30", "ib_deg": "-150", "ic_deg": "90"}
+BAL = {
+    "va": "277",
+    "vb": "277",
+    "vc": "277",
+    "va_deg": "0",
+    "vb_deg": "-120",
+    "vc_deg": "120",
+    "ia": "100",
+    "ib": "100",
+    "ic": "100",
+    "ia_deg": "-30",
+    "ib_deg": "-150",
+    "ic_deg": "90",
+}
 
 
 def main(n: int) -> None:
@@ -72,10 +85,13 @@ def main(n: int) -> None:
 
         print(f"reading versions: {n}")
         print(f"bare COPY (baseline): {t_copy:.3f} s  {n / t_copy:,.0f} readings/s")
-        print(f"sync, send:           {t_send:.3f} s  {n / t_send:,.0f} readings/s  "
-              f"{t_send / t_copy:.2f}x the bare COPY (target <= 3x)")
-        print(f"sync, receive:        {t_recv:.3f} s  {n / t_recv:,.0f} readings/s  "
-              f"{t_recv / t_copy:.2f}x the bare COPY")
+        print(
+            f"sync, send:           {t_send:.3f} s  {n / t_send:,.0f} readings/s  "
+            f"{t_send / t_copy:.2f}x the bare COPY (target <= 3x)"
+        )
+        print(
+            f"sync, receive:        {t_recv:.3f} s  {n / t_recv:,.0f} readings/s  {t_recv / t_copy:.2f}x the bare COPY"
+        )
 
 
 if __name__ == "__main__":

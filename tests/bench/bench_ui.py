@@ -16,6 +16,7 @@
 
 Usage: python tests/bench/bench_ui.py
 """
+
 from __future__ import annotations
 
 import asyncio
@@ -29,9 +30,51 @@ import time
 from pathlib import Path
 
 # The sheet's Tab order: VA, IA, IA°, VB, VB°, … (the reference angle VA° is not a Tab stop).
-KEYS = ["2", "7", "7", "tab", "1", "0", "0", "tab", "-", "3", "0", "tab", "2", "7", "6", "tab", "2", "4",
-        "0", "tab", "9", "9", "tab", "-", "1", "5", "0", "tab", "2", "7", "8", "tab", "1", "2", "0", "tab", "9",
-        "8", "tab", "9", "0", "tab", "7"]
+KEYS = [
+    "2",
+    "7",
+    "7",
+    "tab",
+    "1",
+    "0",
+    "0",
+    "tab",
+    "-",
+    "3",
+    "0",
+    "tab",
+    "2",
+    "7",
+    "6",
+    "tab",
+    "2",
+    "4",
+    "0",
+    "tab",
+    "9",
+    "9",
+    "tab",
+    "-",
+    "1",
+    "5",
+    "0",
+    "tab",
+    "2",
+    "7",
+    "8",
+    "tab",
+    "1",
+    "2",
+    "0",
+    "tab",
+    "9",
+    "8",
+    "tab",
+    "9",
+    "0",
+    "tab",
+    "7",
+]
 
 STARTUP_FIELDPAD = r"""
 import asyncio, sys, time
@@ -91,7 +134,8 @@ asyncio.run(main())
 
 
 STARTUP_MINIMAL_WITH_LIBS = STARTUP_MINIMAL.replace(
-    "from textual.app import App\n", "from textual.app import App\nimport numpy, sqlite_utils\n", 1)
+    "from textual.app import App\n", "from textual.app import App\nimport numpy, sqlite_utils\n", 1
+)
 
 UNCAPPED = r"""
 import asyncio, statistics, sys
@@ -196,36 +240,59 @@ def main():
         build_demo(db)
         own, trip, shown = asyncio.run(keystrokes(db))
         print(f"keystrokes measured: {len(trip)}")
-        print("sheet update per keystroke (parse, analysis, results, drawing): "
-              f"median {statistics.median(own):.2f} ms, p95 {pct(own, 0.95):.2f} ms")
-        print(f"key press to the screen update rendered, at Textual's 60 frames/s ({len(shown)} updates): "
-              f"median {statistics.median(shown):.2f} ms, p95 {pct(shown, 0.95):.2f} ms")
-        print(f"key press to idle (pilot round trip): median {statistics.median(trip):.2f} ms, "
-              f"p95 {pct(trip, 0.95):.2f} ms")
+        print(
+            "sheet update per keystroke (parse, analysis, results, drawing): "
+            f"median {statistics.median(own):.2f} ms, p95 {pct(own, 0.95):.2f} ms"
+        )
+        print(
+            f"key press to the screen update rendered, at Textual's 60 frames/s ({len(shown)} updates): "
+            f"median {statistics.median(shown):.2f} ms, p95 {pct(shown, 0.95):.2f} ms"
+        )
+        print(
+            f"key press to idle (pilot round trip): median {statistics.median(trip):.2f} ms, "
+            f"p95 {pct(trip, 0.95):.2f} ms"
+        )
         base, base_shown = asyncio.run(minimal_keystrokes())
-        print(f"same round trip typing into a bare Textual Input: median {statistics.median(base):.2f} ms, "
-              f"p95 {pct(base, 0.95):.2f} ms (the pilot's own cost)")
-        print(f"key press to the screen update rendered, bare Textual Input, 60 frames/s: "
-              f"median {statistics.median(base_shown):.2f} ms, p95 {pct(base_shown, 0.95):.2f} ms")
+        print(
+            f"same round trip typing into a bare Textual Input: median {statistics.median(base):.2f} ms, "
+            f"p95 {pct(base, 0.95):.2f} ms (the pilot's own cost)"
+        )
+        print(
+            f"key press to the screen update rendered, bare Textual Input, 60 frames/s: "
+            f"median {statistics.median(base_shown):.2f} ms, p95 {pct(base_shown, 0.95):.2f} ms"
+        )
         db2 = Path(d) / "demo-uncapped.db"
         build_demo(db2)
-        out = subprocess.run([sys.executable, "-c", UNCAPPED, str(db2), str(Path(__file__).parent)],
-                             capture_output=True, text=True, check=True,
-                             env={**os.environ, "TEXTUAL_FPS": "1000"}).stdout.split()
+        out = subprocess.run(
+            [sys.executable, "-c", UNCAPPED, str(db2), str(Path(__file__).parent)],
+            capture_output=True,
+            text=True,
+            check=True,
+            env={**os.environ, "TEXTUAL_FPS": "1000"},
+        ).stdout.split()
         t_med, t_p95, b_med, b_p95, s_med, s_p95, s_n, bs_med, bs_p95 = map(float, out[-9:])
-        print(f"frame cap lifted (TEXTUAL_FPS=1000): round trip median {t_med:.2f} ms, p95 {t_p95:.2f} ms; "
-              f"bare Input median {b_med:.2f} ms, p95 {b_p95:.2f} ms")
-        print(f"key press to the screen update rendered, frame cap lifted: bare Textual Input median "
-              f"{bs_med:.2f} ms, p95 {bs_p95:.2f} ms")
-        print(f"keystroke to updated results and drawing, rendered, frame cap lifted ({s_n:.0f} updates): "
-              f"median {s_med:.2f} ms, p95 {s_p95:.2f} ms (target p95 < 16 ms)")
+        print(
+            f"frame cap lifted (TEXTUAL_FPS=1000): round trip median {t_med:.2f} ms, p95 {t_p95:.2f} ms; "
+            f"bare Input median {b_med:.2f} ms, p95 {b_p95:.2f} ms"
+        )
+        print(
+            f"key press to the screen update rendered, frame cap lifted: bare Textual Input median "
+            f"{bs_med:.2f} ms, p95 {bs_p95:.2f} ms"
+        )
+        print(
+            f"keystroke to updated results and drawing, rendered, frame cap lifted ({s_n:.0f} updates): "
+            f"median {s_med:.2f} ms, p95 {s_p95:.2f} ms (target p95 < 16 ms)"
+        )
 
         compileall.compile_dir(str(Path(__file__).resolve().parents[2] / "fieldpad"), quiet=1)
         runs = 7
 
         def startup(script, *args):
-            return float(subprocess.run([sys.executable, "-c", script, *args], capture_output=True, text=True,
-                                        check=True).stdout.strip().splitlines()[-1])
+            return float(
+                subprocess.run([sys.executable, "-c", script, *args], capture_output=True, text=True, check=True)
+                .stdout.strip()
+                .splitlines()[-1]
+            )
 
         fp, mini, libs, first = [], [], [], []
         for _ in range(runs):  # interleaved, so a slow moment of the machine hits all of them
@@ -234,13 +301,17 @@ def main():
             mini.append(startup(STARTUP_MINIMAL))
             libs.append(startup(STARTUP_MINIMAL_WITH_LIBS))
         fp_m, mini_m, libs_m, first_m = (statistics.median(x) for x in (fp, mini, libs, first))
-        print(f"start-up to the first screen (board list filled, answering a key), median of {runs}: "
-              f"{first_m * 1e3:.0f} ms; ratio to the minimal app {first_m / mini_m:.2f}x (target <= 1.5x)")
+        print(
+            f"start-up to the first screen (board list filled, answering a key), median of {runs}: "
+            f"{first_m * 1e3:.0f} ms; ratio to the minimal app {first_m / mini_m:.2f}x (target <= 1.5x)"
+        )
         print(f"start-up to a usable sheet (demo db), median of {runs}: {fp_m * 1e3:.0f} ms")
         print(f"minimal Textual app start-up, median of {runs}: {mini_m * 1e3:.0f} ms")
         print(f"minimal Textual app that also imports numpy and sqlite_utils, median of {runs}: {libs_m * 1e3:.0f} ms")
-        print(f"ratio: {fp_m / mini_m:.2f}x (target <= 1.5x); against the minimal app with the same libraries "
-              f"{fp_m / libs_m:.2f}x")
+        print(
+            f"ratio: {fp_m / mini_m:.2f}x (target <= 1.5x); against the minimal app with the same libraries "
+            f"{fp_m / libs_m:.2f}x"
+        )
 
 
 if __name__ == "__main__":

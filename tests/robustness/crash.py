@@ -1,4 +1,5 @@
 """Kill a writer process at random moments and count what was lost (used by the tests and the run)."""
+
 from __future__ import annotations
 
 import signal

@@ -7,6 +7,7 @@ SECONDS, corrects about 1 in 10 and voids about 1 in 40 of its own, and syncs af
 printing one JSON line of what it made at the end.
 Scenario of our own: the crew of a distribution centre, one board per technician.
 """
+
 from __future__ import annotations
 
 import json
@@ -21,8 +22,20 @@ from pathlib import Path
 
 HERE = Path(__file__).resolve()
 TABLES = ("site", "board", "round", "setting_version", "id_join", "reading", "version_parent", "signoff")
-BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120",
-       "ia": "100", "ib": "100", "ic": "100", "ia_deg": "-30", "ib_deg": "-150", "ic_deg": "90"}
+BAL = {
+    "va": "277",
+    "vb": "277",
+    "vc": "277",
+    "va_deg": "0",
+    "vb_deg": "-120",
+    "vc_deg": "120",
+    "ia": "100",
+    "ib": "100",
+    "ic": "100",
+    "ia_deg": "-30",
+    "ib_deg": "-150",
+    "ic_deg": "90",
+}
 
 
 def laptop(path: str, url: str, role: str, n: int, seconds: float, seed: int) -> None:
@@ -40,8 +53,7 @@ def laptop(path: str, url: str, role: str, n: int, seconds: float, seed: int) ->
         r = versions.save_reading(db, board, {**BAL, "ia": f"{90 + rng.random() * 20:.2f}"}, technician=role)
         made.append(r.id)
         if rng.random() < 0.1:
-            made.append(versions.correct_reading(db, r.reading_id, {**BAL, "ia": "101"}, reason="re-read",
-                                                 by=role).id)
+            made.append(versions.correct_reading(db, r.reading_id, {**BAL, "ia": "101"}, reason="re-read", by=role).id)
         if rng.random() < 0.025:
             made.append(versions.void_reading(db, r.reading_id, reason="wrong board", by=role).id)
         if k % 50 == 49:
@@ -65,8 +77,7 @@ def _server_count(psycopg, url, table="reading") -> int:
         return conn.execute(f"SELECT COUNT(*) FROM {table}").fetchone()[0]
 
 
-def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: float = 60.0,
-              kills: int = 20) -> dict:
+def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: float = 60.0, kills: int = 20) -> dict:
     import psycopg
 
     sys.path.insert(0, str(HERE.parents[1]))  # tests/: the throwaway cluster
@@ -103,9 +114,15 @@ def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: 
 
         # ---- concurrent laptops ---------------------------------------------------------------------
         t0 = time.monotonic()
-        procs = [subprocess.Popen([sys.executable, str(HERE), "laptop", str(paths[r]), url[r], r,
-                                   str(per_laptop), str(seconds), str(i)], stdout=subprocess.PIPE, text=True,
-                                  env=c.env()) for i, r in enumerate(roles)]
+        procs = [
+            subprocess.Popen(
+                [sys.executable, str(HERE), "laptop", str(paths[r]), url[r], r, str(per_laptop), str(seconds), str(i)],
+                stdout=subprocess.PIPE,
+                text=True,
+                env=c.env(),
+            )
+            for i, r in enumerate(roles)
+        ]
         made, failures, syncs = {}, [], 0
         for p in procs:
             line = p.stdout.read().strip().splitlines()[-1]
@@ -127,16 +144,26 @@ def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: 
         all_ids = {v for vs in made.values() for v in vs}
         with psycopg.connect(url["boss"]) as conn:
             on_server = {x[0] for x in conn.execute("SELECT id FROM reading")}
-            doubled = conn.execute("SELECT COUNT(*) - COUNT(DISTINCT (board_id, taken_at, reading_id, version)) "
-                                   "FROM reading").fetchone()[0]
+            doubled = conn.execute(
+                "SELECT COUNT(*) - COUNT(DISTINCT (board_id, taken_at, reading_id, version)) FROM reading"
+            ).fetchone()[0]
         lost = len(all_ids - on_server) + sum(
-            len(all_ids - {x[0] for x in d.conn.execute("SELECT id FROM reading")}) for d in dbs.values())
+            len(all_ids - {x[0] for x in d.conn.execute("SELECT id FROM reading")}) for d in dbs.values()
+        )
         broken = sum(bool(check(d)) for d in dbs.values())
         for d in dbs.values():
             d.close()
-        out["concurrent"] = {"laptops": laptops, "versions": len(all_ids), "seconds": busy, "syncs": syncs,
-                             "sync_failures": len(failures), "lost": lost, "doubled": doubled,
-                             "diverged": diverged, "damaged": broken}
+        out["concurrent"] = {
+            "laptops": laptops,
+            "versions": len(all_ids),
+            "seconds": busy,
+            "syncs": syncs,
+            "sync_failures": len(failures),
+            "lost": lost,
+            "doubled": doubled,
+            "diverged": diverged,
+            "damaged": broken,
+        }
 
         # ---- syncs killed at random moments ----------------------------------------------------------
         rng = random.Random(11)
@@ -154,9 +181,12 @@ def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: 
             db.close()
             with psycopg.connect(url["boss"]) as conn:
                 pending -= conn.execute("SELECT COUNT(*) FROM reading WHERE recorded_by = %s", [victim]).fetchone()[0]
-            p = subprocess.Popen([sys.executable, "-m", "fieldpad", "sync", "--server", url[victim], "--db",
-                                  str(paths[victim])], env=c.env(), stdout=subprocess.DEVNULL,
-                                 stderr=subprocess.DEVNULL)
+            p = subprocess.Popen(
+                [sys.executable, "-m", "fieldpad", "sync", "--server", url[victim], "--db", str(paths[victim])],
+                env=c.env(),
+                stdout=subprocess.DEVNULL,
+                stderr=subprocess.DEVNULL,
+            )
             time.sleep(rng.uniform(0.3, 1.5))
             p.send_signal(signal.SIGKILL)
             p.wait()
@@ -182,14 +212,20 @@ def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: 
                 versions.save_reading(db, board, BAL, technician=victim)
             db.close()
             watch = psycopg.connect(admin, autocommit=True)
-            p = subprocess.Popen([sys.executable, "-m", "fieldpad", "sync", "--server", url[victim], "--db",
-                                  str(paths[victim])], env=c.env(), stdout=subprocess.PIPE,
-                                 stderr=subprocess.PIPE, text=True)
+            p = subprocess.Popen(
+                [sys.executable, "-m", "fieldpad", "sync", "--server", url[victim], "--db", str(paths[victim])],
+                env=c.env(),
+                stdout=subprocess.PIPE,
+                stderr=subprocess.PIPE,
+                text=True,
+            )
             deadline = time.monotonic() + 60
             while p.poll() is None and time.monotonic() < deadline:
-                busy_now = watch.execute("SELECT COUNT(*) FROM pg_stat_activity WHERE application_name = "
-                                         "'fieldpad' AND xact_start IS NOT NULL AND usename = %s",
-                                         [victim]).fetchone()[0]
+                busy_now = watch.execute(
+                    "SELECT COUNT(*) FROM pg_stat_activity WHERE application_name = "
+                    "'fieldpad' AND xact_start IS NOT NULL AND usename = %s",
+                    [victim],
+                ).fetchone()[0]
                 if busy_now:
                     break
                 time.sleep(0.005)
@@ -207,8 +243,7 @@ def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: 
             mine = db.conn.execute("SELECT COUNT(*) FROM reading WHERE recorded_by = ?", [victim]).fetchone()[0]
             db.close()
             with psycopg.connect(url["boss"]) as conn:
-                theirs = conn.execute("SELECT COUNT(*) FROM reading WHERE recorded_by = %s",
-                                      [victim]).fetchone()[0]
+                theirs = conn.execute("SELECT COUNT(*) FROM reading WHERE recorded_by = %s", [victim]).fetchone()[0]
             stopped["lost"] += mine - theirs
             if stopped["interrupted"]:
                 break
@@ -218,16 +253,26 @@ def crew_test(folder: Path, laptops: int = 20, per_laptop: int = 2000, seconds: 
         with psycopg.connect(url[victim]) as conn:
             one = conn.execute("SELECT board_id FROM reading LIMIT 1").fetchone()[0]
         attacks = [
-            "UPDATE reading SET ia = 0", "DELETE FROM reading", "TRUNCATE reading", "UPDATE board SET name = 'x'",
-            "DELETE FROM site", "DROP TABLE reading", "ALTER TABLE reading DISABLE ROW LEVEL SECURITY",
+            "UPDATE reading SET ia = 0",
+            "DELETE FROM reading",
+            "TRUNCATE reading",
+            "UPDATE board SET name = 'x'",
+            "DELETE FROM site",
+            "DROP TABLE reading",
+            "ALTER TABLE reading DISABLE ROW LEVEL SECURITY",
             "UPDATE fieldpad_migrations SET name = 'x'",
-            ("INSERT INTO reading (id, reading_id, version, board_id, taken_at, void, recorded_at, recorded_by, "
-             f"inputs_json, system, standard) VALUES ('f1', 'f1', 1, '{one}', 't', 0, 't', '{roles[1]}', '{{}}', "
-             "'wye', 'ansi')"),
-            ("INSERT INTO reading (id, reading_id, version, board_id, taken_at, void, recorded_at, recorded_by, "
-             f"sent_by, inputs_json, system, standard) VALUES ('f2', 'f2', 1, '{one}', 't', 0, 't', '{victim}', "
-             f"'{roles[1]}', '{{}}', 'wye', 'ansi')"),
-            "SET ROLE boss", f"SET SESSION AUTHORIZATION {roles[1]}",
+            (
+                "INSERT INTO reading (id, reading_id, version, board_id, taken_at, void, recorded_at, recorded_by, "
+                f"inputs_json, system, standard) VALUES ('f1', 'f1', 1, '{one}', 't', 0, 't', '{roles[1]}', '{{}}', "
+                "'wye', 'ansi')"
+            ),
+            (
+                "INSERT INTO reading (id, reading_id, version, board_id, taken_at, void, recorded_at, recorded_by, "
+                f"sent_by, inputs_json, system, standard) VALUES ('f2', 'f2', 1, '{one}', 't', 0, 't', '{victim}', "
+                f"'{roles[1]}', '{{}}', 'wye', 'ansi')"
+            ),
+            "SET ROLE boss",
+            f"SET SESSION AUTHORIZATION {roles[1]}",
         ]
         refused = 0
         for sql in attacks:

@@ -4,6 +4,7 @@ bad times and JSON, unknown settings), merged into a healthy database.  Each tri
 main database afterwards fails its check, cannot be exported (CSV and the HTML report) or its history
 read, lost a version it had, or changed although the merge was refused; a crash (anything but a refusal
 with a message) counts too.  The scenario and its data are invented."""
+
 from __future__ import annotations
 
 import random
@@ -18,37 +19,76 @@ from fieldpad.storage import settings_history, sites, versions
 from fieldpad.storage.db import StorageError, check, open_db
 from fieldpad.storage.merge import merge_file
 
-BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120",
-       "ia": "100", "ib": "100", "ic": "100", "ia_deg": "-30", "ib_deg": "-150", "ic_deg": "90"}
+BAL = {
+    "va": "277",
+    "vb": "277",
+    "vc": "277",
+    "va_deg": "0",
+    "vb_deg": "-120",
+    "vc_deg": "120",
+    "ia": "100",
+    "ib": "100",
+    "ic": "100",
+    "ia_deg": "-30",
+    "ib_deg": "-150",
+    "ic_deg": "90",
+}
 
 #: (table, column, SQL value) written into one random row of the incoming file.
 BAD_VALUES = [
-    ("reading", "note", "CAST(X'4d44c328' AS TEXT)"), ("reading", "technician", "CAST(X'ff' AS TEXT)"),
-    ("reading", "va", "'abc'"), ("reading", "ia_deg", "'12 lag'"), ("reading", "vb", "1e300"),
-    ("reading", "vc", "-5"), ("reading", "va_deg", "720"), ("reading", "i_n", "X'00'"),
-    ("reading", "version", "0"), ("reading", "version", "'2x'"), ("reading", "void", "7"),
-    ("reading", "supersedes", "'no-such-version'"), ("reading", "board_id", "'no-such-board'"),
-    ("reading", "round_id", "'no-such-round'"), ("reading", "taken_at", "'soon'"),
-    ("reading", "recorded_at", "'2026-13-45T99:00:00.000000Z'"), ("reading", "inputs_json", "'{'"),
-    ("reading", "inputs_json", "'[1, 2]'"), ("reading", "system", "'star'"), ("reading", "standard", "'nema'"),
-    ("reading", "note", "'x' || char(0) || 'y'"), ("reading", "note", "printf('%.20000c', 'a')"),
-    ("reading", "reason", "NULL"), ("reading", "id", "CAST(X'c3' AS TEXT)"), ("reading", "reading_id", "'other'"),
-    ("reading", "technician", "' Sam '"), ("reading", "nominal_v", "0"),
-    ("setting_version", "value_json", "'{'"), ("setting_version", "value_json", "'\"x\"'"),
-    ("setting_version", "value_json", "'-3'"), ("setting_version", "value_json", "'[1]'"),
-    ("setting_version", "value_json", "CAST(X'22ff22' AS TEXT)"), ("setting_version", "field", "'colour'"),
-    ("setting_version", "entity", "'panel'"), ("setting_version", "entity_id", "NULL"),
-    ("setting_version", "recorded_at", "'later'"), ("setting_version", "value_json", "'null'"),
-    ("round", "site_id", "'no-such-site'"), ("round", "label", "CAST(X'80' AS TEXT)"),
-    ("round", "started_at", "42"), ("id_join", "keep_id", "'nobody'"),
+    ("reading", "note", "CAST(X'4d44c328' AS TEXT)"),
+    ("reading", "technician", "CAST(X'ff' AS TEXT)"),
+    ("reading", "va", "'abc'"),
+    ("reading", "ia_deg", "'12 lag'"),
+    ("reading", "vb", "1e300"),
+    ("reading", "vc", "-5"),
+    ("reading", "va_deg", "720"),
+    ("reading", "i_n", "X'00'"),
+    ("reading", "version", "0"),
+    ("reading", "version", "'2x'"),
+    ("reading", "void", "7"),
+    ("reading", "supersedes", "'no-such-version'"),
+    ("reading", "board_id", "'no-such-board'"),
+    ("reading", "round_id", "'no-such-round'"),
+    ("reading", "taken_at", "'soon'"),
+    ("reading", "recorded_at", "'2026-13-45T99:00:00.000000Z'"),
+    ("reading", "inputs_json", "'{'"),
+    ("reading", "inputs_json", "'[1, 2]'"),
+    ("reading", "system", "'star'"),
+    ("reading", "standard", "'nema'"),
+    ("reading", "note", "'x' || char(0) || 'y'"),
+    ("reading", "note", "printf('%.20000c', 'a')"),
+    ("reading", "reason", "NULL"),
+    ("reading", "id", "CAST(X'c3' AS TEXT)"),
+    ("reading", "reading_id", "'other'"),
+    ("reading", "technician", "' Sam '"),
+    ("reading", "nominal_v", "0"),
+    ("setting_version", "value_json", "'{'"),
+    ("setting_version", "value_json", "'\"x\"'"),
+    ("setting_version", "value_json", "'-3'"),
+    ("setting_version", "value_json", "'[1]'"),
+    ("setting_version", "value_json", "CAST(X'22ff22' AS TEXT)"),
+    ("setting_version", "field", "'colour'"),
+    ("setting_version", "entity", "'panel'"),
+    ("setting_version", "entity_id", "NULL"),
+    ("setting_version", "recorded_at", "'later'"),
+    ("setting_version", "value_json", "'null'"),
+    ("round", "site_id", "'no-such-site'"),
+    ("round", "label", "CAST(X'80' AS TEXT)"),
+    ("round", "started_at", "42"),
+    ("id_join", "keep_id", "'nobody'"),
 ]
 
 
 def make_source(path: Path, rng: random.Random) -> None:
     db = open_db(path)
     sid = sites.create_site(db, "Fernwick")
-    boards = [sites.create_board(db, sid, f"MDB-{k}", af_incident_energy_cal_cm2=1.2 + k, af_ppe=str(k % 5),
-                                 af_label_date="2026-01-10") for k in range(3)]
+    boards = [
+        sites.create_board(
+            db, sid, f"MDB-{k}", af_incident_energy_cal_cm2=1.2 + k, af_ppe=str(k % 5), af_label_date="2026-01-10"
+        )
+        for k in range(3)
+    ]
     other = sites.create_site(db, "Fernwick annex")
     boards.append(sites.create_board(db, other, "DB-1"))
     from fieldpad.storage import rounds
@@ -56,8 +96,16 @@ def make_source(path: Path, rng: random.Random) -> None:
     rnd = rounds.start_round(db, sid, "Sam", label="AM")
     saved = []
     for k in range(12):
-        saved.append(versions.save_reading(db, boards[k % len(boards)], {**BAL, "va": str(270 + k)},
-                                           technician="Sam", note=f"note {k}", round_id=rnd).reading_id)
+        saved.append(
+            versions.save_reading(
+                db,
+                boards[k % len(boards)],
+                {**BAL, "va": str(270 + k)},
+                technician="Sam",
+                note=f"note {k}",
+                round_id=rnd,
+            ).reading_id
+        )
     for rid in saved[:4]:
         versions.correct_reading(db, rid, {**BAL, "vb": "279"}, reason="re-read", by="Sam")
     versions.void_reading(db, saved[5], reason="wrong board", by="Sam")
@@ -105,8 +153,10 @@ def bad_value(path: Path, rng: random.Random) -> str:
 
 
 def snapshot(db) -> tuple:
-    return tuple(sorted(r[0] for r in db.conn.execute(f"SELECT id FROM {t}"))
-                 for t in ("reading", "setting_version", "id_join", "version_parent", "round"))
+    return tuple(
+        sorted(r[0] for r in db.conn.execute(f"SELECT id FROM {t}"))
+        for t in ("reading", "setting_version", "id_join", "version_parent", "round")
+    )
 
 
 def healthy(db) -> list[str]:

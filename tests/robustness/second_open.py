@@ -9,6 +9,7 @@ Usage as a child: python second_open.py DB BOARD_ID N
 ``second_open_test`` runs it as the scenario: child ready -> `fieldpad db info` and `fieldpad db check` in
 other processes -> child saves N -> SIGKILL -> count what survived.
 """
+
 from __future__ import annotations
 
 import os
@@ -19,8 +20,20 @@ import tempfile
 from pathlib import Path
 
 HERE = Path(__file__).resolve()
-BAL = {"va": "277", "vb": "277", "vc": "277", "va_deg": "0", "vb_deg": "-120", "vc_deg": "120",
-       "ia": "100", "ib": "100", "ic": "100", "ia_deg": "-30", "ib_deg": "-150", "ic_deg": "90"}
+BAL = {
+    "va": "277",
+    "vb": "277",
+    "vc": "277",
+    "va_deg": "0",
+    "vb_deg": "-120",
+    "vc_deg": "120",
+    "ia": "100",
+    "ib": "100",
+    "ic": "100",
+    "ia_deg": "-30",
+    "ib_deg": "-150",
+    "ic_deg": "90",
+}
 
 
 def child(path: str, board: str, n: int) -> None:
@@ -51,15 +64,20 @@ def second_open_test(folder: Path, n: int = 5) -> tuple[int, int, list[str]]:
     db = open_db(path)
     board = sites.create_board(db, sites.create_site(db, "Second Open Yard"), "DB-2")
     db.close()
-    p = subprocess.Popen([sys.executable, str(HERE), str(path), board, str(n)], stdin=subprocess.PIPE,
-                         stdout=subprocess.PIPE, text=True)
+    p = subprocess.Popen(
+        [sys.executable, str(HERE), str(path), board, str(n)], stdin=subprocess.PIPE, stdout=subprocess.PIPE, text=True
+    )
     reported = []
     for line in p.stdout:
         line = line.strip()
         if line == "ready":
             for action in ("info", "check"):
-                subprocess.run([sys.executable, "-m", "fieldpad", "db", action, "--db", str(path)],
-                               capture_output=True, timeout=120, check=False)
+                subprocess.run(
+                    [sys.executable, "-m", "fieldpad", "db", action, "--db", str(path)],
+                    capture_output=True,
+                    timeout=120,
+                    check=False,
+                )
             p.stdin.write("go\n")
             p.stdin.flush()
         elif line == "done":
@@ -69,8 +87,12 @@ def second_open_test(folder: Path, n: int = 5) -> tuple[int, int, list[str]]:
     p.send_signal(signal.SIGKILL)
     p.wait()
     # Another process comes and goes after the kill, as a user's next command would.
-    subprocess.run([sys.executable, "-m", "fieldpad", "db", "info", "--db", str(path)], capture_output=True,
-                   timeout=120, check=False)
+    subprocess.run(
+        [sys.executable, "-m", "fieldpad", "db", "info", "--db", str(path)],
+        capture_output=True,
+        timeout=120,
+        check=False,
+    )
     db = open_db(path)
     stored = {r["reading_id"] for r in db.query("SELECT reading_id FROM reading")}
     problems = check(db)
