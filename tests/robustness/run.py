@@ -387,6 +387,53 @@ def run_crew(tmp):
 # ---- 4. merge of damaged files from another laptop ------------------------------------------------
 
 
+def run_imports_repeated(tmp, n):
+    """The same readings imported again and again: a CSV file twice, its export (CSV and JSON) back into
+    the same database, and into a second database and back: every reading is stored once."""
+    from fieldpad.report.export import export_records, to_csv, to_json
+    from fieldpad.storage.importer import import_bytes
+
+    rng = random.Random(5)
+    lines = ["site,board,taken_at,va,vb,vc,va_deg,vb_deg,vc_deg,ia,ib,ic"]
+    for k in range(n):
+        lines.append(
+            f"Repeat Yard,DB-{k % 7},2026-12-01T{8 + k % 9:02d}:{k % 60:02d}:{k % 53:02d}Z,"
+            f"{277 + rng.random():.2f},{277 - rng.random():.2f},{276 + rng.random():.2f},0,-120,120,"
+            f"{100 + rng.random():.1f},{99 + rng.random():.1f},{98 + rng.random():.1f}"
+        )
+    data = ("\n".join(lines) + "\n").encode()
+    folder = Path(tmp) / "repeat"
+    folder.mkdir()
+    a = open_db(folder / "a.db")
+    b = open_db(folder / "b.db")
+    tries, doubled = 0, 0
+    try:
+        first = import_bytes(a, data)
+        stored = a.conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0]
+        for again in (
+            lambda: import_bytes(a, data),
+            lambda: import_bytes(a, to_csv(export_records(a)).encode()),
+            lambda: import_bytes(a, to_json(export_records(a)).encode()),
+            lambda: import_bytes(b, to_csv(export_records(a)).encode()),
+            lambda: import_bytes(a, to_json(export_records(b)).encode()),
+            lambda: import_bytes(b, data),
+        ):
+            tries += 1
+            again()
+            doubled += a.conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0] - stored
+            stored = a.conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0]
+        doubled += b.conn.execute("SELECT COUNT(*) FROM reading").fetchone()[0] - first.readings
+    finally:
+        a.close()
+        b.close()
+    figure(
+        f"import: the same {n} readings imported again (file twice, exports back, via a second database): "
+        "readings doubled",
+        tries,
+        doubled,
+    )
+
+
 def run_merge(tmp, n):
     c = run_merge_damage(tmp, n)
     figure(
@@ -470,6 +517,7 @@ def main():
         run_crew(tmp)
 
         run_merge(tmp, 120 if QUICK else 400)
+        run_imports_repeated(tmp, 500 if QUICK else 5000)
     run_cases()
     print(
         f"robustness run took {time.perf_counter() - t0:.0f} s; figures that must be 0 and are not: {len(FAILED)}",
