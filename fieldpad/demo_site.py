@@ -238,6 +238,8 @@ def build_demo(path, day: date | None = None) -> None:
             location=loc,
             kind=kind,
             frequency_hz=50 if nominal == 400 else 60,
+            # The IEC skid on an ANSI site: its own standard, the board's override (a site mixes them).
+            **({"voltage_standard": "iec"} if nominal == 400 else {}),
             **af,
         )
     rep = import_bytes(db, records_csv(generate(day or date.today())).encode())

@@ -85,3 +85,68 @@ async def test_day_review_signs_off_a_round_and_marks_a_later_correction(tmp_pat
     db = open_db(path)
     assert sites.list_sites(db)
     db.close()
+
+
+async def test_sign_off_name_typed_replaces_the_suggested_one(tmp_path):
+    # Found in a field trial: the suggested name was the field's value, and typing added to it ("samPriya").
+    path = tmp_path / "demo.db"
+    build_demo(path, day=date(2026, 3, 10))
+    app = FieldpadApp(path, technician="sam")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await pilot.pause()
+        await pilot.press("v")
+        await pilot.pause()
+        await pilot.press("s")
+        await pilot.pause()
+        await pilot.press("1")
+        await pilot.pause()
+        assert "Enter alone signs as sam" in str(app.screen.query_one(".question", Static).render())
+        await pilot.press(*"Priya Shah", "enter")
+        await pilot.pause()
+        await pilot.press("enter")  # no note
+        await pilot.pause()
+        so = signoffs.signoffs_of_site(app.db, app.site_id)
+        assert [s["signed_by"] for s in so] == ["Priya Shah"]
+
+
+async def test_a_correction_that_clears_an_alarm_stays_in_view(tmp_path):
+    # Found in a field trial: a reversed CT (IB at 30°: power on B negative) corrected to -140° showed an
+    # empty "worst finding" in the day review and the history, so a supervisor signing off could not see that
+    # an alarm had been there. Invented values.
+    from fieldpad.storage import sites
+    from fieldpad.storage.db import open_db
+    from fieldpad.ui.history import BoardHistory
+
+    db = open_db(tmp_path / "c.db")
+    sid = sites.create_site(db, "Wharf 3")
+    bid = sites.create_board(db, sid, "LP-1", system="wye", nominal_v=208)
+    bad = {
+        "va": "120",
+        "vb": "120",
+        "vc": "120",
+        "va_deg": "0",
+        "vb_deg": "-120",
+        "vc_deg": "120",
+        "ia": "50",
+        "ib": "50",
+        "ic": "50",
+        "ia_deg": "-20",
+        "ib_deg": "30",
+        "ic_deg": "100",
+    }
+    saved = versions.save_reading(db, bid, bad, technician="sam")
+    versions.correct_reading(db, saved.reading_id, {**bad, "ib_deg": "-140"}, reason="typo IB angle", by="sam")
+    db.close()
+    app = FieldpadApp(tmp_path / "c.db", technician="sam")
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.pause()
+        await pilot.press("v")
+        await pilot.pause()
+        row = [str(c) for c in app.screen.query_one(DataTable).get_row_at(0)]
+        assert any("✎ was ALARM CT reversed" in c for c in row), row
+        await pilot.press("escape")
+        await pilot.pause()
+        app.push_screen(BoardHistory(bid))
+        await pilot.pause()
+        row = [str(c) for c in app.screen.query_one(DataTable).get_row_at(0)]
+        assert any("✎ was ALARM CT reversed" in c for c in row), row

@@ -77,6 +77,9 @@ def findings_lists(result: Analysis, labels=("A", "B", "C"), standards=None) -> 
                 derating=f"{derating[i]:.2f}" if np.isfinite(derating[i]) else "n/a",
                 reason=REASON_TEXT.get(int(reason[i]), ""),
                 std="IEC 60038" if iec else "ANSI C84.1 Range B",
+                std_name="IEC 60038 (the standard in force for this reading)"
+                if iec
+                else "ANSI C84.1 (the standard in force for this reading)",
                 rot=ROTATION_NAMES[int(rcode[i])],
                 expected=ROTATION_NAMES[int(expected[i])],
             )

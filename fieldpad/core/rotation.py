@@ -29,7 +29,8 @@ ROTATION_NAMES = {ABC: "ABC", ACB: "ACB", UNKNOWN: "unknown"}
 REASON_NONE, REASON_NO_ANGLES, REASON_COLLAPSED, REASON_NO_DOMINANCE, REASON_NOT_3PH, REASON_IN_PHASE = range(6)
 REASON_TEXT = {
     REASON_NONE: "",
-    REASON_NO_ANGLES: "no angles entered: rotation cannot be told from magnitudes alone; use a rotation tester",
+    REASON_NO_ANGLES: "not every voltage angle is entered: rotation cannot be told from magnitudes alone; enter "
+    "the angles or use a rotation tester",
     REASON_COLLAPSED: "a phase is missing or collapsed: rotation cannot be trusted",
     REASON_NO_DOMINANCE: "neither sequence clearly dominates: check the readings and the leads",
     REASON_NOT_3PH: "not a three-phase system",

@@ -236,8 +236,8 @@ def high_leg_not_found(q, th):
     310,
     "V",
     "voltage",
-    "Nominal {value:g} V is not among the system voltages whose limits fieldpad knows for this standard "
-    "(ANSI C84.1 Table 1 low voltage; IEC 60038 100-1000 V): voltage not compared with a range.",
+    "Nominal {value:g} V is not among the system voltages whose limits fieldpad knows for {std_name} "
+    "(ANSI C84.1: Table 1 low voltage; IEC 60038: 100-1000 V): voltage not compared with a range.",
     "Check the nominal entered, and the supply's own limits.",
 )
 def no_range(q, th):

@@ -92,10 +92,10 @@ SOURCES = {
     "industrial loads), by 20 current-weighted degrees over as wired, and PF <= -0.25 on the "
     "reversed phase (fieldpad's own margins, for a near-quadrature light phase and the meter's "
     "angle error)",
-    "clamps_rotated": "common practice (a clamp on another phase turns its current by 120°): chosen as for "
-    "ct_reversed, fieldpad's own margins",
+    "clamps_rotated": "common practice (a clamp on another phase turns its current by 120°): the same PF margin "
+    "as for a reversed CT, fieldpad's own",
     "power_to_supply": "common practice (all CTs reversed and a board that exports read the same: every phase's "
-    "V-I angle 180° from a load's); chosen as for ct_reversed",
+    "V-I angle 180° from a load's); the same PF margin as for a reversed CT, fieldpad's own",
     "neutral_shift": "common practice (an open neutral moves the star point: V0 appears, line-to-line stays "
     "balanced; on a centre tap the two halves part): V0/V1, PVUR or the halves' spread above "
     "5 % with LVUR <= 2 % are fieldpad's own lines",

@@ -12,6 +12,7 @@ from ..report.export import analyze_rows
 from ..storage import sites, versions
 from ..storage.db import StorageError
 from ..storage.ids import local_text
+from .corrections import worst_before
 from .dialogs import AskReason, AskText, TextPage
 from .key_strip import KeyStrip
 from .messages import OpenSheet
@@ -67,9 +68,24 @@ class BoardHistory(Screen):
             ]
         )
         competing = versions.conflicts(self.app.db, {r["reading_id"] for r in rows})
+        was = worst_before(
+            self.app.db,
+            self.site,
+            [
+                {
+                    "reading_id": r["reading_id"],
+                    "version": r["version"],
+                    "version_id": r["id"],
+                    "findings": res["findings"],
+                }
+                for r, res in zip(rows, results)
+            ],
+        )
         for r, res in zip(rows, results):
             worst = res["findings"][0] if res["findings"] else None
             worst_text = finding_words(worst) if worst else ""
+            if r["reading_id"] in was:  # corrected: what an earlier version showed, worse than now
+                worst_text = f"✎ was {finding_words(was[r['reading_id']], phase=False)} " + worst_text
             if r["void"]:
                 worst_text = "VOID: " + printable(r["reason"])
             if r["reading_id"] in competing:  # two laptops changed the same version

@@ -14,6 +14,7 @@ from ..report.export import day_range_utc, export_records
 from ..storage import rounds, signoffs, sites, versions
 from ..storage.db import StorageError
 from ..storage.ids import local_text
+from .corrections import SEVERITY_RANK, worst_before
 from .dialogs import AskText, TextPage
 from .key_strip import KeyStrip
 from .palette import ALARM, INFO, WARN
@@ -23,7 +24,6 @@ from .safe import printable
 from .sheet_model import field_words
 from .tables import selected_key
 
-SEVERITY_RANK = {"alarm": 0, "warning": 1, "info": 2, None: 3}
 SORTS = ("time", "board", "worst finding", "VUF", "NEMA")
 
 
@@ -99,6 +99,7 @@ class DayReview(Screen):
         else:
             shown.sort(key=lambda r: r["taken_at"])
         self._load_signoffs(site)
+        was = worst_before(self.app.db, site, shown)
         t = self.query_one(DataTable)
         t.clear()
         for r in shown:
@@ -113,6 +114,8 @@ class DayReview(Screen):
                 if w
                 else Text("")
             )
+            if r["reading_id"] in was:  # corrected: what an earlier version of it showed, worse than now
+                cell = Text(f"✎ was {finding_words(was[r['reading_id']], phase=False)} ", f"bold {WARN}") + cell
             if r.get("conflict"):  # two laptops changed the same version: for the supervisor to settle
                 cell = Text("⚠ CONFLICT ", f"bold {ALARM}") + cell
             t.add_row(
@@ -302,9 +305,12 @@ class DayReview(Screen):
                 return
             what, scope = choices[pick]
 
+            suggested = self.app.technician or ""
+
             def named(name) -> None:
                 if name is None:
                     return
+                name = name or suggested  # Enter alone: the suggested name; typing replaces it
 
                 def noted(note) -> None:
                     if note is None:
@@ -322,7 +328,12 @@ class DayReview(Screen):
                 )
 
             self.app.push_screen(
-                AskText(f"Sign off {what}. Signed by (your name):", "name (required)", value=self.app.technician or ""),
+                AskText(
+                    f"Sign off {what}. Signed by (type your name"
+                    + (f"; Enter alone signs as {printable(suggested)}):" if suggested else "):"),
+                    suggested or "name (required)",
+                    required=not suggested,
+                ),
                 named,
             )
 
