@@ -898,6 +898,10 @@ def test_real_terminal_typing_replaces_and_the_draft_offer_does_not_swallow_keys
         row_a = next(line for line in shown.splitlines() if "■ A" in line)
         assert "402" in row_a and "277.9" not in row_a, shown
         term.keys("Tab", "1", "0", "BTab", "2", "8", "0", "Tab", "9", "9", "F2")
+        # Only phase A typed: the sheet asks before saving a reading with phases left out.
+        shown = term.wait("not entered. Save this reading anyway?")
+        assert "VB, VC, IB, IC not entered" in shown, shown
+        term.keys("y")
         shown = term.wait("SAVED")
         assert "SAVED" in shown, shown
     finally:
@@ -974,7 +978,7 @@ async def test_a_note_and_the_instrument_go_with_the_reading(tmp_path):
         await pilot.press(*"meter 7", "enter")
         await pilot.pause()
         assert "Instrument: meter 7" in seen(sheet, "#status")
-        await pilot.press(*"277", "f2")
+        await pilot.press(*"277", "f2", "y")  # only VA: "not entered... save anyway?" y
         await pilot.pause()
         saved = [r for r in versions.current_readings(app.db) if r["note"] == "door 3 open"]
         assert len(saved) == 1 and saved[0]["instrument"] == "meter 7" and saved[0]["va"] == 277.0
@@ -990,3 +994,17 @@ def test_every_finding_has_words_for_the_tables():
     for code in REGISTRY:
         words = finding_words({"code": code, "severity": "warning", "phase": None})
         assert "_" not in words and len(words) <= 30
+
+
+async def test_saving_with_a_phase_left_out_asks_and_no_keeps_the_sheet(tmp_path):
+    # Found in a field trial: F2 saved a reading with phase C's values never typed (a hurried Tab).
+    async with sheet_open(tmp_path, "inc.db") as (app, pilot):
+        sheet = app.screen
+        before = versions.counts(app.db)["reading"]
+        await pilot.press(*"277", "tab", *"100", "tab", *"-30", "tab", *"276", "f2")
+        await pilot.pause()
+        assert "VC, IB, IC not entered. Save this reading anyway?" in seen(app.screen, ".question")
+        await pilot.press("n")
+        await pilot.pause()
+        assert app.screen is sheet and "Not saved: type the missing values" in seen(sheet, "#status")
+        assert versions.counts(app.db)["reading"] == before and "276" in seen(sheet, "#grid")

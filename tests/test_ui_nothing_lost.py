@@ -104,7 +104,7 @@ async def test_writes_on_a_read_only_database_say_so_and_the_app_goes_on(tmp_pat
             assert "NOT SAVED: the reading was not voided" in shown
             await pilot.press("escape", "enter")  # back to the list, open the sheet, type, save
             await pilot.pause()
-            await pilot.press("2", "7", "7", "f2")
+            await pilot.press("2", "7", "7", "f2", "y")  # only VA typed: asked first
             await pilot.pause()
             status = str(app.screen.query_one("#status").render())
             assert "NOT SAVED" in status and "read-only" in status and "NOT SAVED: NOT SAVED" not in status

@@ -17,7 +17,16 @@ from .dialogs import Ask, AskReason, AskText, help_page
 from .entry_grid import EntryGrid
 from .messages import OpenHistory
 from .safe import short_id
-from .sheet_model import MODE_NAMES, PANELS, cells, draft_age, field_words, modes_for, switch_mode
+from .sheet_model import (
+    MODE_NAMES,
+    PANELS,
+    cells,
+    draft_age,
+    field_words,
+    incomplete_phases,
+    modes_for,
+    switch_mode,
+)
 
 
 class SheetKeys:
@@ -58,6 +67,15 @@ class SheetKeys:
             "(typing into a field replaces its value)."
         )
 
+    _incomplete_ok = False
+
+    def _save_incomplete(self, yes: bool) -> None:
+        if yes:
+            self._incomplete_ok = True
+            self.action_save()
+        else:
+            self.set_status("Not saved: type the missing values (Tab), then F2.")
+
     def action_save(self) -> None:
         grid = self.query_one(EntryGrid)
         problems = grid.problems()
@@ -72,6 +90,12 @@ class SheetKeys:
         if not grid.entered():
             self.set_status("Nothing to save: the sheet is empty.", error=True)
             return
+        missing = incomplete_phases(grid.entered(), self.board["system"], self.labels)
+        if missing and not self._incomplete_ok:
+            # A phase left out by a hurried Tab: asked, not refused (a dead phase may be read as 0).
+            self.app.push_screen(Ask(f"{missing} not entered. Save this reading anyway? (y/n)"), self._save_incomplete)
+            return
+        self._incomplete_ok = False
         if self.correcting:
             self.app.push_screen(AskReason("Why is this reading corrected?"), self._save_correction)
             return

@@ -256,3 +256,21 @@ def draft_age(draft: dict, now: datetime | None = None) -> str:
     else:
         ago = f"{minutes // 1440} days ago"
     return f"at {local_text(typed)} ({ago})"
+
+
+def incomplete_phases(entered: dict, system: str, labels) -> str:
+    """What a reading leaves out that its system has, in words ("VC, IC"): a phase whose voltage is missing
+    while another's is typed, and likewise for the currents; "" when nothing is missing.  Line-to-line
+    voltages count where the line-to-neutral ones are not typed."""
+    phases = 2 if system == "split-phase" else 3
+    groups = [("va", "vb", "vc")[:phases], ("ia", "ib", "ic")[:phases]]
+    if system != "split-phase" and not any(entered.get(f) for f in ("va", "vb", "vc")):
+        groups[0] = ("vab", "vbc", "vca")
+    if system == "delta":
+        groups[0] = ("vab", "vbc", "vca")
+    out = []
+    for group in groups:
+        given = [f for f in group if str(entered.get(f) or "").strip()]
+        if given and len(given) < len(group):
+            out += [field_words(f, labels) for f in group if f not in given]
+    return ", ".join(out)
