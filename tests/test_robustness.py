@@ -114,7 +114,7 @@ async def test_app_keeps_typed_values_when_the_disk_is_full(tmp_path):
         await pilot.press("2", "7", "7", "tab", "tab", "1", "0")
         app.db.execute(f"PRAGMA max_page_count = {app.db.execute('PRAGMA page_count').fetchone()[0]}")
         fill_up(app.db, bid)
-        await pilot.press("f2")
+        await pilot.press("f2", "y")  # phases B and C not typed: asked first
         await pilot.pause()
         sheet = app.screen
         assert sheet.query_one(EntryGrid).values["va"] == "277"
