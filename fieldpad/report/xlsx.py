@@ -14,16 +14,13 @@ Only this module imports XlsxWriter, so the app and the other exports start with
 
 from __future__ import annotations
 
-import contextlib
-import errno
-import os
 from datetime import datetime
 from pathlib import Path
 
 from ..formats.text import printable
 from ..storage import rounds as rounds_store
 from ..storage import signoffs as signoff_store
-from ..storage.files import FileWriteError, check_target, clean_stale_parts, part_path, publish
+from ..storage.files import atomic_write_with
 from ..storage.ids import local_text, utc_now
 from .html import record_context, short_finding, version_trail, zone_text
 
@@ -93,40 +90,21 @@ def write_xlsx(db, records: list[dict], path, *, day=None, site=None, protect=()
     """Write the workbook for ``records`` (from ``export_records``) to ``path``, whole or not at all."""
     import xlsxwriter  # only here: the app and the other exports never load it
 
-    final = Path(path)
-    check_target(final, overwrite=True, protect=protect)
-    clean_stale_parts(final.parent)
-    part = part_path(final)
-    try:
-        fd = os.open(part, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
-        with os.fdopen(fd, "wb") as f:
-            wb = xlsxwriter.Workbook(
-                f,
-                {
-                    "constant_memory": True,
-                    "strings_to_formulas": False,
-                    "strings_to_numbers": False,
-                    "strings_to_urls": False,
-                },
-            )
-            _fill(wb, db, records, day=day, site=site)
-            wb.close()
-            f.flush()
-            os.fsync(f.fileno())
-        publish(part, final, overwrite=True)
-    except FileWriteError:
-        with contextlib.suppress(OSError):
-            os.unlink(part)
-        raise
-    except OSError as e:
-        with contextlib.suppress(OSError):
-            os.unlink(part)
-        raise FileWriteError(e.errno or errno.EIO, e.strerror or str(e), str(final)) from None
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(part)
-        raise
-    return final
+    def fill(f) -> None:
+        wb = xlsxwriter.Workbook(
+            f,
+            {
+                "constant_memory": True,
+                "strings_to_formulas": False,
+                "strings_to_numbers": False,
+                "strings_to_urls": False,
+            },
+        )
+        _fill(wb, db, records, day=day, site=site)
+        wb.close()
+
+    atomic_write_with(path, fill, protect=protect)
+    return Path(path)
 
 
 def _fill(wb, db, records, *, day, site) -> None:

@@ -151,36 +151,15 @@ def publish(part: Path, final: Path, *, overwrite: bool) -> None:
 def atomic_write_text(path: str | os.PathLike, text: str, *, encoding: str = "utf-8", protect=()) -> Path:
     """Write ``text`` to ``path`` whole or not at all (private permissions); replaces a regular file that is
     not a database (``protect``: the databases this process has open, see :func:`check_target`)."""
-    final = Path(path)
-    check_target(final, overwrite=True, protect=protect)
-    clean_stale_parts(final.parent)
-    part = part_path(final)
-    try:
-        fd = os.open(part, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
-        with os.fdopen(fd, "w", encoding=encoding, newline="") as f:
-            f.write(text)
-            f.flush()
-            os.fsync(f.fileno())
-        publish(part, final, overwrite=True)
-    except FileWriteError:
-        with contextlib.suppress(OSError):
-            os.unlink(part)
-        raise
-    except OSError as e:
-        with contextlib.suppress(OSError):
-            os.unlink(part)
-        raise FileWriteError(e.errno or errno.EIO, _reason(e), str(final)) from None
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(part)
-        raise
-    return final
+    atomic_write_with(path, lambda f: f.write(text.encode(encoding)), protect=protect)
+    return Path(path)
 
 
 def atomic_write_with(path: str | os.PathLike, fill, *, protect=()):
-    """:func:`atomic_write_text` for output written a block at a time: ``fill(f)`` writes bytes to the part
-    file ``f``; the target appears whole (flushed and renamed) or not at all.  Returns what ``fill``
-    returns."""
+    """Output written whole or not at all: ``fill(f)`` writes bytes to a part file ``f`` beside ``path`` (private
+    permissions), which is flushed, synced and renamed to ``path`` only when ``fill`` returns; on any error
+    the part file is removed.  Replaces a regular file that is not a database (``protect``: the databases
+    this process has open, see :func:`check_target`).  Returns what ``fill`` returns."""
     final = Path(path)
     check_target(final, overwrite=True, protect=protect)
     clean_stale_parts(final.parent)
