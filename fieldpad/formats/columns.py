@@ -709,17 +709,7 @@ def check_block(raw: RawBlock, extra_fields=(), ignore=(), board_inputs: bool = 
 
     cols, given = {}, {}
     for name in NUMERIC_FIELDS:
-        kind = FIELD_KIND[name]
-        x, slow = _number_column(raw, name, kind)
-        for i in slow.tolist():
-            try:
-                v = parse_value(_cell(raw, name, i), kind)
-            except ReadingError:
-                suspect[i] = True
-                v = None
-            x[i] = np.nan if v is None else v
-        cols[name] = x
-        given[name] = ~np.isnan(x)
+        _checked_numbers(raw, name, FIELD_KIND[name], cols, given, suspect)
 
     system_txt = _strip_lower(_text_column(raw, "system")) if "system" in raw.cols else [None] * n
     system = np.zeros(n, np.int8)
@@ -781,22 +771,27 @@ def check_block(raw: RawBlock, extra_fields=(), ignore=(), board_inputs: bool = 
     return clean, problems
 
 
+def _checked_numbers(raw: RawBlock, name: str, kind: str, cols: dict, given: dict, suspect) -> None:
+    """One numeric column: plain numbers at once, other spellings through ``parse_value``; a cell it
+    refuses marks its row for the per-record check (which words the message)."""
+    x, slow = _number_column(raw, name, kind)
+    for i in slow.tolist():
+        try:
+            v = parse_value(_cell(raw, name, i), kind)
+        except ReadingError:
+            suspect[i] = True
+            v = None
+        x[i] = np.nan if v is None else v
+    cols[name] = x
+    given[name] = ~np.isnan(x)
+
+
 def _board_columns(raw: RawBlock, cols: dict, given: dict, suspect) -> None:
     """The board inputs of a block as columns (numbers; purpose and expected rotation as their codes), and
     the rows the per-record check must look at (a spelling or value it refuses, or fields that clash)."""
     for name, kind in BOARD_FIELD_KIND.items():
-        if name not in raw.cols:
-            continue
-        x, slow = _number_column(raw, name, kind)
-        for i in slow.tolist():
-            try:
-                v = parse_value(_cell(raw, name, i), kind)
-            except ReadingError:
-                suspect[i] = True
-                v = None
-            x[i] = np.nan if v is None else v
-        cols[name] = x
-        given[name] = ~np.isnan(x)
+        if name in raw.cols:
+            _checked_numbers(raw, name, kind, cols, given, suspect)
     for name in RATING_FIELDS:
         if name in cols:
             suspect |= given[name] & ~(cols[name] > 0)
