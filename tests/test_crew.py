@@ -653,3 +653,27 @@ def test_a_file_copied_with_its_wal_but_no_shm_is_read_whole_and_nothing_is_made
     rep = merge_file(main, tmp_path / "stick" / "laptop 2.db")
     assert rep.added["reading"] == 2  # the one in the -wal too
     assert files_beside(tmp_path / "stick" / "laptop 2.db") == before  # no -shm made, nothing written
+
+
+def test_merge_takes_rows_stored_in_any_order(tmp_path):
+    # A file whose correction is stored before the version it corrects (a server returns rows in no
+    # particular order): merged whole, nothing refused. Found by the crew robustness run.
+    a, _sid, _bid, saved = laptop(tmp_path / "a.db", 1.2, "1")
+    versions.correct_reading(a, saved.reading_id, {**BAL, "ia": "101"}, reason="re-read")
+    a.close()
+    src = sqlite3.connect(tmp_path / "a.db")
+    cols = [r[1] for r in src.execute("PRAGMA table_info(reading)")]
+    rows = src.execute("SELECT * FROM reading ORDER BY rowid DESC").fetchall()
+    src.close()
+    shutil.copy(tmp_path / "a.db", tmp_path / "rev.db")
+    rev = sqlite3.connect(tmp_path / "rev.db")
+    rev.execute("PRAGMA foreign_keys=OFF")
+    rev.execute("DELETE FROM reading")
+    rev.executemany(f"INSERT INTO reading ({', '.join(cols)}) VALUES ({', '.join('?' * len(cols))})", rows)
+    rev.commit()
+    rev.close()
+    c = open_db(tmp_path / "c.db")
+    rep = merge_file(c, tmp_path / "rev.db")
+    assert rep.added["reading"] == 2 and check(c) == []
+    assert versions.current_version(c, saved.reading_id)["ia"] == 101.0
+    c.close()

@@ -175,6 +175,10 @@ def _round_order(r: dict) -> list:
 
 def _bring_in(db, incoming: dict, report: MergeReport) -> None:
     conn = db.conn
+    # The other file's rows come in its own order (a correction may be stored before the version it
+    # corrects, as a server returns them): every reference was checked above, and the keys are checked
+    # again at the commit, not row by row.
+    conn.execute("PRAGMA defer_foreign_keys=ON")
     # This database's own settings from before there was a history first (rows made from their content:
     # the other file may bring the very same ones, which are then here already).
     settings_history.backfill_history(db)
